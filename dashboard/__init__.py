@@ -1,0 +1,1 @@
+"""realbasis dashboard: the Dash face over the pipeline engine."""

@@ -1,0 +1,186 @@
+"""One error vocabulary for the whole of realbasis.
+
+Every user-facing problem is a :class:`Problem` with a stable code, what was expected,
+what was found, where (file, sheet, row, column) and how to fix it. Problems that stop the
+work are raised inside a :class:`RealbasisError` (one or many problems at once); problems
+that do not stop it travel with results as warnings (``severity="warning"``).
+
+Codes are registered once with :func:`register` by the module that raises them, so
+``realbasis codes`` (and the test that checks uniqueness) can list them all. A code never
+changes meaning once released; retire a code rather than reuse it.
+
+Code prefixes by area (three digits follow):
+    IN  intake (reading files)          PE  periods and calendars
+    IX  index operations (rebase, link) DF  deflation
+    GR  growth                          SA  seasonal adjustment
+    WS  index workshop (index numbers, own cost index, vintages, projection)
+    ST  storage and workspaces          SH  sharing and reviewer access
+    EX  exports                         CL  command line
+    UI  dashboard-only problems         SE  settings
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import Literal
+
+Severity = Literal["error", "warning"]
+
+_CODE_RE = re.compile(r"^(IN|PE|IX|DF|GR|SA|WS|ST|SH|EX|CL|UI|SE)\d{3}$")
+_REGISTRY: dict[str, str] = {}
+
+
+def register(code: str, title: str) -> str:
+    """Register a stable error/warning code with a short title and return the code.
+
+    Called at import time by the module that owns the code. Registering the same code
+    twice with a different title is a programming error.
+    """
+    if not _CODE_RE.match(code):
+        raise ValueError(f"malformed problem code {code!r}; expected e.g. 'IN001'")
+    old = _REGISTRY.get(code)
+    if old is not None and old != title:
+        raise ValueError(f"problem code {code} already registered as {old!r}")
+    _REGISTRY[code] = title
+    return code
+
+
+def registered_codes() -> Mapping[str, str]:
+    """All codes registered so far (import the modules first to see theirs)."""
+    return dict(sorted(_REGISTRY.items()))
+
+
+@dataclass(frozen=True)
+class Location:
+    """Where a problem sits. Rows are 1-based as a spreadsheet user counts them
+    (the header is row 1 of a CSV); columns are header names where there is one."""
+
+    file: str | None = None
+    sheet: str | None = None
+    row: int | None = None
+    column: str | None = None
+    series: str | None = None
+    period: str | None = None
+
+    def render(self) -> str:
+        parts = []
+        if self.file:
+            parts.append(f"file {self.file}")
+        if self.sheet:
+            parts.append(f"sheet {self.sheet}")
+        if self.row is not None:
+            parts.append(f"row {self.row}")
+        if self.column:
+            parts.append(f"column {self.column!r}")
+        if self.series:
+            parts.append(f"series {self.series!r}")
+        if self.period:
+            parts.append(f"period {self.period}")
+        return ", ".join(parts)
+
+    def as_dict(self) -> dict[str, object]:
+        return {k: v for k, v in self.__dict__.items() if v is not None}
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One thing wrong (or worth knowing) about the input or the result."""
+
+    code: str
+    message: str
+    expected: str = ""
+    found: str = ""
+    fix: str = ""
+    where: Location = field(default_factory=Location)
+    severity: Severity = "error"
+
+    def render(self) -> str:
+        """One readable paragraph: code, where, what, expected/found, fix."""
+        head = f"[{self.code}] {self.message}"
+        loc = self.where.render()
+        lines = [head + (f" ({loc})" if loc else "")]
+        if self.expected:
+            lines.append(f"  expected: {self.expected}")
+        if self.found:
+            lines.append(f"  found: {self.found}")
+        if self.fix:
+            lines.append(f"  fix: {self.fix}")
+        return "\n".join(lines)
+
+    def as_dict(self) -> dict[str, object]:
+        return {
+            "code": self.code,
+            "severity": self.severity,
+            "message": self.message,
+            "expected": self.expected,
+            "found": self.found,
+            "fix": self.fix,
+            "where": self.where.as_dict(),
+        }
+
+    def as_warning(self) -> Problem:
+        return Problem(
+            self.code, self.message, self.expected, self.found, self.fix, self.where, "warning"
+        )
+
+
+class RealbasisError(Exception):
+    """Raised for bad input or a request that cannot be met. Carries one or more problems.
+
+    ``str(err)`` is the full human-readable text; ``err.code`` the first problem's code.
+    """
+
+    def __init__(self, problems: Problem | Iterable[Problem]):
+        if isinstance(problems, Problem):
+            problems = (problems,)
+        self.problems: tuple[Problem, ...] = tuple(problems)
+        if not self.problems:
+            raise ValueError("RealbasisError needs at least one problem")
+        super().__init__(self.render())
+
+    @property
+    def code(self) -> str:
+        return self.problems[0].code
+
+    @property
+    def codes(self) -> tuple[str, ...]:
+        return tuple(p.code for p in self.problems)
+
+    def render(self) -> str:
+        return "\n".join(p.render() for p in self.problems)
+
+
+def fail(
+    code: str,
+    message: str,
+    *,
+    expected: str = "",
+    found: str = "",
+    fix: str = "",
+    where: Location | None = None,
+    **where_kw: object,
+) -> RealbasisError:
+    """Build (not raise) a single-problem error: ``raise fail("DF001", ...)``."""
+    loc = where if where is not None else Location(**where_kw)  # type: ignore[arg-type]
+    return RealbasisError(Problem(code, message, expected, found, fix, loc, "error"))
+
+
+def warn(
+    code: str,
+    message: str,
+    *,
+    expected: str = "",
+    found: str = "",
+    fix: str = "",
+    where: Location | None = None,
+    **where_kw: object,
+) -> Problem:
+    """Build a warning problem that travels with a result."""
+    loc = where if where is not None else Location(**where_kw)  # type: ignore[arg-type]
+    return Problem(code, message, expected, found, fix, loc, "warning")
+
+
+# Codes shared by several areas live here.
+CL001 = register("CL001", "command-line argument invalid")

