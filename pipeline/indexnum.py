@@ -1,0 +1,534 @@
+"""Index numbers from item prices and quantities (or expenditures).
+
+Formulas keep their published names (ILO/IMF Consumer Price Index Manual 2004, ch. 15-19):
+
+    Laspeyres  sum(p1 q0) / sum(p0 q0)
+    Paasche    sum(p1 q1) / sum(p0 q1)
+    Fisher     sqrt(Laspeyres * Paasche)
+    Törnqvist  exp(sum(0.5 (s0 + s1) ln(p1 / p0)))        s = expenditure shares
+    Walsh      sum(p1 sqrt(q0 q1)) / sum(p0 sqrt(q0 q1))
+    Jevons     exp(mean(ln(p1 / p0)))                      unweighted
+    Lowe       sum(p1 qb) / sum(p0 qb)                     qb: quantities of weight period b
+    Young      sum(sb p1 / p0)                             sb: expenditure shares of period b
+
+A comparison between two periods uses only the *matched* items: those with a positive
+price in both periods and, for the weighted formulas, a quantity or expenditure in both
+periods (Lowe/Young: a quantity or expenditure in the weight-reference period). Every
+result reports how many items each comparison matched and how many it dropped (items
+observed in either period but not usable in the comparison).
+
+Fixed-base indexes compare every period with the base period directly; chained indexes
+multiply period-to-period links and are then expressed with the base period = 100.
+
+All the arithmetic is vectorised over a (periods x items) numpy array built once from
+the long table, so thousands of items over many years take milliseconds.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+import pandas as pd
+
+from .errors import Problem, fail, register, warn
+from .model import Frequency, Series
+
+Formula = Literal[
+    "laspeyres", "paasche", "fisher", "tornqvist", "walsh", "jevons", "lowe", "young"
+]
+FORMULAS: tuple[Formula, ...] = (
+    "laspeyres", "paasche", "fisher", "tornqvist", "walsh", "jevons", "lowe", "young"
+)
+# Formulas that need quantities (or expenditures) in both compared periods.
+_BILATERAL_WEIGHTED = frozenset({"laspeyres", "paasche", "fisher", "tornqvist", "walsh"})
+# Formulas whose weights come from one stated weight-reference period.
+_WEIGHT_PERIOD = frozenset({"lowe", "young"})
+
+FORMULA_NAMES: Mapping[str, str] = {
+    "laspeyres": "Laspeyres", "paasche": "Paasche", "fisher": "Fisher",
+    "tornqvist": "Törnqvist", "walsh": "Walsh", "jevons": "Jevons",
+    "lowe": "Lowe", "young": "Young",
+}
+
+WS001 = register("WS001", "price table is missing a required column")
+WS002 = register("WS002", "price table has an invalid price, quantity or expenditure")
+WS003 = register("WS003", "price table repeats an item in a period")
+WS004 = register("WS004", "unknown index formula or formula option")
+WS005 = register("WS005", "base or weight period not in the price table")
+WS006 = register("WS006", "chained index broken: a link matched no items")
+WS007 = register("WS007", "comparison matched no items")
+WS008 = register("WS008", "items dropped from comparisons (not matched)")
+WS009 = register("WS009", "both quantity and expenditure given")
+
+
+# ---------------------------------------------------------------------------------------
+# The price table
+
+
+@dataclass(frozen=True)
+class PriceTable:
+    """Item prices (and quantities/expenditures) as (periods x items) float arrays.
+
+    ``periods`` is the complete, gap-free range from the first to the last period in the
+    data (periods with no observations are all-NaN rows). Missing cells are NaN.
+    ``quantities`` and ``expenditures`` are both filled when either was given
+    (expenditure = price * quantity; quantity = expenditure / price); both are None for
+    a price-only table (Jevons only).
+    """
+
+    periods: pd.PeriodIndex
+    items: pd.Index
+    prices: np.ndarray
+    quantities: np.ndarray | None
+    expenditures: np.ndarray | None
+    frequency: Frequency | None = None
+    source: str | None = None
+    warnings: tuple[Problem, ...] = ()
+
+    @property
+    def has_weights(self) -> bool:
+        return self.quantities is not None
+
+    def position(self, period: pd.Period | str) -> int:
+        """Row of a period in the table; a coded error when it is not there."""
+        p = _as_period(period, self.periods)
+        if p is None or p not in self.periods:
+            raise fail(
+                WS005, "period not in the price table",
+                expected=f"a period between {self.periods[0]} and {self.periods[-1]}",
+                found=str(period), fix="Choose a period that the price file covers.",
+                file=self.source,
+            )
+        return int(self.periods.get_loc(p))
+
+
+def _as_period(value: pd.Period | str, periods: pd.PeriodIndex) -> pd.Period | None:
+    if isinstance(value, pd.Period):
+        try:
+            return value.asfreq(periods.freq) if value.freqstr != periods.freqstr else value
+        except (ValueError, TypeError):  # pragma: no cover - incompatible frequencies
+            return None
+    try:
+        return pd.Period(str(value), freq=periods.freq)
+    except (ValueError, TypeError):
+        return None
+
+
+def frequency_of(index: pd.PeriodIndex) -> Frequency | None:
+    """The realbasis Frequency matching a pandas PeriodIndex's freq (None if none does)."""
+    freq = index.freqstr
+    if freq == "M":
+        return Frequency("M")
+    months = ["JAN", "FEB", "MAR", "APR", "MAY", "JUN", "JUL", "AUG", "SEP", "OCT", "NOV", "DEC"]
+    for prefix, code in (("Q-", "Q"), ("Y-", "A")):
+        if freq.startswith(prefix) and freq[len(prefix):] in months:
+            end = months.index(freq[len(prefix):]) + 1
+            start = end % 12 + 1
+            if code == "A":
+                return Frequency("A") if start == 1 else Frequency("FY", start)
+            return Frequency("Q", start)
+    return None
+
+
+def price_table(
+    frame: pd.DataFrame,
+    *,
+    period: str = "period",
+    item: str = "item",
+    price: str = "price",
+    quantity: str | None = "quantity",
+    expenditure: str | None = "expenditure",
+    source: str | None = None,
+    row_offset: int = 2,
+) -> PriceTable:
+    """Build a :class:`PriceTable` from a long table ``period, item, price`` plus
+    ``quantity`` or ``expenditure``.
+
+    The period column must already hold ``pd.Period`` values of one frequency (the
+    command line parses labels with :mod:`pipeline.labels` first). ``row_offset`` turns
+    a 0-based frame position into the row number a spreadsheet user sees (2: header is
+    row 1). Errors carry file, row and column.
+    """
+    cols = list(frame.columns)
+    missing = [c for c in (period, item, price) if c not in cols]
+    if missing:
+        raise fail(
+            WS001, f"price table lacks column(s) {', '.join(missing)}",
+            expected=f"columns {period}, {item}, {price} and {quantity} or {expenditure}",
+            found=", ".join(map(str, cols)) or "no columns",
+            fix="Name the columns period, item, price and quantity (or expenditure).",
+            file=source,
+        )
+    q_col = quantity if quantity in cols else None
+    e_col = expenditure if expenditure in cols else None
+    warnings: list[Problem] = []
+    if q_col and e_col:
+        warnings.append(warn(
+            WS009, "both quantity and expenditure given; quantities are used",
+            found=f"columns {q_col} and {e_col}",
+            fix="Drop one of the two columns to silence this warning.", file=source,
+        ))
+        e_col = None
+
+    per = frame[period]
+    if not isinstance(per.dtype, pd.PeriodDtype):
+        try:
+            per = pd.Series(pd.PeriodIndex(per), index=frame.index)
+        except (TypeError, ValueError) as exc:
+            raise fail(
+                WS001, "period column does not hold periods of one frequency",
+                expected="pandas Period values of one frequency (e.g. 2024-01)",
+                found=str(exc), fix="Parse the period labels before building the table.",
+                file=source, column=period,
+            ) from None
+    pidx = pd.PeriodIndex(per)
+    if pidx.hasnans:
+        pos = int(np.flatnonzero(np.asarray(pidx.isna()))[0])
+        raise fail(WS002, "period missing", expected="a period label on every row",
+                   found="empty", fix="Fill in or delete the row.", file=source,
+                   row=pos + row_offset, column=period)
+
+    p = pd.to_numeric(frame[price], errors="coerce").to_numpy(dtype=float)
+    _check_values(frame, price, p, source, row_offset, allow_zero=False)
+    q = e = None
+    if q_col:
+        q = pd.to_numeric(frame[q_col], errors="coerce").to_numpy(dtype=float)
+        _check_values(frame, q_col, q, source, row_offset, allow_zero=True)
+    elif e_col:
+        e = pd.to_numeric(frame[e_col], errors="coerce").to_numpy(dtype=float)
+        _check_values(frame, e_col, e, source, row_offset, allow_zero=True)
+
+    ordinals = np.asarray(pidx.asi8)
+    first, last = int(ordinals.min()), int(ordinals.max())
+    periods = pd.period_range(pd.Period(pidx[ordinals.argmin()]), periods=last - first + 1)
+    row_code = ordinals - first
+    item_code, items = pd.factorize(frame[item].astype(str), sort=True)
+    n_t, n_i = len(periods), len(items)
+    flat = row_code * n_i + item_code
+    counts = np.bincount(flat, minlength=n_t * n_i)
+    if counts.max(initial=0) > 1:
+        dup = int(np.flatnonzero(pd.Series(flat).duplicated().to_numpy())[0])
+        raise fail(
+            WS003, "the same item appears twice in one period",
+            expected="one row per period and item",
+            found=f"item {items[item_code[dup]]!r} in {pidx[dup]} more than once",
+            fix="Combine or delete the duplicate rows.", file=source,
+            row=dup + row_offset, column=item,
+        )
+
+    def grid(values: np.ndarray) -> np.ndarray:
+        out = np.full(n_t * n_i, np.nan)
+        out[flat] = values
+        return out.reshape(n_t, n_i)
+
+    prices = grid(p)
+    quantities = expenditures = None
+    if q is not None:
+        quantities = grid(q)
+        expenditures = prices * quantities
+    elif e is not None:
+        expenditures = grid(e)
+        quantities = expenditures / prices
+    return PriceTable(periods, pd.Index(items), prices, quantities, expenditures,
+                      frequency_of(periods), source, tuple(warnings))
+
+
+def _check_values(frame: pd.DataFrame, column: str, values: np.ndarray, source: str | None,
+                  row_offset: int, *, allow_zero: bool) -> None:
+    raw = frame[column]
+    given = ~pd.isna(raw).to_numpy()
+    bad_text = given & np.isnan(values)
+    bad_sign = ~np.isnan(values) & ((values < 0) if allow_zero else (values <= 0))
+    bad_inf = np.isinf(values)
+    bad = bad_text | bad_sign | bad_inf
+    if bad.any():
+        pos = int(np.flatnonzero(bad)[0])
+        rule = "a number >= 0" if allow_zero else "a number > 0"
+        raise fail(
+            WS002, f"invalid {column} value ({int(bad.sum())} row(s) in all)",
+            expected=rule, found=repr(raw.iloc[pos]),
+            fix=f"Correct the {column} (leave the cell empty when it is not known).",
+            file=source, row=pos + row_offset, column=column,
+        )
+
+
+# ---------------------------------------------------------------------------------------
+# The formulas, vectorised over comparisons (rows)
+
+
+def _rowsum(x: np.ndarray, mask: np.ndarray) -> np.ndarray:
+    return np.where(mask, x, 0.0).sum(axis=1)
+
+
+def _ratio(num: np.ndarray, den: np.ndarray, n: np.ndarray) -> np.ndarray:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = num / den
+    return np.where((n > 0) & (den > 0), out, np.nan)
+
+
+def compare(
+    formula: Formula,
+    p0: np.ndarray, p1: np.ndarray,
+    q0: np.ndarray | None, q1: np.ndarray | None,
+    *, qb: np.ndarray | None = None, eb: np.ndarray | None = None,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Price index of period 1 relative to period 0, one per row, on matched items.
+
+    Arrays are (comparisons x items); ``p0``/``q0`` may be a single broadcast row
+    (fixed base). ``qb``/``eb`` are the weight-period quantities/expenditures for
+    Lowe/Young. Returns (index ratios, matched item counts).
+    """
+    p0, p1 = np.broadcast_arrays(p0, p1)
+    mask = (p0 > 0) & (p1 > 0)  # NaN compares False
+    if formula in _BILATERAL_WEIGHTED:
+        if q0 is None or q1 is None:
+            raise fail(WS004, f"the {FORMULA_NAMES[formula]} formula needs quantities",
+                       expected="a quantity or expenditure column",
+                       found="prices only", fix="Add quantities or use Jevons.")
+        q0, q1 = np.broadcast_arrays(q0, p1)[0], np.broadcast_arrays(q1, p1)[0]
+        mask &= (q0 >= 0) & (q1 >= 0)
+    elif formula in _WEIGHT_PERIOD:
+        w = qb if formula == "lowe" else eb
+        if w is None:
+            raise fail(WS004, f"the {FORMULA_NAMES[formula]} formula needs weight-period "
+                       "quantities", expected="a quantity or expenditure column",
+                       found="prices only", fix="Add quantities or use Jevons.")
+        w = np.broadcast_to(w, p1.shape)
+        mask &= w >= 0
+    n = mask.sum(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if formula == "jevons":
+            rel = np.log(np.where(mask, p1 / p0, 1.0))
+            out = np.exp(rel.sum(axis=1) / n)
+            return np.where(n > 0, out, np.nan), n
+        if formula == "lowe":
+            return _ratio(_rowsum(p1 * qb, mask), _rowsum(p0 * qb, mask), n), n
+        if formula == "young":
+            share_den = _rowsum(np.broadcast_to(eb, p1.shape), mask)
+            return _ratio(_rowsum(eb * (p1 / p0), mask), share_den, n), n
+        assert q0 is not None and q1 is not None
+        if formula in ("laspeyres", "paasche", "fisher"):
+            las = _ratio(_rowsum(p1 * q0, mask), _rowsum(p0 * q0, mask), n)
+            if formula == "laspeyres":
+                return las, n
+            paa = _ratio(_rowsum(p1 * q1, mask), _rowsum(p0 * q1, mask), n)
+            if formula == "paasche":
+                return paa, n
+            return np.sqrt(las * paa), n
+        if formula == "walsh":
+            w = np.sqrt(q0 * q1)
+            return _ratio(_rowsum(p1 * w, mask), _rowsum(p0 * w, mask), n), n
+        if formula == "tornqvist":
+            e0, e1 = p0 * q0, p1 * q1
+            s0 = np.where(mask, e0, 0.0) / _rowsum(e0, mask)[:, None]
+            s1 = np.where(mask, e1, 0.0) / _rowsum(e1, mask)[:, None]
+            logrel = np.log(np.where(mask, p1 / p0, 1.0))
+            out = np.exp((0.5 * (s0 + s1) * logrel).sum(axis=1))
+            return np.where(n > 0, out, np.nan), n
+    raise fail(WS004, f"unknown index formula {formula!r}", expected=", ".join(FORMULAS),
+               found=str(formula), fix="Choose one of the published formulas listed.")
+
+
+# ---------------------------------------------------------------------------------------
+# Fixed-base and chained indexes
+
+
+@dataclass(frozen=True)
+class IndexNumbers:
+    """An index computed from a price table.
+
+    ``values``: the index on the table's periods with the base period = 100.
+    ``matched`` / ``dropped``: per period, items used / not usable in the comparison that
+    produced that period's value (fixed base: base vs period; chained: previous period vs
+    period; the first period of a chain and the base of a fixed-base index report the
+    items usable in that period alone). ``links``: chained period-on-period ratios.
+    """
+
+    formula: Formula
+    chained: bool
+    base: pd.Period
+    values: pd.Series
+    matched: pd.Series
+    dropped: pd.Series
+    items: int
+    weight_period: pd.Period | None = None
+    links: pd.Series | None = None
+    frequency: Frequency | None = None
+    warnings: tuple[Problem, ...] = ()
+
+    @property
+    def name(self) -> str:
+        kind = "chained" if self.chained else "fixed-base"
+        return f"{FORMULA_NAMES[self.formula]} price index, {kind}"
+
+    def labels(self) -> list[str]:
+        if self.frequency is not None:
+            return self.frequency.labels(self.values.index)  # type: ignore[arg-type]
+        return [str(p) for p in self.values.index]
+
+    def table(self) -> pd.DataFrame:
+        """Tidy table: ``period, index, matched_items, dropped_items``."""
+        return pd.DataFrame({
+            "period": self.labels(),
+            "index": self.values.to_numpy(),
+            "matched_items": self.matched.to_numpy(),
+            "dropped_items": self.dropped.to_numpy(),
+        })
+
+    def method_note(self) -> tuple[str, ...]:
+        base = self.frequency.label(self.base) if self.frequency else str(self.base)
+        notes = [
+            f"{self.name} computed from item prices"
+            + (" and quantities." if self.formula != "jevons" else " (unweighted)."),
+            f"Base period {base} = 100.",
+            "Each comparison uses only items priced (and, for weighted formulas, with a "
+            "quantity or expenditure) in both periods compared.",
+        ]
+        if self.chained:
+            notes.append("Chained: period-to-period links multiplied together.")
+        if self.weight_period is not None:
+            wp = (self.frequency.label(self.weight_period) if self.frequency
+                  else str(self.weight_period))
+            notes.append(f"Weights from the weight-reference period {wp}.")
+        return tuple(notes)
+
+    def to_series(self, name: str | None = None, **fields: object) -> Series:
+        if self.frequency is None:  # pragma: no cover - only exotic pandas freqs
+            raise fail(WS004, "index frequency not supported",
+                       expected="monthly, quarterly or annual periods",
+                       found=str(self.values.index.freqstr), fix="Use M, Q or Y periods.")
+        ref = self.frequency.label(self.base)
+        return Series(name or self.name, self.values.astype(float), self.frequency,
+                      kind="index", reference=ref, notes=self.method_note(), **fields)  # type: ignore[arg-type]
+
+
+def _observed(table: PriceTable) -> np.ndarray:
+    return ~np.isnan(table.prices)
+
+
+def compute_index(
+    table: PriceTable,
+    formula: Formula | str,
+    *,
+    chained: bool = False,
+    base: pd.Period | str | None = None,
+    weight_period: pd.Period | str | None = None,
+) -> IndexNumbers:
+    """Compute a fixed-base or chained index number from a :class:`PriceTable`.
+
+    ``base``: the period set to 100 (default: the first period); for a fixed-base index it
+    is also the price-reference period every period is compared with. ``weight_period``
+    (Lowe, Young only): the period whose quantities / expenditures weight the items
+    (default: the base period). Lowe and Young are fixed-base only.
+    """
+    formula = str(formula).lower().replace("ö", "o")  # type: ignore[assignment]
+    if formula not in FORMULAS:
+        raise fail(WS004, f"unknown index formula {formula!r}", expected=", ".join(FORMULAS),
+                   found=str(formula), fix="Choose one of the published formulas listed.")
+    if formula in _WEIGHT_PERIOD and chained:
+        raise fail(WS004, f"the {FORMULA_NAMES[formula]} index is a fixed-base index",
+                   expected="fixed-base (no --chained)", found="chained",
+                   fix="Drop --chained, or use a chained Laspeyres, Fisher or Törnqvist.")
+    if weight_period is not None and formula not in _WEIGHT_PERIOD:
+        raise fail(WS004, "a weight-reference period applies to Lowe and Young only",
+                   expected="lowe or young", found=str(formula),
+                   fix="Drop the weight period or choose Lowe or Young.")
+    if formula != "jevons" and not table.has_weights:
+        raise fail(WS004, f"the {FORMULA_NAMES[formula]} formula needs quantities",
+                   expected="a quantity or expenditure column", found="prices only",
+                   fix="Add quantities or expenditures, or use Jevons.", file=table.source)
+
+    b = table.position(base) if base is not None else 0
+    wp = table.position(weight_period) if weight_period is not None else b
+    P, Q, E = table.prices, table.quantities, table.expenditures
+    observed = _observed(table)
+    qb = Q[wp][None, :] if Q is not None and formula == "lowe" else None
+    eb = E[wp][None, :] if E is not None and formula == "young" else None
+    warnings: list[Problem] = list(table.warnings)
+    n_t = len(table.periods)
+
+    if not chained:
+        ratio, matched = compare(formula, P[b][None, :], P,  # type: ignore[arg-type]
+                                 None if Q is None else Q[b][None, :], Q, qb=qb, eb=eb)
+        ratio[b] = 1.0
+        seen = observed | observed[b][None, :]
+        links = None
+    else:
+        link, n_link = compare(formula, P[:-1], P[1:],  # type: ignore[arg-type]
+                               None if Q is None else Q[:-1],
+                               None if Q is None else Q[1:])
+        broken = np.flatnonzero(~np.isfinite(link))
+        if len(broken):
+            k = int(broken[0]) + 1
+            raise fail(
+                WS006, "chained index broken: no item matched between two periods",
+                expected="at least one item priced (with quantity) in both periods",
+                found=f"{table.periods[k - 1]} to {table.periods[k]}: 0 items matched",
+                fix="Fill the gap in the price file, or compute a fixed-base index.",
+                file=table.source, period=str(table.periods[k]),
+            )
+        chain = np.concatenate([[1.0], np.cumprod(link)])
+        ratio = chain / chain[b]
+        first_usable = _usable(formula, P[0], None if Q is None else Q[0])
+        matched = np.concatenate([[first_usable], n_link])
+        seen = np.vstack([observed[:1], observed[1:] | observed[:-1]])
+        links = pd.Series(np.concatenate([[np.nan], link]), index=table.periods, name="link")
+    dropped = seen.sum(axis=1) - matched
+
+    empty = np.flatnonzero(~np.isfinite(ratio))
+    if len(empty):
+        warnings.append(warn(
+            WS007, f"{len(empty)} period(s) matched no item with the base period",
+            found=", ".join(str(table.periods[i]) for i in empty[:5]),
+            fix="Those periods are left empty; check the price file.", file=table.source,
+        ))
+    if dropped.sum() > 0:
+        worst = int(np.argmax(dropped))
+        warnings.append(warn(
+            WS008, f"items were dropped from {int((dropped > 0).sum())} of {n_t} "
+            "comparisons (not priced, or without quantity, in both periods)",
+            found=f"most in {table.periods[worst]}: {int(dropped[worst])} dropped, "
+            f"{int(matched[worst])} matched",
+            fix="Matched-item comparisons are the standard treatment; impute missing "
+            "prices beforehand if you prefer another.", file=table.source,
+        ))
+    return IndexNumbers(
+        formula=formula,  # type: ignore[arg-type]
+        chained=chained, base=table.periods[b],
+        values=pd.Series(100.0 * ratio, index=table.periods, name="index"),
+        matched=pd.Series(matched.astype(int), index=table.periods, name="matched_items"),
+        dropped=pd.Series(dropped.astype(int), index=table.periods, name="dropped_items"),
+        items=len(table.items),
+        weight_period=table.periods[wp] if formula in _WEIGHT_PERIOD else None,
+        links=links, frequency=table.frequency, warnings=tuple(warnings),
+    )
+
+
+def _usable(formula: str, p: np.ndarray, q: np.ndarray | None) -> int:
+    ok = p > 0
+    if formula != "jevons" and q is not None:
+        ok &= q >= 0
+    return int(ok.sum())
+
+
+def chain_links(links: pd.Series, *, reference: float = 100.0) -> pd.Series:
+    """Chain period-on-period links (previous period = 100) into an index level series.
+
+    The period before the first link is set to ``reference``; the result carries one
+    more period than ``links`` (the starting period). Missing links raise WS006.
+    """
+    if not isinstance(links.index, pd.PeriodIndex):
+        raise TypeError("links need a PeriodIndex")
+    vals = links.to_numpy(dtype=float)
+    bad = np.flatnonzero(~(vals > 0))
+    if len(bad):
+        raise fail(WS006, "missing or non-positive link", expected="links > 0",
+                   found=f"{links.iloc[bad[0]]!r} at {links.index[bad[0]]}",
+                   fix="Fill in the link.", period=str(links.index[bad[0]]))
+    start = links.index[0] - 1
+    idx = pd.period_range(start, periods=len(links) + 1)
+    levels = reference * np.concatenate([[1.0], np.cumprod(vals / 100.0)])
+    return pd.Series(levels, index=idx, name=links.name)
