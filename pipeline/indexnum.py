@@ -35,6 +35,7 @@ import pandas as pd
 
 from .errors import Problem, fail, register, warn
 from .model import Frequency, Series
+from .periods import frequency_of_period
 
 Formula = Literal[
     "laspeyres", "paasche", "fisher", "tornqvist", "walsh", "jevons", "lowe", "young"
@@ -84,7 +85,7 @@ class PriceTable:
     prices: np.ndarray
     quantities: np.ndarray | None
     expenditures: np.ndarray | None
-    frequency: Frequency | None = None
+    frequency: Frequency
     source: str | None = None
     warnings: tuple[Problem, ...] = ()
 
@@ -117,20 +118,9 @@ def _as_period(value: pd.Period | str, periods: pd.PeriodIndex) -> pd.Period | N
         return None
 
 
-def frequency_of(index: pd.PeriodIndex) -> Frequency | None:
-    """The realbasis Frequency matching a pandas PeriodIndex's freq (None if none does)."""
-    freq = index.freqstr
-    if freq == "M":
-        return Frequency("M")
-    months = ["JAN", "FEB", "MAR", "APR", "MAY", "JUN", "JUL", "AUG", "SEP", "OCT", "NOV", "DEC"]
-    for prefix, code in (("Q-", "Q"), ("Y-", "A")):
-        if freq.startswith(prefix) and freq[len(prefix):] in months:
-            end = months.index(freq[len(prefix):]) + 1
-            start = end % 12 + 1
-            if code == "A":
-                return Frequency("A") if start == 1 else Frequency("FY", start)
-            return Frequency("Q", start)
-    return None
+def frequency_of(index: pd.PeriodIndex) -> Frequency:
+    """The realbasis Frequency of a PeriodIndex (via :mod:`pipeline.periods`)."""
+    return frequency_of_period(index[0])
 
 
 def price_table(
