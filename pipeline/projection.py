@@ -1,0 +1,160 @@
+"""Out-year projection of a price index and then-year / constant-year dollar conversion.
+
+Projection extends an index past its last value with an assumed annual rate of change,
+one rate for every year or a rate per (calendar or fiscal) year. A period of a year with
+rate ``r`` grows by ``(1 + r) ** (1 / periods_per_year)``, so twelve projected months of
+that year compound to exactly ``r``. Every projected value is flagged ``projected``: it is
+an assumption, not a measurement, and figures resting on it say so.
+
+Budget conversions (common practice of multi-year budgeting):
+
+* then-year (nominal, "current") dollars to constant dollars of base ``B``:
+  ``constant(t) = then(t) * I(B) / I(t)`` — this is deflation, done by
+  :func:`pipeline.deflate.deflate` so periods are aligned the same way everywhere;
+* constant dollars of ``B`` to then-year dollars: ``then(t) = constant(t) * I(t) / I(B)``,
+  with ``I(t)/I(B)`` taken from the same deflation run (the deflator rebased to B).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from .errors import Problem, fail, register, warn
+from .model import ANNUAL, Frequency, Series
+from .periods import parse_span
+
+WS201 = register("WS201", "projection year without an assumed rate")
+WS202 = register("WS202", "assumed rate out of range")
+WS203 = register("WS203", "projection end not after the last index value")
+WS204 = register("WS204", "only price indexes can be projected")
+WS205 = register("WS205", "index values projected (assumptions)")
+
+
+@dataclass(frozen=True)
+class Projection:
+    """An index extended with projected values.
+
+    ``series``: the extended index (status ``projected`` on the new periods; earlier
+    statuses kept). ``rates``: year label -> annual rate used. ``first``/``last``: labels
+    of the first and last projected period.
+    """
+
+    series: Series
+    rates: Mapping[str, float]
+    first: str
+    last: str
+    year_frequency: Frequency
+    warnings: tuple[Problem, ...] = ()
+
+    def method_note(self) -> tuple[str, ...]:
+        rates = ", ".join(f"{y}: {100 * r:.2f}%" for y, r in self.rates.items())
+        return (
+            f"{self.series.name} projected from {self.first} to {self.last} with assumed "
+            f"annual rates ({rates}); each period grows by (1 + rate)^(1/"
+            f"{self.series.frequency.periods_per_year}).",
+            "Projected values are assumptions, not measurements.",
+        )
+
+    def table(self) -> pd.DataFrame:
+        s = self.series
+        return pd.DataFrame({"period": s.frequency.labels(s.index),
+                             "index": s.values.to_numpy(),
+                             "status": s.status_or_final().to_numpy()})
+
+
+def _year_frequency(freq: Frequency, year_frequency: Frequency | None) -> Frequency:
+    if year_frequency is not None:
+        return year_frequency
+    if freq.is_fiscal:
+        return Frequency("FY", freq.fy_start)
+    return ANNUAL
+
+
+def project(
+    index: Series,
+    rate: float | Mapping[str | int, float],
+    *,
+    until: str | pd.Period,
+    year_frequency: Frequency | None = None,
+) -> Projection:
+    """Extend ``index`` to ``until`` (any period label or span; its last period counts)
+    with ``rate`` (a fraction, 0.025 = 2.5 % a year) or a mapping year label -> rate.
+
+    Years are calendar years, or fiscal years for a fiscal index, or ``year_frequency``
+    (e.g. fiscal years starting July for a monthly index and a budget office's rates).
+    Trailing missing values are projected too (from the last value present).
+    """
+    if index.kind != "index":
+        raise fail(WS204, f"{index.name!r} is a {index.kind}, not a price index",
+                   expected="an index series", found=index.kind, series=index.name,
+                   fix="Project a price index; money series are deflated, not projected.")
+    freq = index.frequency
+    yf = _year_frequency(freq, year_frequency)
+    present = index.values.dropna()
+    if present.empty:
+        raise fail(WS204, f"index {index.name!r} has no values", expected="at least one value",
+                   found="none", series=index.name, fix="Load the index values first.")
+    last_p = present.index[-1]
+    span = parse_span(until, yf.fy_start if yf.code == "FY" else freq)
+    end_month = pd.Period(ordinal=span.last_month, freq="M")
+    end = end_month.asfreq(freq.pandas_freq)
+    if end.asfreq("M", how="end") != end_month:
+        end = end - 1  # the period containing the last month is not complete by then
+    if end <= last_p:
+        raise fail(WS203, "nothing to project", expected=f"an end after {freq.label(last_p)}",
+                   found=span.label, series=index.name,
+                   fix="Give a later end period (e.g. the last budget out-year).")
+    new_idx = pd.period_range(last_p + 1, end, freq=freq.pandas_freq)
+    years = new_idx.asfreq(yf.pandas_freq, how="end")
+    ylabels = yf.labels(years)
+    rates_by_year: dict[str, float] = {}
+    if isinstance(rate, Mapping):
+        given = {_year_label(k, yf): float(v) for k, v in rate.items()}
+        missing = sorted(set(ylabels) - set(given))
+        if missing:
+            raise fail(WS201, "no assumed rate for some projected years",
+                       expected="a rate for each of " + ", ".join(dict.fromkeys(ylabels)),
+                       found="none for " + ", ".join(missing), series=index.name,
+                       fix="Give a rate for every out-year, or one rate for all.")
+        rates_by_year = {y: given[y] for y in dict.fromkeys(ylabels)}
+    else:
+        rates_by_year = dict.fromkeys(dict.fromkeys(ylabels), float(rate))
+    for y, r in rates_by_year.items():
+        if not np.isfinite(r) or r <= -1 or r > 1:
+            raise fail(WS202, f"assumed rate {r!r} for {y} is out of range",
+                       expected="an annual rate as a fraction between -1 and 1 (0.025 = 2.5 %)",
+                       found=repr(r), series=index.name,
+                       fix="Write rates as fractions, e.g. 0.025 for 2.5 % a year.")
+    per_period = np.array([(1 + rates_by_year[y]) ** (1 / freq.periods_per_year)
+                           for y in ylabels])
+    new_vals = float(present.iloc[-1]) * np.cumprod(per_period)
+    kept = index.values[index.index <= last_p]
+    values = pd.concat([kept, pd.Series(new_vals, index=new_idx)])
+    values.index = pd.PeriodIndex(values.index, freq=freq.pandas_freq)
+    values.name = index.values.name
+    status = pd.concat([index.status_or_final()[index.index <= last_p],
+                        pd.Series("projected", index=new_idx, dtype=object)])
+    status.index = values.index
+    first, last = freq.label(new_idx[0]), freq.label(new_idx[-1])
+    note = f"projected {first} to {last} at assumed rates"
+    out = index.with_values(values, status=status.astype(object), notes=(*index.notes, note))
+    w = warn(WS205, f"{len(new_idx)} value(s) of {index.name!r} are projected",
+             found=f"{first} to {last}", fix="Figures resting on them are assumptions.",
+             series=index.name)
+    return Projection(out, rates_by_year, first, last, yf, (w,))
+
+
+def _year_label(key: str | int, yf: Frequency) -> str:
+    text = str(key).strip()
+    span = parse_span(text, yf.fy_start if yf.code == "FY" else None)
+    if span.frequency.code not in ("A", "FY"):
+        raise fail(WS201, f"rate key {text!r} is not a year", expected="a year such as 2027 or FY2027",
+                   found=text, fix="Key the rates by year.")
+    if yf.code == "FY" and span.frequency.code == "A":
+        # a plain year number means the fiscal year ending in it
+        return yf.label(pd.Period(year=span.start.year, freq=yf.pandas_freq))
+    return yf.label(span.start.asfreq(yf.pandas_freq))
