@@ -10,6 +10,7 @@ Run: python tests/benchmarks/bench_index.py
 
 from __future__ import annotations
 
+import itertools
 import sys
 import time
 from pathlib import Path
@@ -18,8 +19,6 @@ import numpy as np
 import pandas as pd
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-
-import itertools
 
 from pipeline.indexnum import compute_index, price_table
 
