@@ -100,7 +100,7 @@ def producer_and_wage(rng: np.random.Generator) -> tuple[pd.DataFrame, pd.DataFr
     ppi_rate = 1.0 + 9.0 * np.exp(-((t - 2022.0) / 0.6) ** 2) - 2.5 * np.exp(-((t - 2023.4) / 0.5) ** 2)
     ppi = _rescale(_index_from_rates(ppi_rate, rng, 0.0025), year == 2015)
     labels = [f"{p.year:04d}-{p.month:02d}" for p in MONTHS]
-    ppi_df = pd.DataFrame({"series": "Producer index, apparel and outdoor goods",
+    ppi_df = pd.DataFrame({"series": "Producer index for apparel and outdoor goods",
                            "period": labels, "value": ppi.round(3),
                            "unit": "index 2015=100", "status": "final",
                            "vintage": LATEST_VINTAGE})
@@ -113,7 +113,7 @@ def producer_and_wage(rng: np.random.Generator) -> tuple[pd.DataFrame, pd.DataFr
     wage = _rescale(wage, quarters.year.to_numpy() == 2015)
     wage_status = np.array(["final"] * len(quarters), dtype=object)
     wage_status[-1] = "preliminary"
-    wage_df = pd.DataFrame({"series": "Wage index, private sector",
+    wage_df = pd.DataFrame({"series": "Private-sector wage index",
                             "period": [f"{p.year}Q{p.quarter}" for p in quarters],
                             "value": wage.round(3), "unit": "index 2015=100",
                             "status": wage_status, "vintage": LATEST_VINTAGE})
