@@ -26,8 +26,9 @@ the long table, so thousands of items over many years take milliseconds.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Literal
 
 import numpy as np
@@ -36,6 +37,7 @@ import pandas as pd
 from .errors import Problem, fail, register, warn
 from .model import Frequency, Series
 from .periods import frequency_of_period
+from .settings import Settings
 
 Formula = Literal[
     "laspeyres", "paasche", "fisher", "tornqvist", "walsh", "jevons", "lowe", "young"
@@ -133,6 +135,7 @@ def price_table(
     expenditure: str | None = "expenditure",
     source: str | None = None,
     row_offset: int = 2,
+    rows: np.ndarray | None = None,
 ) -> PriceTable:
     """Build a :class:`PriceTable` from a long table ``period, item, price`` plus
     ``quantity`` or ``expenditure``.
@@ -140,8 +143,15 @@ def price_table(
     The period column must already hold ``pd.Period`` values of one frequency (the
     command line parses labels with :mod:`pipeline.labels` first). ``row_offset`` turns
     a 0-based frame position into the row number a spreadsheet user sees (2: header is
-    row 1). Errors carry file, row and column.
+    row 1); ``rows`` instead gives the file row of every frame row. Errors carry file,
+    row and column.
     """
+    if rows is not None:
+        rows = np.asarray(rows, dtype=int)
+
+    def row_of(pos: int) -> int:
+        return int(rows[pos]) if rows is not None else pos + row_offset
+
     cols = list(frame.columns)
     missing = [c for c in (period, item, price) if c not in cols]
     if missing:
@@ -179,17 +189,17 @@ def price_table(
         pos = int(np.flatnonzero(np.asarray(pidx.isna()))[0])
         raise fail(WS002, "period missing", expected="a period label on every row",
                    found="empty", fix="Fill in or delete the row.", file=source,
-                   row=pos + row_offset, column=period)
+                   row=row_of(pos), column=period)
 
     p = pd.to_numeric(frame[price], errors="coerce").to_numpy(dtype=float)
-    _check_values(frame, price, p, source, row_offset, allow_zero=False)
+    _check_values(frame, price, p, source, row_of, allow_zero=False)
     q = e = None
     if q_col:
         q = pd.to_numeric(frame[q_col], errors="coerce").to_numpy(dtype=float)
-        _check_values(frame, q_col, q, source, row_offset, allow_zero=True)
+        _check_values(frame, q_col, q, source, row_of, allow_zero=True)
     elif e_col:
         e = pd.to_numeric(frame[e_col], errors="coerce").to_numpy(dtype=float)
-        _check_values(frame, e_col, e, source, row_offset, allow_zero=True)
+        _check_values(frame, e_col, e, source, row_of, allow_zero=True)
 
     ordinals = np.asarray(pidx.asi8)
     first, last = int(ordinals.min()), int(ordinals.max())
@@ -206,7 +216,7 @@ def price_table(
             expected="one row per period and item",
             found=f"item {items[item_code[dup]]!r} in {pidx[dup]} more than once",
             fix="Combine or delete the duplicate rows.", file=source,
-            row=dup + row_offset, column=item,
+            row=row_of(dup), column=item,
         )
 
     def grid(values: np.ndarray) -> np.ndarray:
@@ -227,7 +237,7 @@ def price_table(
 
 
 def _check_values(frame: pd.DataFrame, column: str, values: np.ndarray, source: str | None,
-                  row_offset: int, *, allow_zero: bool) -> None:
+                  row_of: Callable[[int], int], *, allow_zero: bool) -> None:
     raw = frame[column]
     given = ~pd.isna(raw).to_numpy()
     bad_text = given & np.isnan(values)
@@ -241,8 +251,64 @@ def _check_values(frame: pd.DataFrame, column: str, values: np.ndarray, source: 
             WS002, f"invalid {column} value ({int(bad.sum())} row(s) in all)",
             expected=rule, found=repr(raw.iloc[pos]),
             fix=f"Correct the {column} (leave the cell empty when it is not known).",
-            file=source, row=pos + row_offset, column=column,
+            file=source, row=row_of(pos), column=column,
         )
+
+
+def read_prices(source: str | Path | bytes, *, filename: str | None = None,
+                sheet: str | None = None, fy_start: int | None = None,
+                settings: Settings | None = None) -> PriceTable:
+    """Read a long price file (CSV or XLSX: ``period, item, price`` and ``quantity`` or
+    ``expenditure``; column names in any case) into a :class:`PriceTable`.
+
+    The file is read by the intake's reader (:mod:`pipeline.ingest`: encodings,
+    delimiters, title lines, workbooks, size limits, number formats) and the period labels
+    by :mod:`pipeline.labels`; errors name the file row and column.
+    """
+    from . import ingest, labels
+    from .settings import load_settings
+
+    settings = settings or load_settings()
+    data, name = ingest._read_bytes(source, filename, settings)
+    if data.startswith(b"PK\x03\x04") or name.lower().endswith((".xlsx", ".xlsm")):
+        raw = ingest._read_xlsx(data, name, sheet, settings)
+    else:
+        raw = ingest._read_text(data, name, settings)
+    table, _ = ingest._finish_table(raw, name, settings)
+    header = {h.strip().casefold(): i for i, h in enumerate(table.header)}
+    need = ["period", "item", "price"]
+    missing = [c for c in need if c not in header]
+    if missing:
+        raise fail(WS001, f"price file lacks column(s) {', '.join(missing)}",
+                   expected="columns period, item, price and quantity or expenditure",
+                   found=", ".join(table.header), file=name, row=int(table.rows[0]) - 1,
+                   fix="Name the columns period, item, price and quantity (or expenditure).")
+    cells = table.cells
+    per_col = cells[header["period"]].astype(str).str.strip()
+    lab = labels.parse_label_column(per_col.tolist(), fy_start, file=name,
+                                    column=table.header[header["period"]],
+                                    rows=table.rows.tolist())
+    if lab.bad:
+        pos, text = lab.bad[0]
+        raise fail(WS002, f"period label not understood ({len(lab.bad)} row(s) in all)",
+                   expected=labels.ACCEPTED, found=repr(text), file=name,
+                   row=int(table.rows[pos]), column=table.header[header["period"]],
+                   fix="Write the period as e.g. 2024-01, 2024Q1 or 2024.")
+    frame = pd.DataFrame({"period": lab.index,
+                          "item": cells[header["item"]].astype(str).str.strip().to_numpy()})
+    numeric = [c for c in ("price", "quantity", "expenditure") if c in header]
+    decimal = ingest.detect_decimal(
+        pd.concat([cells[header[c]] for c in numeric]).astype(str).str.strip(), table.delimiter)
+    for c in numeric:
+        values, bad = ingest.parse_numbers(cells[header[c]], decimal)
+        if bad.any():
+            pos = int(np.flatnonzero(bad)[0])
+            raise fail(WS002, f"{c} is not a number ({int(bad.sum())} row(s) in all)",
+                       expected="a number", found=repr(cells[header[c]].iloc[pos]), file=name,
+                       row=int(table.rows[pos]), column=table.header[header[c]],
+                       fix=f"Correct the {c}, or leave the cell empty when it is not known.")
+        frame[c] = values
+    return price_table(frame, source=name, rows=table.rows)
 
 
 # ---------------------------------------------------------------------------------------
