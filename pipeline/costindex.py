@@ -37,6 +37,7 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 
+from . import growth
 from .errors import Problem, fail, register, warn
 from .model import STATUS_RANK, STATUSES, Frequency, Series
 from .periods import frequency_of_period
@@ -474,14 +475,11 @@ def blend(
     status = pd.Series(np.asarray(STATUSES, dtype=object)[worst], index=wide.index,
                        name="status")
     gap: dict[str, float] = {}
-    n_periods = n_t - 1
-    if "fixed" in out and n_periods > 0:
-        yrs = n_periods / freq.periods_per_year
-        rate_f = (out["fixed"][-1] / out["fixed"][0]) ** (1 / yrs) - 1
+    if "fixed" in out and n_t > 1:
+        rates = growth.cagr(values, wide.index[0], wide.index[-1], freq)
         for m in methods:
             if m != "fixed":
-                rate_c = (out[m][-1] / out[m][0]) ** (1 / yrs) - 1
-                gap[m] = 100.0 * (rate_f - rate_c)
+                gap[m] = 100.0 * float(rates["fixed"] - rates[m])
     return CostIndex(name, values, freq, weights, fy, link, reference, status,
                      tuple(comp_names), gap, tuple(warnings))
 
