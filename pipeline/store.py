@@ -160,6 +160,9 @@ class AccessContext:
     role: Literal["editor", "reviewer"] = "editor"
     workspace_id: str | None = None
     actor: str = "editor"
+    link_id: str | None = None
+    refused: list[str] = field(default_factory=list, compare=False, hash=False, repr=False)
+    """Changes refused under this context (the web layer turns any into a 403)."""
 
     @property
     def read_only(self) -> bool:
@@ -197,6 +200,7 @@ def require_write(what: str) -> None:
     """Refuse a change under read-only (reviewer) access with ``SH001``."""
     ctx = _ACCESS.get()
     if ctx.read_only:
+        ctx.refused.append(what)
         raise fail(SH001, f"a reviewer link is read-only: cannot {what}",
                    expected="editor access", found=f"{ctx.role} access",
                    fix="Ask the workspace's editor to make the change; reviewer links "
