@@ -17,12 +17,13 @@ Budget conversions (common practice of multi-year budgeting):
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
+from .deflate import DeflationResult, deflate
 from .errors import Problem, fail, register, warn
 from .model import ANNUAL, Frequency, Series
 from .periods import parse_span
@@ -158,3 +159,60 @@ def _year_label(key: str | int, yf: Frequency) -> str:
         # a plain year number means the fiscal year ending in it
         return yf.label(pd.Period(year=span.start.year, freq=yf.pandas_freq))
     return yf.label(span.start.asfreq(yf.pandas_freq))
+
+
+# ---------------------------------------------------------------------------------------
+# Then-year <-> constant-year dollars
+
+
+@dataclass(frozen=True, eq=False)
+class BudgetConversion:
+    """Amounts converted between then-year and constant-year dollars of ``base``.
+
+    ``table``: ``series, period, then_year, constant, deflator_index, status`` where
+    ``deflator_index`` is the index with base = 100 each amount was converted with and
+    ``status`` the worst status of the index values used (projected out-years show).
+    """
+
+    direction: str
+    base: str
+    table: pd.DataFrame
+    deflation: DeflationResult
+    warnings: tuple[Problem, ...] = ()
+
+    def method_note(self) -> tuple[str, ...]:
+        if self.direction == "to-constant":
+            head = (f"Then-year dollars converted to constant {self.base} dollars: "
+                    f"constant(t) = then(t) x I({self.base}) / I(t).")
+        else:
+            head = (f"Constant {self.base} dollars converted to then-year dollars: "
+                    f"then(t) = constant(t) x I(t) / I({self.base}).")
+        return (head, *self.deflation.method_note())
+
+
+def to_constant(amounts: Sequence[Series], index: Series, base: str | pd.Period, *,
+                to: Frequency | None = None, fy_start: int | None = None,
+                interpolate: bool = False) -> BudgetConversion:
+    """Then-year (nominal) amounts to constant dollars of ``base``: deflation by
+    :func:`pipeline.deflate.deflate` with one index."""
+    res = deflate(list(amounts), [index], base, to=to, fy_start=fy_start,
+                  interpolate=interpolate)
+    t = res.table()
+    table = pd.DataFrame({"series": t["series"], "period": t["period"],
+                          "then_year": t["nominal"], "constant": t["real"],
+                          "deflator_index": t["deflator_index"], "status": t["status"]})
+    return BudgetConversion("to-constant", res.base_label, table, res, res.warnings)
+
+
+def to_then_year(amounts: Sequence[Series], index: Series, base: str | pd.Period, *,
+                 fy_start: int | None = None, interpolate: bool = False) -> BudgetConversion:
+    """Constant-dollar amounts of ``base`` to then-year dollars:
+    ``then(t) = constant(t) x I(t) / I(base)``, with ``I(t)/I(base)`` the index aligned
+    and rebased by the same deflation engine (at the amounts' own periods)."""
+    res = deflate(list(amounts), [index], base, fy_start=fy_start, interpolate=interpolate)
+    t = res.table()
+    then = t["nominal"] * t["deflator_index"] / 100.0
+    table = pd.DataFrame({"series": t["series"], "period": t["period"],
+                          "then_year": then, "constant": t["nominal"],
+                          "deflator_index": t["deflator_index"], "status": t["status"]})
+    return BudgetConversion("to-then", res.base_label, table, res, res.warnings)

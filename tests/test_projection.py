@@ -77,3 +77,27 @@ def test_projection_errors_are_coded():
     with pytest.raises(RealbasisError) as e:
         project(money, 0.02, until="2025")
     assert e.value.code == "WS204"
+
+
+def test_then_year_and_constant_dollars_round_trip_by_hand():
+    # constant(t) = then(t) x I(B)/I(t) and back (DESIGN.md "constant dollars of base
+    # period B"; common practice of out-year budgeting). Annual deflator projected 2%.
+    from pipeline.projection import to_constant, to_then_year
+
+    fy = Frequency("FY", 7)
+    years = pd.period_range(pd.Period("2025", "Y-JUN"), periods=2, freq="Y-JUN")
+    ix = Series("Deflator", pd.Series([100.0, 102.5], index=years), fy, kind="index")
+    ix = project(ix, 0.02, until="FY2028").series
+    out_years = pd.period_range(pd.Period("2025", "Y-JUN"), periods=4, freq="Y-JUN")
+    budget = Series("Bus operations", pd.Series([50.0, 52.0, 54.0, 56.0], index=out_years),
+                    fy, kind="flow")
+    conv = to_constant([budget], ix, "FY2025")
+    t = conv.table
+    assert t["period"].tolist() == ["FY2025", "FY2026", "FY2027", "FY2028"]
+    i28 = 102.5 * 1.02 ** 2
+    assert t["constant"].iloc[3] == pytest.approx(56.0 * 100 / i28)
+    assert t["status"].tolist() == ["final", "final", "projected", "projected"]
+    assert "constant FY2025 dollars" in conv.method_note()[0]
+    const = budget.with_values(pd.Series(t["constant"].to_numpy(), index=out_years))
+    back = to_then_year([const], ix, "FY2025").table
+    assert back["then_year"].to_numpy() == pytest.approx([50.0, 52.0, 54.0, 56.0])
