@@ -718,3 +718,122 @@ def adjust_many(series: Sequence[Series], method: Method = "stl", *, model: Mode
         if problems:
             raise RealbasisError(problems)
     return tuple(a for a in out if a is not None)
+
+
+# ----------------------------------------------------------------------------- with deflation
+
+SA_COLUMNS: tuple[str, ...] = ("nominal_sa", "real_sa")
+ORDER_WORDS = {
+    "deflate-first": "deflated first, then the nominal and each real series adjusted "
+                     "separately (default: the real series reported is itself adjusted and "
+                     "tested for residual seasonality, whatever seasonality the deflator has)",
+    "adjust-first": "nominal series adjusted first, then the adjusted nominal deflated by the "
+                    "unadjusted deflator (real_sa = nominal_sa x 100 / deflator index); any "
+                    "seasonal pattern in the deflator stays in real_sa",
+}
+
+
+@dataclass(frozen=True)
+class AdjustedDeflation:
+    """A deflation result with its seasonally adjusted columns.
+
+    ``table``: the deflation table (``series, deflator, period, nominal, deflator_index,
+    real, status`` first and unchanged) plus ``nominal_sa`` and ``real_sa``.
+    ``nominal``: the adjustment of each nominal series by name. ``real``: the adjustment
+    of each real series by (series, deflator) — empty for ``adjust-first``, where real_sa
+    is the deflated nominal_sa.
+    """
+
+    table: pd.DataFrame
+    method: str
+    order: str
+    nominal: Mapping[str, Adjustment]
+    real: Mapping[tuple[str, str], Adjustment]
+    warnings: tuple[Problem, ...] = ()
+
+    def adjustments(self) -> tuple[Adjustment, ...]:
+        return (*self.nominal.values(), *self.real.values())
+
+    def method_note(self) -> tuple[str, ...]:
+        first = next(iter(self.nominal.values()), None)
+        notes = [f"Seasonal adjustment ({self.method}): {ORDER_WORDS[self.order]}."]
+        if first is not None:
+            notes.extend(first.method_note()[:2])
+        for a in self.adjustments():
+            notes.append(f"{a.name}: strength of seasonality "
+                         f"{a.diagnostics.seasonal_strength:.2f}; {a.diagnostics.verdict()}.")
+        return tuple(notes)
+
+
+def check_order(order: str) -> None:
+    if order not in ORDERS:
+        raise fail(SA001, f"unknown seasonal adjustment order {order!r}",
+                   expected=" | ".join(ORDERS), found=repr(order),
+                   fix="Choose deflate-first (default) or adjust-first.")
+
+
+def adjust_deflation(result: Any, method: Method = "stl", *, order: str = DEFAULT_ORDER,
+                     model: Model = "auto", interpolate: bool = False,
+                     x13_path: str | None = None, progress: Progress | None = None,
+                     max_workers: int | None = None, **params: Any) -> AdjustedDeflation:
+    """Seasonally adjust a :class:`pipeline.deflate.DeflationResult`.
+
+    ``deflate-first`` (default) adjusts each nominal series and each real series (one per
+    deflator); ``adjust-first`` adjusts each nominal series and deflates the adjusted
+    values with the deflator levels the result used (real_sa = nominal_sa x 100 / index).
+    The deflators themselves are never adjusted. All series go through one
+    :func:`adjust_many` call, so non-robust STL uses one matrix product per shape.
+    """
+    check_method(method, model)
+    check_order(order)
+    freq = result.frequency
+    periods = result.periods
+    names = tuple(result.series_names)
+    defl_names = tuple(result.deflator_names)
+    nominal = np.asarray(result.nominal, dtype=float)          # (T, S)
+    real = np.asarray(result.real, dtype=float)                # (D, T, S)
+    index_used = np.asarray(result.index_used, dtype=float)    # (D, T, S)
+    units = tuple(result.units)
+    kinds = tuple(result.kinds)
+
+    def ser(name: str, col: np.ndarray, j: int, unit: str | None = None) -> Series:
+        return Series(name, pd.Series(col, index=periods, name=name), freq,
+                      kind=kinds[j],  # type: ignore[arg-type]
+                      unit=unit if unit is not None else units[j])
+
+    todo: list[Series] = [ser(n, nominal[:, j], j) for j, n in enumerate(names)]
+    keys: list[tuple[str, str | None]] = [(n, None) for n in names]
+    if order == "deflate-first":
+        for d, dn in enumerate(defl_names):
+            for j, n in enumerate(names):
+                todo.append(ser(f"{n} (real, {dn})", real[d, :, j], j,
+                                f"constant {result.base_label} dollars"))
+                keys.append((n, dn))
+    done = adjust_many(todo, method, model=model, interpolate=interpolate,
+                       x13_path=x13_path, progress=progress, max_workers=max_workers,
+                       **params)
+    nom_adj: dict[str, Adjustment] = {}
+    real_adj: dict[tuple[str, str], Adjustment] = {}
+    nominal_sa = np.full_like(nominal, np.nan)
+    real_sa = np.full_like(real, np.nan)
+    for (n, dn), a in zip(keys, done, strict=True):
+        j = names.index(n)
+        vals = a.adjusted.values.reindex(periods).to_numpy(dtype=float)
+        if dn is None:
+            nom_adj[n] = a
+            nominal_sa[:, j] = vals
+        else:
+            real_adj[(n, dn)] = a
+            real_sa[defl_names.index(dn), :, j] = vals
+    if order == "adjust-first":
+        with np.errstate(divide="ignore", invalid="ignore"):
+            real_sa = nominal_sa[None, :, :] * 100.0 / index_used
+    table = result.table()
+    # rows of result.table(): series x deflator x period where the nominal is present
+    present = ~np.isnan(nominal)
+    s_n, d_n, t_n = len(names), len(defl_names), len(periods)
+    mask = np.broadcast_to(present.T[:, None, :], (s_n, d_n, t_n))
+    s_i, d_i, t_i = np.nonzero(mask)
+    table = table.assign(nominal_sa=nominal_sa[t_i, s_i], real_sa=real_sa[d_i, t_i, s_i])
+    warns = tuple(w for a in done for w in a.warnings)
+    return AdjustedDeflation(table, method, order, nom_adj, real_adj, warns)
