@@ -315,7 +315,7 @@ def _partial_summary(labels: np.ndarray, incomplete: np.ndarray, names: Sequence
 def _block(
     frame: np.ndarray, idx: pd.PeriodIndex, freq: Frequency, kind: str,
     names: tuple[str, ...], units: tuple[str | None, ...], defl: list[_Deflator],
-    to: Frequency | None, interpolate: bool,
+    to: Frequency | None, interpolate: bool, series_ranks: np.ndarray | None = None,
 ) -> _Block:
     """Deflate one block of series sharing frequency and kind (rows = contiguous idx)."""
     out_freq = to or freq
@@ -331,6 +331,9 @@ def _block(
     g_nom = aggregate_wide(frame, idx, freq, out_freq, flow_rule)
     periods = g_nom.index
     nominal = g_nom.values
+    # the money series' own status (e.g. projected out-year budgets), per output period
+    s_out = (worst_status_wide(series_ranks, g_nom.starts) if series_ranks is not None
+             and len(periods) else None)
     n_t, n_s, n_d = len(periods), frame.shape[1], len(defl)
     real = np.empty((n_d, n_t, n_s))
     index_used: list[np.ndarray] = []
@@ -415,7 +418,7 @@ def _block(
             # no aggregation: rows of work == rows of output (same stretches)
             real[k] = r_w
             index_used.append(np.broadcast_to(dv[:, None], (n_t, n_s)))
-            status.append(np.broadcast_to(rank_w[:, None], (n_t, n_s)))
+            status.append(_with_series_status(rank_w, s_out, n_t, n_s))
             interp.append(np.broadcast_to(di[:, None], (n_t, n_s)))
             agg_words = f"deflated at {work.describe()}"
         else:
@@ -439,7 +442,7 @@ def _block(
                 implicit = 100.0 * nominal / real_k
             implicit = np.where(real_k == 0, fallback[:, None], implicit)
             index_used.append(implicit)
-            status.append(np.broadcast_to(st_k[:, None], (n_t, n_s)))
+            status.append(_with_series_status(st_k, s_out, n_t, n_s))
             interp.append(np.broadcast_to(ip_k[:, None], (n_t, n_s)))
             agg_words = (f"deflated at {work.describe()}, then "
                          f"{'summed' if flow_rule == 'sum' else 'taken at the last sub-period'}"
@@ -453,8 +456,8 @@ def _block(
                    f"{_STATUS_ARR[d.base_rank]})" if d.base_rank else "")
             warnings.append(warn(DF010, f"real values under {dname!r} rest on {worst} index "
                             f"values{why}", expected="final index values",
-                            found=f"{int((used_ranks > 0).sum())} {work.describe()} period(s) "
-                            "not final", column=dname,
+                            found=f"{int((used_ranks > 0).sum())} period(s) not final "
+                            f"({work.describe()})", column=dname,
                             fix="Show these figures as provisional; they will move when the "
                             "index is revised."))
     if problems:
@@ -466,6 +469,13 @@ def _block(
         _stack(interp, n_t, n_s, bool) if any_interp else None,
         tuple(method), tuple(warnings),
     )
+
+
+def _with_series_status(vec: np.ndarray, s_out: np.ndarray | None, n_t: int,
+                        n_s: int) -> np.ndarray:
+    """Status ranks (T, S): the deflator's per period, raised by the series' own."""
+    view = np.broadcast_to(vec.astype(np.int8)[:, None], (n_t, n_s))
+    return view if s_out is None else np.maximum(view, s_out).astype(np.int8)
 
 
 def relabel_to(idx: pd.PeriodIndex, like: pd.PeriodIndex) -> pd.PeriodIndex:
@@ -507,7 +517,8 @@ def _common_note(span: Span, deflators: Sequence[Series], out: Frequency,
         "flows are then summed and stocks take the period's last value (IMF Quarterly "
         "National Accounts Manual 2017, ch. 8); only complete periods are shown.",
         "Status: each real value carries the worst status (projected > preliminary > final) "
-        "of the index values it rests on, including the base-period values.",
+        "of the index values it rests on, including the base-period values, and of the "
+        "nominal values it sums (e.g. projected out-year amounts).",
         f"Results are {out.describe()}.",
     ]
     if interpolate:
@@ -672,7 +683,12 @@ def deflate(
         full = full_range(idx, freq)
         arr = np.column_stack([m.values.reindex(full).to_numpy(dtype=float) for m in members]) \
             if len(full) else np.zeros((0, len(members)))
+        ranks = None
+        if any(m.status is not None for m in members):
+            ranks = np.column_stack([
+                pd.Series(status_ranks(m), index=m.index).reindex(full).fillna(0)
+                .to_numpy(dtype=np.int8) for m in members]) if len(full) else None
         blocks.append(_block(arr, full, freq, k, tuple(m.name for m in members),
-                             tuple(m.unit for m in members), defl, to, interpolate))
+                             tuple(m.unit for m in members), defl, to, interpolate, ranks))
     out = to or next(iter(freqs))
     return _result(span, out, blocks, defl, interpolate)

@@ -189,8 +189,9 @@ class Span:
         if not ok:
             raise fail(
                 PE203,
-                f"the base {self.label} is not made of whole {frequency.describe()} periods",
-                expected=f"a base of whole {frequency.describe()} periods",
+                f"the base {self.label} is not made of whole periods of the index "
+                f"({frequency.describe()})",
+                expected=f"a base made of whole periods ({frequency.describe()})",
                 found=self.describe(),
                 fix="Choose a base period or range that starts and ends on period boundaries "
                 "of the index (or convert the index to a matching frequency first).",

@@ -264,3 +264,14 @@ def test_bad_requests_are_coded():
     with pytest.raises(RealbasisError) as err:
         deflate([s], [neg], "2024-01")
     assert err.value.code == "DF007"
+
+
+def test_projected_nominal_amounts_mark_their_real_values():
+    # A real figure resting on a projected value must say so (DESIGN.md); here the
+    # projection is in the money series (proposed out-year budget), the index is final.
+    fy = fiscal_year(7)
+    spend = series("capital", [100.0, 110.0, 120.0], "2025", fy,
+                   status=["final", "final", "projected"])
+    d = index("deflator", [100.0, 103.0, 106.0], "2025", fy)
+    t = deflate([spend], [d], "FY2025").table()
+    assert t["status"].tolist() == ["final", "final", "projected"]

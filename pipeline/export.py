@@ -1,0 +1,205 @@
+"""Exports of a deflation result: CSV, JSON and an Excel workbook, chosen by file suffix.
+
+* ``.csv``: the tidy table with EXACTLY the columns ``series, deflator, period, nominal,
+  deflator_index, real, status`` (periods written 2024-01, 2024Q1, 2024, FY2025), plus an
+  ``interpolated`` column only when interpolation was used (never on the command line,
+  which has no interpolation switch).
+* ``.json``: ``{"base", "frequency", "dollars", "columns", "records", "method",
+  "cautions", "warnings", "context"}``; missing numbers are ``null``.
+* ``.xlsx``: a data sheet ("Real terms") and a "Method" sheet (method note, the usual
+  cautions, warnings, context). :func:`build_workbook` returns the openpyxl workbook so the
+  audit-workbook code can add or replace sheets before saving.
+
+Text cells that a spreadsheet would read as a formula (starting with = + - @, a tab or a
+carriage return) are written with a leading single quote (:func:`neutralise`).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from .deflate import DeflationResult
+from .errors import fail, register
+from .model import CAUTIONS
+
+EX001 = register("EX001", "export format not supported")
+EX002 = register("EX002", "export file could not be written")
+EX003 = register("EX003", "table too large for an Excel sheet")
+
+SUFFIXES = (".csv", ".json", ".xlsx")
+XLSX_MAX_ROWS = 1_048_576
+_DANGEROUS = ("=", "+", "-", "@", "\t", "\r")
+TEXT_COLUMNS = ("series", "deflator", "period", "status")
+
+
+def neutralise(value: object) -> object:
+    """Prefix a single quote to text a spreadsheet would run as a formula."""
+    if isinstance(value, str) and value.startswith(_DANGEROUS):
+        return "'" + value
+    return value
+
+
+def neutralise_frame(frame: pd.DataFrame, columns: tuple[str, ...] = TEXT_COLUMNS) -> pd.DataFrame:
+    """A copy of ``frame`` with its text columns neutralised (vectorised over uniques)."""
+    out = frame.copy()
+    for c in columns:
+        if c in out.columns:
+            col = out[c].astype(str)
+            uniq = pd.unique(col)
+            mapping = {u: neutralise(u) for u in uniq}
+            if any(mapping[u] != u for u in uniq):
+                out[c] = col.map(mapping)
+    return out
+
+
+def export_table(result: DeflationResult) -> pd.DataFrame:
+    """The table as exported: contract columns, plus ``interpolated`` if any value is."""
+    return result.table(flags=result.has_interpolation)
+
+
+def _context_lines(context: Mapping[str, Any]) -> list[tuple[str, str]]:
+    return [(str(k), str(v)) for k, v in context.items() if v is not None]
+
+
+def write_csv(result: DeflationResult, path: Path) -> None:
+    table = neutralise_frame(export_table(result))
+    table.to_csv(path, index=False, lineterminator="\n")
+
+
+def _num(v: float) -> float | None:
+    return None if v is None or (isinstance(v, float) and math.isnan(v)) else float(v)
+
+
+def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
+    """Everything the JSON export holds, as plain Python objects."""
+    table = export_table(result)
+    records = []
+    cols = list(table.columns)
+    arrays = [table[c].to_numpy() for c in cols]
+    for row in zip(*arrays, strict=True):
+        rec: dict[str, Any] = {}
+        for c, v in zip(cols, row, strict=True):
+            if isinstance(v, np.floating | float):
+                rec[c] = _num(float(v))
+            elif isinstance(v, np.bool_ | bool):
+                rec[c] = bool(v)
+            else:
+                rec[c] = v
+        records.append(rec)
+    return {
+        "base": result.base_label,
+        "frequency": result.frequency.describe(),
+        "dollars": result.dollars_label,
+        "columns": cols,
+        "records": records,
+        "method": list(result.method_note()),
+        "cautions": list(CAUTIONS),
+        "warnings": [p.as_dict() for p in result.warnings],
+        "context": {k: v for k, v in _context_lines(context)},
+    }
+
+
+def write_json(result: DeflationResult, path: Path, **context: Any) -> None:
+    data = result_dict(result, **context)
+    with open(path, "w", encoding="utf-8") as fh:
+        json.dump(data, fh, ensure_ascii=False, indent=1, allow_nan=False)
+        fh.write("\n")
+
+
+def write_data_sheet(wb: Any, table: pd.DataFrame, title: str = "Real terms") -> Any:
+    """Append a sheet holding ``table`` (header row + values), text neutralised."""
+    if len(table) + 1 > XLSX_MAX_ROWS:
+        raise fail(EX003, f"{len(table)} rows do not fit on one Excel sheet",
+                   expected=f"at most {XLSX_MAX_ROWS - 1} rows", found=str(len(table)),
+                   fix="Export CSV or JSON instead, or deflate fewer series at a time.")
+    ws = wb.create_sheet(title)
+    ws.append(list(table.columns))
+    safe = neutralise_frame(table)
+    cols = [safe[c].to_numpy() for c in safe.columns]
+    for row in zip(*cols, strict=True):
+        ws.append([_cell(v) for v in row])
+    return ws
+
+
+def _cell(v: object) -> object:
+    if isinstance(v, np.floating | float):
+        return None if math.isnan(float(v)) else float(v)
+    if isinstance(v, np.bool_):
+        return bool(v)
+    if isinstance(v, np.integer):
+        return int(v)
+    return v
+
+
+def write_method_sheet(wb: Any, result: DeflationResult, context: Mapping[str, Any],
+                       title: str = "Method") -> Any:
+    """Append the method sheet: base, method note, cautions, warnings, context."""
+    ws = wb.create_sheet(title)
+    ws.append(["Real terms", result.dollars_label])
+    ws.append(["Results", result.frequency.describe()])
+    ws.append([])
+    ws.append(["Method"])
+    for line in result.method_note():
+        ws.append(["", neutralise(line)])
+    ws.append([])
+    ws.append(["Cautions"])
+    for line in CAUTIONS:
+        ws.append(["", line])
+    if result.warnings:
+        ws.append([])
+        ws.append(["Warnings"])
+        for p in result.warnings:
+            ws.append([p.code, neutralise(p.render())])
+    ctx = _context_lines(context)
+    if ctx:
+        ws.append([])
+        ws.append(["Context"])
+        for k, v in ctx:
+            ws.append([neutralise(k), neutralise(v)])
+    return ws
+
+
+def build_workbook(result: DeflationResult, **context: Any) -> Any:
+    """The export workbook (openpyxl, write-only) before saving: data and method sheets."""
+    from openpyxl import Workbook
+
+    wb = Workbook(write_only=True)
+    write_data_sheet(wb, export_table(result))
+    write_method_sheet(wb, result, context)
+    return wb
+
+
+def write_xlsx(result: DeflationResult, path: Path, **context: Any) -> None:
+    build_workbook(result, **context).save(path)
+
+
+def write_result(result: DeflationResult, path: str | Path, **context: Any) -> Path:
+    """Write ``result`` to ``path``; the suffix (.csv, .json, .xlsx) picks the format.
+    ``context`` (e.g. files=..., command=...) is recorded in the JSON and the method sheet.
+    """
+    p = Path(path)
+    suffix = p.suffix.lower()
+    if suffix not in SUFFIXES:
+        raise fail(EX001, f"cannot write {p.name!r}: unknown export format",
+                   expected="a file name ending in .csv, .json or .xlsx",
+                   found=suffix or "(no suffix)", file=str(p),
+                   fix="Name the output file with one of those suffixes.")
+    try:
+        if suffix == ".csv":
+            write_csv(result, p)
+        elif suffix == ".json":
+            write_json(result, p, **context)
+        else:
+            write_xlsx(result, p, **context)
+    except OSError as err:
+        raise fail(EX002, f"could not write {p.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(p),
+                   fix="Check that the folder exists and that you may write there.") from None
+    return p
