@@ -750,9 +750,15 @@ class AdjustedDeflation:
     nominal: Mapping[str, Adjustment]
     real: Mapping[tuple[str, str], Adjustment]
     warnings: tuple[Problem, ...] = ()
+    result: Any = None
 
     def adjustments(self) -> tuple[Adjustment, ...]:
         return (*self.nominal.values(), *self.real.values())
+
+    def as_result(self) -> AdjustedResultView:
+        """The deflation result seen with the adjusted columns, for the exports
+        (``pipeline.export.write_result`` takes it like a DeflationResult)."""
+        return AdjustedResultView(self)
 
     def method_note(self) -> tuple[str, ...]:
         first = next(iter(self.nominal.values()), None)
@@ -763,6 +769,31 @@ class AdjustedDeflation:
             notes.append(f"{a.name}: strength of seasonality "
                          f"{a.diagnostics.seasonal_strength:.2f}; {a.diagnostics.verdict()}.")
         return tuple(notes)
+
+
+class AdjustedResultView:
+    """A DeflationResult with ``nominal_sa`` and ``real_sa`` added to its table, the
+    seasonal-adjustment method note appended and its warnings added; every other attribute
+    is the wrapped result's. Lets the exports write adjusted results unchanged."""
+
+    def __init__(self, adjusted: AdjustedDeflation) -> None:
+        self._adjusted = adjusted
+        self._result = adjusted.result
+
+    def __getattr__(self, name: str) -> Any:
+        return getattr(self._result, name)
+
+    def table(self, *, flags: bool = False) -> pd.DataFrame:
+        base = self._result.table(flags=flags)
+        sa_cols = self._adjusted.table
+        return base.assign(**{c: sa_cols[c].to_numpy() for c in SA_COLUMNS})
+
+    def method_note(self) -> tuple[str, ...]:
+        return (*self._result.method_note(), *self._adjusted.method_note())
+
+    @property
+    def warnings(self) -> tuple[Problem, ...]:
+        return (*self._result.warnings, *self._adjusted.warnings)
 
 
 def check_order(order: str) -> None:
@@ -836,4 +867,4 @@ def adjust_deflation(result: Any, method: Method = "stl", *, order: str = DEFAUL
     s_i, d_i, t_i = np.nonzero(mask)
     table = table.assign(nominal_sa=nominal_sa[t_i, s_i], real_sa=real_sa[d_i, t_i, s_i])
     warns = tuple(w for a in done for w in a.warnings)
-    return AdjustedDeflation(table, method, order, nom_adj, real_adj, warns)
+    return AdjustedDeflation(table, method, order, nom_adj, real_adj, warns, result)

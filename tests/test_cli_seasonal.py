@@ -117,3 +117,29 @@ def test_adjust_of_one_series_matches_the_deflation_path(result, elec):
     one = adjust(elec, "stl-robust")
     np.testing.assert_allclose(out.nominal["orders"].adjusted.values, one.adjusted.values,
                                rtol=1e-12)
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".json", ".xlsx"])
+def test_exports_carry_the_adjusted_columns(result, tmp_path, suffix):
+    import json
+
+    from pipeline.export import write_result
+
+    adjusted = adjust_deflation(result, "stl")
+    path = write_result(adjusted.as_result(), tmp_path / f"out{suffix}", command="test")
+    expected = [*TABLE_COLUMNS, "nominal_sa", "real_sa"]
+    if suffix == ".csv":
+        back = pd.read_csv(path)
+        assert list(back.columns) == expected
+        np.testing.assert_allclose(back["real_sa"], adjusted.table["real_sa"], rtol=1e-12)
+    elif suffix == ".json":
+        data = json.loads(path.read_text())
+        assert data["columns"] == expected
+        assert any("Seasonal adjustment (stl)" in m for m in data["method"])
+    else:
+        from openpyxl import load_workbook
+
+        wb = load_workbook(path, read_only=True)
+        header = next(wb["Real terms"].iter_rows(max_row=1, values_only=True))
+        assert list(header) == expected
+        wb.close()
