@@ -1,0 +1,162 @@
+"""The app factory: ``create_app(settings) -> Dash``.
+
+Builds one Dash app over one :class:`~dashboard.data.DataAccess` (the workspace store
+plus a small per-app cache), the background-job manager of :mod:`dashboard.jobs`, the
+shell (header, navigation, one section per screen) and every screen found in
+:mod:`dashboard.screens`. When ``dashboard/access.py`` exists its
+``install(app, settings, store)`` is called last, so editor/reviewer enforcement wraps
+everything the screens registered.
+"""
+
+from __future__ import annotations
+
+import importlib
+import importlib.util
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+from urllib.parse import parse_qs
+
+from dash import Dash, Input, Output, State, ctx, dcc, html, no_update
+
+from pipeline.settings import Settings, load_settings
+from pipeline.store import WorkspaceStore
+
+from . import ids, jobs
+from .data import DataAccess, WorkspaceRef
+from .screens import ScreenInfo, discover
+
+ASSETS = Path(__file__).resolve().parent / "assets"
+APP_TITLE = "realbasis"
+TAGLINE = "Nominal money, stated in real terms"
+
+
+@dataclass
+class AppContext:
+    """Per-app state shared by the callbacks of one app (one per worker process).
+
+    ``resolve_workspace(search) -> WorkspaceRef`` turns the page address's query string
+    into the workspace to show; the access layer may replace it (reviewer links)."""
+
+    settings: Settings
+    data: DataAccess
+    screens: tuple[ScreenInfo, ...]
+    resolve_workspace: Callable[[str], WorkspaceRef] = field(default=None)  # type: ignore[assignment]
+
+
+def context(app: Dash) -> AppContext:
+    return app.server.extensions["realbasis"]
+
+
+def default_resolver(data: DataAccess) -> Callable[[str], WorkspaceRef]:
+    def resolve(search: str) -> WorkspaceRef:
+        query = parse_qs((search or "").lstrip("?"))
+        wanted = (query.get("ws") or [""])[0]
+        if wanted and data.store.exists(wanted):
+            return WorkspaceRef(wanted, data.store.current_version(wanted))
+        return data.demo_ref()
+
+    return resolve
+
+
+def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
+    first = screens[0].key if screens else ""
+    nav = html.Nav(
+        [html.Button(s.title, id=ids.nav_button(s.key), n_clicks=0, type="button",
+                     className="rb-nav-button" + (" rb-nav-active" if s.key == first else ""))
+         for s in screens],
+        id=ids.NAV, className="rb-nav", **{"aria-label": "Screens"})
+    sections = [html.Section(s.layout(), id=ids.screen_container(s.key), hidden=s.key != first,
+                             className="rb-screen", **{"aria-label": s.title})
+                for s in screens]
+    return html.Div([
+        dcc.Location(id=ids.URL, refresh=False),
+        dcc.Store(id=ids.WORKSPACE, storage_type="memory"),
+        dcc.Store(id=ids.SCREEN, data=first),
+        html.Header([
+            html.Div([html.H1(APP_TITLE), html.P(TAGLINE, className="rb-tagline")],
+                     className="rb-brand"),
+            html.P(id=ids.WORKSPACE_LABEL, className="rb-workspace-label", role="status"),
+        ], className="rb-header"),
+        nav,
+        html.Main(sections, className="rb-main"),
+        html.Footer(html.P("realbasis — analytical estimates, not official statistics."),
+                    className="rb-footer"),
+    ], className="rb-app")
+
+
+def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
+    keys = [s.key for s in screens]
+    titles = {s.key: s.title for s in screens}
+    rb = context(app)
+
+    @app.callback(
+        Output(ids.WORKSPACE, "data"),
+        Input(ids.URL, "search"),
+        State(ids.WORKSPACE, "data"),
+    )
+    def _resolve_workspace(search: str | None, current: Any) -> Any:
+        ref = rb.resolve_workspace(search or "")
+        old = WorkspaceRef.from_dict(current)
+        if old is not None and old.id == ref.id and old.version >= ref.version:
+            return no_update
+        return ref.as_dict()
+
+    @app.callback(Output(ids.WORKSPACE_LABEL, "children"), Input(ids.WORKSPACE, "data"))
+    def _workspace_label(data: Any) -> Any:
+        ref = WorkspaceRef.from_dict(data)
+        if ref is None:
+            return "Opening workspace…"
+        ws = rb.data.load(ref)
+        return ["Workspace: ", html.Strong(ws.name), f" · version {ws.version:,}"]
+
+    @app.callback(
+        [Output(ids.screen_container(k), "hidden") for k in keys]
+        + [Output(ids.nav_button(k), "className") for k in keys]
+        + [Output(ids.SCREEN, "data")],
+        [Input(ids.nav_button(k), "n_clicks") for k in keys] + [Input(ids.URL, "hash")],
+    )
+    def _switch(*args: Any) -> list[Any]:
+        trigger = ctx.triggered_id
+        if isinstance(trigger, str) and trigger.startswith("rb-nav-"):
+            chosen = trigger.removeprefix("rb-nav-")
+        else:
+            chosen = (args[-1] or "").lstrip("#")
+        if chosen not in titles:
+            chosen = keys[0]
+        return ([k != chosen for k in keys]
+                + ["rb-nav-button" + (" rb-nav-active" if k == chosen else "") for k in keys]
+                + [chosen])
+
+
+def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None = None) -> Dash:
+    """A new Dash app. ``settings`` default: :func:`pipeline.settings.load_settings`."""
+    settings = settings or load_settings()
+    data = DataAccess(settings, store)
+    screens = discover()
+    app = Dash(
+        __name__,
+        title=APP_TITLE,
+        update_title=None,
+        assets_folder=str(ASSETS),
+        background_callback_manager=jobs.make_manager(settings),
+        serve_locally=True,
+    )
+    server = app.server
+    server.secret_key = jobs.secret_key(settings)
+    # Uploads travel base64-encoded in JSON (4/3 of the file). Requests far above the
+    # upload limit are cut off by Flask; files up to twice the limit still reach the
+    # intake, which refuses them with a clear message (UI001).
+    server.config["MAX_CONTENT_LENGTH"] = int(settings.max_upload_bytes * 8 / 3) + 1_000_000
+    rb = AppContext(settings, data, screens)
+    rb.resolve_workspace = default_resolver(data)
+    server.extensions["realbasis"] = rb
+    app.layout = lambda: shell_layout(screens)
+    _register_shell(app, screens)
+    for screen in screens:
+        screen.register(app)
+    if importlib.util.find_spec(f"{__package__}.access") is not None:
+        access = importlib.import_module(f"{__package__}.access")
+        access.install(app, settings, data.store)
+    return app

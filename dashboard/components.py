@@ -1,0 +1,176 @@
+"""Pure builders of page pieces: plain data in, Dash components out.
+
+Nothing here touches the store or the engine, so every builder is unit-tested by looking
+at the component tree it returns. User text is only ever passed as component children
+(text nodes, escaped by React); nothing here renders HTML or Markdown from user input.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any, Literal
+
+from dash import dcc, html
+
+from pipeline.model import CAUTIONS
+
+ColumnKind = Literal["text", "number", "percent", "index"]
+
+
+@dataclass(frozen=True)
+class Column:
+    key: str
+    label: str
+    kind: ColumnKind = "text"
+    decimals: int = 1
+
+
+def fmt_number(value: object, decimals: int = 1) -> str:
+    """Thousands separators and a fixed number of decimals; a dash for missing."""
+    if value is None:
+        return "–"
+    try:
+        x = float(value)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        return str(value)
+    if math.isnan(x):
+        return "–"
+    if math.isinf(x):
+        return "∞" if x > 0 else "-∞"
+    text = f"{x:,.{decimals}f}"
+    return "0" + text[2:] if text.startswith("-0") and float(text.replace(",", "")) == 0 else text
+
+
+def fmt_percent(value: object, decimals: int = 1) -> str:
+    """A fraction as a signed percentage: 0.0234 -> '+2.3 %'."""
+    if value is None:
+        return "–"
+    try:
+        x = float(value)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        return str(value)
+    if math.isnan(x):
+        return "–"
+    pct = round(x * 100, decimals)
+    if pct == 0:
+        pct = 0.0
+    return f"{pct:+,.{decimals}f} %"
+
+
+def format_cell(value: object, column: Column) -> str:
+    if column.kind == "number":
+        return fmt_number(value, column.decimals)
+    if column.kind == "index":
+        return fmt_number(value, column.decimals or 1)
+    if column.kind == "percent":
+        return fmt_percent(value, column.decimals)
+    return "" if value is None else str(value)
+
+
+def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
+          caption: str | None = None, id: str | None = None,
+          empty: str = "Nothing to show.") -> html.Table | html.P:
+    """An accessible HTML table; numbers right-aligned and formatted."""
+    rows = list(rows)
+    if not rows:
+        return html.P(empty, className="rb-empty", id=id) if id else html.P(empty, className="rb-empty")
+    head = html.Thead(html.Tr([html.Th(c.label, scope="col",
+                                       className=f"rb-{c.kind}") for c in columns]))
+    body = html.Tbody([
+        html.Tr([html.Td(format_cell(r.get(c.key), c), className=f"rb-{c.kind}")
+                 for c in columns])
+        for r in rows
+    ])
+    children: list[Any] = []
+    if caption:
+        children.append(html.Caption(caption))
+    children += [head, body]
+    kwargs: dict[str, Any] = {"className": "rb-table"}
+    if id:
+        kwargs["id"] = id
+    return html.Table(children, **kwargs)
+
+
+def field(label: str, control: Any, control_id: str, hint: str | None = None) -> html.Div:
+    """A labelled control (the label is tied to the control for screen readers)."""
+    parts: list[Any] = [html.Label(label, htmlFor=control_id, className="rb-label"), control]
+    if hint:
+        parts.append(html.Small(hint, className="rb-hint"))
+    return html.Div(parts, className="rb-field")
+
+
+def notice(text: str | Sequence[str] | None, tone: Literal["info", "ok", "warn", "error"] = "info"
+           ) -> html.Div | None:
+    """A status line (role=status, or role=alert for errors)."""
+    if not text:
+        return None
+    lines = [text] if isinstance(text, str) else list(text)
+    role = "alert" if tone == "error" else "status"
+    return html.Div([html.P(line) for line in lines], className=f"rb-notice rb-{tone}", role=role)
+
+
+def problems_view(problems: Sequence[Mapping[str, Any]], *, title: str = "Problems found"
+                  ) -> html.Section:
+    """The problem list: code, severity, where, what, expected/found and the fix."""
+    if not problems:
+        return html.Section([html.H3(title), html.P("No problems found.", className="rb-ok")],
+                            className="rb-problems")
+    items = []
+    for p in problems:
+        where = p.get("where_text") or ""
+        lines: list[Any] = [
+            html.Span(str(p.get("code", "")), className="rb-code"), " ",
+            html.Span(str(p.get("severity", "error")), className=f"rb-sev rb-{p.get('severity', 'error')}"),
+            " ", html.Span(str(p.get("message", ""))),
+        ]
+        detail = []
+        if where:
+            detail.append(html.Li(["where: ", where]))
+        for key in ("expected", "found", "fix"):
+            if p.get(key):
+                detail.append(html.Li([f"{key}: ", str(p[key])]))
+        items.append(html.Li([html.Div(lines), html.Ul(detail)] if detail else [html.Div(lines)]))
+    n_err = sum(1 for p in problems if p.get("severity", "error") == "error")
+    n_warn = len(problems) - n_err
+    return html.Section([html.H3(f"{title}: {n_err:,} error(s), {n_warn:,} warning(s)"),
+                         html.Ul(items, className="rb-problem-list")], className="rb-problems")
+
+
+def method_view(lines: Sequence[str], *, title: str = "How these figures were computed"
+                ) -> html.Section:
+    if not lines:
+        return html.Section([html.H3(title), html.P("Nothing computed yet.")],
+                            className="rb-method")
+    return html.Section([html.H3(title), html.Ol([html.Li(line) for line in lines])],
+                        className="rb-method")
+
+
+def warnings_view(warnings: Sequence[Mapping[str, Any]]) -> html.Section | None:
+    if not warnings:
+        return None
+    return problems_view(warnings, title="Notes on these figures")
+
+
+def cautions_view(cautions: Sequence[str] = CAUTIONS) -> html.Aside:
+    return html.Aside([html.H3("Cautions"), html.Ul([html.Li(c) for c in cautions])],
+                      className="rb-cautions", **{"aria-label": "Cautions"})
+
+
+def progress_bar(bar_id: str) -> html.Progress:
+    """A native progress element driven by a background callback."""
+    return html.Progress(id=bar_id, value="0", max="1", className="rb-progress",
+                         style={"visibility": "hidden"}, **{"aria-label": "Progress"})
+
+
+def dropdown(control_id: str, *, multi: bool = False, clearable: bool = False,
+             placeholder: str = "") -> dcc.Dropdown:
+    """A searchable, keyboard-usable select."""
+    return dcc.Dropdown(id=control_id, options=[], multi=multi, clearable=clearable,
+                        placeholder=placeholder, className="rb-dropdown")
+
+
+def screen(title: str, intro: str, *children: Any) -> html.Div:
+    return html.Div([html.H2(title), html.P(intro, className="rb-intro"), *children],
+                    className="rb-screen-body")

@@ -1,0 +1,108 @@
+"""Every component id of the dashboard, in one place.
+
+Ids are plain strings; screens import them from here so a rename touches one line and
+tests can address components without guessing. Prefixes name the screen.
+"""
+
+from __future__ import annotations
+
+# Shell
+URL = "rb-url"
+WORKSPACE = "rb-workspace"          # dcc.Store {"id": str, "version": int} (browser holds ids only)
+NAV = "rb-nav"
+SCREEN = "rb-screen"                # dcc.Store: key of the screen shown
+WORKSPACE_LABEL = "rb-workspace-label"
+CAUTIONS = "rb-cautions"
+
+
+def nav_button(key: str) -> str:
+    return f"rb-nav-{key}"
+
+
+def screen_container(key: str) -> str:
+    return f"rb-screen-{key}"
+
+
+# Intake
+IN_UPLOAD = "in-upload"
+IN_FY_START = "in-fy-start"
+IN_KIND_SERIES = "in-kind-series"
+IN_KIND_VALUE = "in-kind-value"
+IN_KINDS = "in-kinds"               # dcc.Store {series name: kind} corrections
+IN_KIND_APPLY = "in-kind-apply"
+IN_PENDING = "in-pending"           # dcc.Store: upload id of the parsed, unsaved file
+IN_ADD = "in-add"
+IN_STATUS = "in-status"
+IN_SUMMARY = "in-summary"
+IN_ADDED = "in-added"
+IN_NEW_NAME = "in-new-name"
+IN_LAYOUT = "in-layout"
+IN_PROGRESS = "in-progress"
+IN_PREVIEW = "in-preview"
+IN_SERIES_TABLE = "in-series-table"
+IN_PROBLEMS = "in-problems"
+IN_WORKSPACE_LIST = "in-workspace-list"
+IN_NEW_WORKSPACE = "in-new-workspace"
+IN_REREAD = "in-reread"
+
+# Deflator shelf
+SH_TABLE = "sh-table"
+SH_INDEX = "sh-index"
+SH_TARGET = "sh-target"
+SH_FIGURE = "sh-figure"
+SH_REBASE_BASE = "sh-rebase-base"
+SH_REBASE = "sh-rebase"
+SH_LINK_OLD = "sh-link-old"
+SH_LINK_NEW = "sh-link-new"
+SH_LINK_OVERLAP = "sh-link-overlap"
+SH_LINK = "sh-link"
+SH_PROJECT_INDEX = "sh-project-index"
+SH_PROJECT_RATE = "sh-project-rate"
+SH_PROJECT_UNTIL = "sh-project-until"
+SH_PROJECT = "sh-project"
+SH_COST_NAME = "sh-cost-name"
+SH_COST_COMPONENTS = "sh-cost-components"
+SH_COST_WEIGHTS = "sh-cost-weights"
+SH_COST_METHOD = "sh-cost-method"
+SH_COST_BUILD = "sh-cost-build"
+SH_MESSAGE = "sh-message"
+SH_METHOD = "sh-method"
+
+# Real terms
+RT_SERIES = "rt-series"
+RT_DEFLATOR = "rt-deflator"
+RT_BASE = "rt-base"
+RT_FREQ = "rt-freq"
+RT_SA = "rt-sa"
+RT_FIGURE = "rt-figure"
+RT_TITLE = "rt-title"
+RT_GROWTH = "rt-growth"
+RT_METHOD = "rt-method"
+RT_WARNINGS = "rt-warnings"
+RT_SAVE = "rt-save"
+RT_SAVED = "rt-saved"
+
+# Deflator spread
+SP_SERIES = "sp-series"
+SP_DEFLATORS = "sp-deflators"
+SP_BASE = "sp-base"
+SP_FREQ = "sp-freq"
+SP_MEASURE = "sp-measure"
+SP_FIGURE = "sp-figure"
+SP_TITLE = "sp-title"
+SP_VERDICT = "sp-verdict"
+SP_GROWTH = "sp-growth"
+SP_METHOD = "sp-method"
+SP_WARNINGS = "sp-warnings"
+
+# Revisions
+RV_INDEX = "rv-index"
+RV_OLD = "rv-old"
+RV_NEW = "rv-new"
+RV_SERIES = "rv-series"
+RV_BASE = "rv-base"
+RV_FIGURE = "rv-figure"
+RV_TABLE = "rv-table"
+RV_SUMMARY = "rv-summary"
+RV_METHOD = "rv-method"
+RV_WARNINGS = "rv-warnings"

@@ -1,0 +1,846 @@
+"""What the callbacks do, as plain functions (unit-tested without a browser).
+
+Callbacks in :mod:`dashboard.screens` are a few lines: they turn component values into
+arguments, call a function here, and put its result into components. Functions here take
+and return plain data (workspaces, engine results, lists of dicts) and call the engine
+(:mod:`pipeline`) for every computation; nothing here recomputes what the engine does.
+"""
+
+from __future__ import annotations
+
+import base64
+import binascii
+import calendar
+import dataclasses
+import io
+import math
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import pandas as pd
+
+from pipeline.errors import Problem, RealbasisError, fail, register
+from pipeline.model import KINDS, Frequency, Series, Workspace
+
+from .components import fmt_number
+
+UI001 = register("UI001", "uploaded file is too large")
+UI002 = register("UI002", "upload could not be decoded")
+UI004 = register("UI004", "series cannot be totalled")
+UI005 = register("UI005", "nothing chosen to compute")
+
+TOTAL = "__total__"
+TOTAL_LABEL = "Total of all series"
+ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm")
+
+
+# --------------------------------------------------------------------------- problems
+
+
+def problem_dict(p: Problem) -> dict[str, Any]:
+    """A problem as plain data for the views (and the browser): never HTML."""
+    d = p.as_dict()
+    d["where_text"] = p.where.render()
+    return d
+
+
+def problem_dicts(problems: Sequence[Problem]) -> list[dict[str, Any]]:
+    return [problem_dict(p) for p in problems]
+
+
+def error_dicts(err: RealbasisError) -> list[dict[str, Any]]:
+    return problem_dicts(err.problems)
+
+
+# --------------------------------------------------------------------------- uploads
+
+
+def decode_upload(contents: str | None, filename: str | None, max_bytes: int) -> bytes:
+    """The bytes of a dcc.Upload ``contents`` data URL, refusing files over ``max_bytes``
+    before decoding them (UI001) and undecodable payloads (UI002)."""
+    if not contents or "," not in contents:
+        raise fail(UI002, "the upload arrived empty or garbled", expected="a file",
+                   found=repr((contents or "")[:40]), fix="Drop the file again.",
+                   file=filename)
+    header, payload = contents.split(",", 1)
+    estimated = len(payload) * 3 // 4 - payload[-2:].count("=")
+    if estimated > max_bytes:
+        raise fail(UI001, f"the file is {_size(estimated)}; the largest accepted is "
+                          f"{_size(max_bytes)}",
+                   expected=f"at most {max_bytes:,} bytes",
+                   found=f"{estimated:,} bytes",
+                   fix="Split the file, drop columns you do not need, or ask the "
+                       "administrator to raise REALBASIS_MAX_UPLOAD_BYTES.",
+                   file=filename)
+    if ";base64" not in header:
+        raise fail(UI002, "the upload is not base64-encoded", expected="a data URL with base64",
+                   found=header[:60], fix="Drop the file again.", file=filename)
+    try:
+        return base64.b64decode(payload, validate=True)
+    except (binascii.Error, ValueError):
+        raise fail(UI002, "the upload could not be decoded", expected="base64 data",
+                   found="invalid characters", fix="Drop the file again.",
+                   file=filename) from None
+
+
+def _size(n: int) -> str:
+    if n >= 1024 * 1024:
+        return f"{n / (1024 * 1024):,.1f} MB"
+    if n >= 1024:
+        return f"{n / 1024:,.1f} kB"
+    return f"{n:,} bytes"
+
+
+def preview(data: bytes, filename: str, rows: int = 8) -> tuple[list[str], list[dict[str, str]]]:
+    """The first rows of the file as text, exactly as written (no interpretation)."""
+    name = filename.lower()
+    if name.endswith((".xlsx", ".xlsm")):
+        frame = pd.read_excel(io.BytesIO(data), nrows=rows, dtype=str, header=None)
+    else:
+        try:
+            frame = pd.read_csv(io.BytesIO(data), nrows=rows, dtype=str, header=None,
+                                sep=None, engine="python", encoding_errors="replace")
+        except (pd.errors.ParserError, UnicodeDecodeError, ValueError):
+            text = data[:4000].decode("utf-8", errors="replace").splitlines()[:rows]
+            return ["line"], [{"line": t} for t in text]
+    frame = frame.fillna("")
+    columns = [f"column {i + 1}" for i in range(frame.shape[1])]
+    out = [{c: str(v) for c, v in zip(columns, row, strict=True)}
+           for row in frame.itertuples(index=False)]
+    return columns, out
+
+
+def month_options() -> list[dict[str, Any]]:
+    opts: list[dict[str, Any]] = [{"label": "Not stated (labels need no fiscal year)",
+                                   "value": 0}]
+    opts += [{"label": f"Fiscal year starts in {calendar.month_name[m]}", "value": m}
+             for m in range(1, 13)]
+    return opts
+
+
+def kind_options() -> list[dict[str, str]]:
+    words = {"flow": "flow (amount over a period: revenue, spending)",
+             "stock": "stock (amount at a date: a balance)",
+             "index": "price index"}
+    return [{"label": words[k], "value": k} for k in KINDS]
+
+
+def read_upload(data: bytes, filename: str, *, fy_start: int | None,
+                kinds: Mapping[str, str] | None, settings: Any = None) -> Any:
+    """Read a file through the intake (pipeline.ingest.read_file)."""
+    from pipeline.ingest import read_file
+
+    return read_file(data, filename=filename, fy_start=fy_start or None,
+                     kinds=dict(kinds or {}) or None, settings=settings)
+
+
+def stretch_text(s: Series) -> str:
+    st = s.stretches()
+    parts = []
+    if st.get("preliminary"):
+        a, b = st["preliminary"]  # type: ignore[misc]
+        parts.append(f"preliminary {a}–{b}" if a != b else f"preliminary {a}")
+    if st.get("projected"):
+        a, b = st["projected"]  # type: ignore[misc]
+        parts.append(f"projected {a}–{b}" if a != b else f"projected {a}")
+    return "; ".join(parts) or "all final"
+
+
+def span_text(s: Series) -> str:
+    values = s.values.dropna()
+    if values.empty:
+        return "no values"
+    return f"{s.frequency.label(values.index[0])} – {s.frequency.label(values.index[-1])}"
+
+
+def series_rows(series: Sequence[Series]) -> list[dict[str, Any]]:
+    """One row per series found: what the intake made of it."""
+    rows = []
+    for s in series:
+        values = s.values
+        rows.append({
+            "name": s.name, "frequency": s.frequency.describe(), "kind": s.kind,
+            "unit": s.unit or "not stated", "span": span_text(s),
+            "count": int(values.notna().sum()), "missing": int(values.isna().sum()),
+            "status": stretch_text(s), "vintage": s.vintage or "not stated",
+        })
+    return rows
+
+
+@dataclass(frozen=True)
+class IntakeView:
+    """What the intake screen shows about one uploaded file."""
+
+    filename: str
+    layout: str
+    series: list[dict[str, Any]]
+    problems: list[dict[str, Any]]
+    names: list[str]
+    can_add: bool
+    message: str
+
+
+def intake_view(intake: Any, filename: str) -> IntakeView:
+    errors = [p for p in intake.problems if p.severity == "error"]
+    names = [s.name for s in intake.series]
+    if errors:
+        msg = (f"{len(names):,} series found in {filename}, but {len(errors):,} problem(s) "
+               "must be fixed in the file before it can be added.")
+    elif names:
+        msg = f"{len(names):,} series found in {filename}. Check them, then add them."
+    else:
+        msg = f"No series found in {filename}."
+    return IntakeView(filename, str(getattr(intake, "layout", "")), series_rows(intake.series),
+                      problem_dicts(intake.problems), names, bool(names) and not errors, msg)
+
+
+def add_intake(ws: Workspace, series: Sequence[Series]) -> tuple[Workspace, str]:
+    """Put the series of an intake into a workspace: money series by name, price
+    indexes by name and vintage. Returns the new workspace (unsaved) and a summary."""
+    money = dict(ws.series)
+    indexes = {k: dict(v) for k, v in ws.indexes.items()}
+    added, replaced = 0, 0
+    for s in series:
+        if s.kind == "index":
+            vins = indexes.setdefault(s.name, {})
+            replaced += (s.vintage or "") in vins
+            vins[s.vintage or ""] = s
+        else:
+            replaced += s.name in money
+            money[s.name] = s
+        added += 1
+    n_idx = sum(1 for s in series if s.kind == "index")
+    summary = (f"Added {added - n_idx:,} money series and {n_idx:,} index series"
+               + (f" ({replaced:,} replaced an earlier one of the same name)" if replaced else "")
+               + ".")
+    return dataclasses.replace(ws, series=money, indexes=indexes), summary
+
+
+# --------------------------------------------------------------------------- workspace views
+
+
+def latest_vintage(vintages: Mapping[str, Series]) -> str:
+    """The newest vintage key (ISO dates sort as text; '' = unknown sorts first)."""
+    return sorted(vintages)[-1]
+
+
+def pick_index(ws: Workspace, name: str, vintage: str | None = None) -> Series:
+    vins = ws.indexes.get(name)
+    if not vins:
+        raise fail(UI005, f"no price index called {name!r} in this workspace",
+                   expected="an index listed on the deflator shelf", found=repr(name),
+                   fix="Choose another deflator or upload the index on the intake screen.")
+    key = latest_vintage(vins) if vintage is None else vintage
+    if key not in vins:
+        raise fail(UI005, f"index {name!r} has no vintage {key!r}",
+                   expected=", ".join(sorted(vins)), found=repr(key),
+                   fix="Choose one of the listed vintages.")
+    return vins[key]
+
+
+def series_options(ws: Workspace, *, with_total: bool = True) -> list[dict[str, str]]:
+    opts = [{"label": f"{name} ({s.unit or 'unit not stated'}, {s.frequency.describe()})",
+             "value": name} for name, s in ws.series.items()]
+    if with_total and len(ws.series) > 1 and total_groups(ws):
+        opts.append({"label": TOTAL_LABEL + " (same unit and frequency)", "value": TOTAL})
+    return opts
+
+
+def deflator_options(ws: Workspace) -> list[dict[str, str]]:
+    out = []
+    for name, vins in ws.indexes.items():
+        s = vins[latest_vintage(vins)]
+        vin = latest_vintage(vins) or "vintage not stated"
+        out.append({"label": f"{name} ({s.frequency.describe()}, {vin})", "value": name})
+    return out
+
+
+def total_groups(ws: Workspace) -> dict[tuple[str, str, str], list[str]]:
+    """Money series that can be totalled: same frequency, kind and unit."""
+    groups: dict[tuple[str, str, str], list[str]] = {}
+    for name, s in ws.series.items():
+        groups.setdefault((str(s.frequency), s.kind, s.unit or ""), []).append(name)
+    return {k: v for k, v in groups.items() if len(v) > 1}
+
+
+def pick_series(ws: Workspace, key: str, group_of: str | None = None) -> Series:
+    """A money series by name, or the total of all series that share the frequency,
+    kind and unit of ``group_of`` (default: the largest such group)."""
+    if key != TOTAL:
+        s = ws.series.get(key)
+        if s is None:
+            raise fail(UI005, f"no series called {key!r} in this workspace",
+                       expected="a series listed on the intake screen", found=repr(key),
+                       fix="Choose another series.")
+        return s
+    groups = total_groups(ws)
+    if not groups:
+        raise fail(UI004, "no two series share a frequency, kind and unit, so none can be "
+                          "totalled", expected="series of one frequency and unit",
+                   found=", ".join(f"{n} ({s.unit}, {s.frequency})" for n, s in ws.series.items()),
+                   fix="Choose a single series.")
+    names = max(groups.values(), key=len)
+    if group_of is not None:
+        for members in groups.values():
+            if group_of in members:
+                names = members
+    parts = [ws.series[n] for n in names]
+    first = parts[0]
+    frame = pd.concat([p.values for p in parts], axis=1)
+    total = frame.sum(axis=1, min_count=len(parts))  # a period missing in any part is missing
+    status = None
+    if any(p.status is not None for p in parts):
+        from pipeline.model import STATUS_RANK, STATUSES
+
+        ranks = pd.concat([p.status_or_final().map(STATUS_RANK) for p in parts], axis=1).max(axis=1)
+        status = ranks.map(dict(enumerate(STATUSES))).astype(object)
+    return Series(name=f"Total of {len(parts)} series", values=total.astype(float),
+                  frequency=first.frequency, kind=first.kind, unit=first.unit, status=status,
+                  notes=(f"sum of: {', '.join(names)}",))
+
+
+def frequency_options(ws: Workspace, series: Series | None) -> list[dict[str, str]]:
+    """Frequencies a result can be shown at: the series' own and the coarser ones."""
+    opts = [{"label": "Automatic (the series' own; the deflator's if less frequent)",
+             "value": "auto"}, {"label": "As the series", "value": "native"}]
+    if series is None:
+        return opts
+    ppy = series.frequency.periods_per_year
+    fy_starts = sorted({s.frequency.fy_start for s in ws.series.values() if s.frequency.is_fiscal})
+    if ppy > 4:
+        opts.append({"label": "Quarters", "value": "Q"})
+    if ppy > 1:
+        opts.append({"label": "Calendar years", "value": "A"})
+        for m in fy_starts or []:
+            opts.append({"label": f"Fiscal years starting {calendar.month_name[m]}",
+                         "value": f"FY-{m}"})
+    return opts
+
+
+def parse_frequency(code: str | None, series: Series | None = None,
+                    deflators: Sequence[Series] = ()) -> Frequency | None:
+    """The result frequency chosen on screen. ``auto``: the series' own, or the least
+    frequent deflator's when that is coarser (the engine refuses to deflate a series by a
+    less frequent index without interpolation)."""
+    if code == "auto":
+        if series is None or not deflators:
+            return None
+        coarsest = min(deflators, key=lambda d: d.frequency.periods_per_year).frequency
+        if coarsest.periods_per_year < series.frequency.periods_per_year:
+            if coarsest.code == "Q" and series.frequency.is_fiscal:
+                return Frequency("Q", series.frequency.fy_start)
+            if coarsest.code == "A" and series.frequency.is_fiscal:
+                return Frequency("FY", series.frequency.fy_start)
+            return coarsest
+        return None
+    if not code or code == "native":
+        return None
+    if code.startswith("FY-"):
+        return Frequency("FY", int(code[3:]))
+    return Frequency(code)  # type: ignore[arg-type]
+
+
+def default_base(series: Series) -> str:
+    """A sensible first base: the last complete calendar or fiscal year of the series."""
+    values = series.values.dropna()
+    if values.empty:
+        return ""
+    f = series.frequency
+    if f.code in ("A", "FY"):
+        return f.label(values.index[-1])
+    last = values.index[-1]
+    per = f.periods_per_year
+    if f.is_fiscal:
+        year_end = last.qyear if f.code == "Q" else last.year
+        complete = last.quarter == 4 if f.code == "Q" else True
+        year = year_end if complete else year_end - 1
+        return f"FY{year}"
+    complete = (last.month == 12) if per == 12 else (last.quarter == 4)
+    return str(last.year if complete else last.year - 1)
+
+
+def base_for(series: Series, requested: str | None) -> str:
+    return (requested or "").strip() or default_base(series)
+
+
+def number(value: float | None, decimals: int = 1) -> str:
+    return fmt_number(value, decimals)
+
+
+def isfinite(x: object) -> bool:
+    try:
+        return math.isfinite(float(x))  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        return False
+
+
+# Shared by views that run a long computation with a progress callback.
+ProgressFn = Callable[[int, int], None]
+
+
+@dataclass(frozen=True)
+class Failure:
+    """A computation refused by the engine: its problems, for the views."""
+
+    problems: list[dict[str, Any]] = field(default_factory=list)
+
+
+# --------------------------------------------------------------------------- real terms
+
+
+@dataclass(frozen=True)
+class Computed:
+    """Nominal and real values of one series under one deflator, ready for the views."""
+
+    frame: pd.DataFrame            # period (label), nominal, real, deflator_index, status
+    nominal: pd.Series             # on a PeriodIndex (for growth)
+    real: pd.Series
+    frequency: Frequency
+    base_label: str
+    dollars_label: str
+    unit: str
+    method: tuple[str, ...]
+    warnings: tuple[Problem, ...]
+    series_name: str
+    deflator_name: str
+    vintage: str
+
+
+def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
+    return Series(name=name, values=values.astype(float), frequency=frequency,
+                  kind="flow" if like.kind == "index" else like.kind, unit=like.unit)
+
+
+def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None, *,
+                 to: str | None = "auto", sa: bool = False, vintage: str | None = None
+                 ) -> Computed:
+    """Deflate one series (or the total) by one deflator through the engine; optionally
+    seasonally adjust nominal and real (after deflation) through pipeline.seasonal."""
+    from pipeline.deflate import deflate
+
+    s = pick_series(ws, series_key)
+    d = pick_index(ws, deflator, vintage)
+    s, cut = trim_to_cover(s, [d])
+    base_text = base_for(s, base)
+    res = deflate([s], [d], base_text, to=parse_frequency(to, s, [d]))
+    nominal = res.nominal_series(s.name)
+    real = res.real_series(s.name, 0)
+    status = res.status_frame(0)[s.name].reindex(nominal.index)
+    index_used = res.index_frame(0)[s.name].reindex(nominal.index)
+    method = list(res.method_note()) + ([cut] if cut else [])
+    warnings = list(res.warnings)
+    if sa:
+        from pipeline.seasonal import adjust
+
+        adj_n = adjust(_money_series(nominal, s, res.frequency, f"{s.name} (nominal)"))
+        adj_r = adjust(_money_series(real, s, res.frequency, f"{s.name} (real)"))
+        nominal = adj_n.adjusted.values.reindex(nominal.index)
+        real = adj_r.adjusted.values.reindex(real.index)
+        method.append("Seasonal adjustment after deflation: the nominal and the real series "
+                      "were each adjusted the same way.")
+        method.extend(adj_r.method_note())
+        warnings.extend(adj_n.warnings)
+        warnings.extend(adj_r.warnings)
+    frame = pd.DataFrame({
+        "period": res.frequency.labels(nominal.index),
+        "nominal": nominal.to_numpy(), "real": real.to_numpy(),
+        "deflator_index": index_used.to_numpy(), "status": status.astype(str).to_numpy(),
+    })
+    return Computed(frame, nominal, real, res.frequency, res.base_label, res.dollars_label,
+                    s.unit or "unit not stated", tuple(method), tuple(warnings), s.name,
+                    d.name, d.vintage or "")
+
+
+def trim_to_cover(s: Series, deflators: Sequence[Series]) -> tuple[Series, str | None]:
+    """Cut the series to the periods every deflator covers (first to last value), so
+    deflators of different lengths can be compared. Only the ends are cut; a gap inside
+    a deflator is still refused by the engine. Returns the series and a note (or None)."""
+    values = s.values.dropna()
+    if values.empty or not deflators:
+        return s, None
+    start = max(d.values.dropna().index[0].start_time for d in deflators if d.values.notna().any())
+    end = min(d.values.dropna().index[-1].end_time for d in deflators if d.values.notna().any())
+    idx = s.values.index
+    keep = (idx.start_time >= start) & (idx.end_time <= end)
+    if keep.all():
+        return s, None
+    kept = s.values[keep]
+    if kept.dropna().empty:
+        raise fail(UI005, f"the chosen deflators do not cover any period of {s.name!r}",
+                   expected=f"index values from {s.frequency.label(idx[0])} to "
+                            f"{s.frequency.label(idx[-1])}",
+                   found=f"deflators covering {start:%Y-%m} to {end:%Y-%m}",
+                   fix="Choose deflators that cover the series, or project the index on the "
+                       "deflator shelf.")
+    status = s.status.reindex(kept.index) if s.status is not None else None
+    out = s.with_values(kept, status=status)
+    first, last = kept.dropna().index[0], kept.dropna().index[-1]
+    note = (f"{s.name} is shown from {s.frequency.label(first)} to {s.frequency.label(last)}, "
+            "the periods every chosen deflator covers.")
+    return out, note
+
+
+def real_title(c: Computed, *, sa: bool = False) -> str:
+    adj = ", seasonally adjusted" if sa else ""
+    return (f"{c.series_name} in {c.dollars_label} ({c.unit}{adj}), "
+            f"deflated by {c.deflator_name}")
+
+
+def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency
+                   ) -> list[dict[str, Any]]:
+    """Nominal, price and real growth by several measures (rates as fractions).
+
+    Every rate comes from pipeline.growth; price growth is that of the implicit
+    deflator 100 x nominal / real, so (1 + nominal) = (1 + real)(1 + price) exactly."""
+    from pipeline import growth
+
+    price = 100.0 * nominal / real
+    both = nominal.dropna().index.intersection(real.dropna().index)
+    rows: list[dict[str, Any]] = []
+    if len(both) < 2:
+        return rows
+    last, first = both[-1], both[0]
+    lab = frequency.label
+
+    def add(measure: str, fn: Callable[[pd.Series], float]) -> None:
+        vals = {k: fn(v) for k, v in (("nominal", nominal), ("price", price), ("real", real))}
+        rows.append({"measure": measure, **vals})
+
+    def at_last(g: Any) -> float:
+        v = g.values.get(last, float("nan"))
+        return float(v)
+
+    add(f"{lab(last)} on {lab(last - 1)}",
+        lambda v: at_last(growth.period_on_period(v, frequency)))
+    if frequency.periods_per_year > 1:
+        add(f"{lab(last)} on {lab(last - 1)}, annualised",
+            lambda v: at_last(growth.annualised(v, frequency)))
+        if (last - frequency.periods_per_year) in both:
+            add(f"{lab(last)} on a year earlier",
+                lambda v: at_last(growth.year_on_year(v, frequency)))
+    add(f"compound annual rate {lab(first)} to {lab(last)}",
+        lambda v: float(growth.cagr(v, first, last, frequency).value))
+    add(f"cumulative {lab(first)} to {lab(last)}",
+        lambda v: at_last(growth.cumulative(v, frequency, start=first)))
+    return rows
+
+
+def recent_rows(c: Computed, n: int = 8) -> list[dict[str, Any]]:
+    """The latest periods: levels, growth on a year earlier, status."""
+    from pipeline import growth
+
+    f = c.frequency
+    if f.periods_per_year > 1:
+        gn = growth.year_on_year(c.nominal, f).values
+        gr = growth.year_on_year(c.real, f).values
+    else:
+        gn = growth.period_on_period(c.nominal, f).values
+        gr = growth.period_on_period(c.real, f).values
+    rows = []
+    for p in c.nominal.index[-n:][::-1]:
+        rows.append({"period": f.label(p), "nominal": c.nominal.get(p), "real": c.real.get(p),
+                     "g_nominal": gn.get(p), "g_real": gr.get(p),
+                     "status": c.frame.set_index("period")["status"].get(f.label(p), "")})
+    return rows
+
+
+# --------------------------------------------------------------------------- deflator spread
+
+MEASURES = {
+    "yoy": "latest period on a year earlier",
+    "cagr": "compound annual rate over the whole span",
+    "pop": "latest period on the one before",
+}
+
+
+@dataclass(frozen=True)
+class Spread:
+    table: pd.DataFrame                 # the engine's tidy table (one series, many deflators)
+    rows: list[dict[str, Any]]          # per deflator: nominal, price and real growth
+    verdict: str
+    verdict_tone: str
+    title: str
+    unit: str
+    measure_words: str
+    method: tuple[str, ...]
+    warnings: tuple[Problem, ...]
+
+
+def spread(ws: Workspace, series_key: str, deflators: Sequence[str], base: str | None, *,
+           to: str | None = "auto", measure: str = "yoy") -> Spread:
+    """One series under every chosen deflator, with growth per deflator and a verdict."""
+    from pipeline import growth
+    from pipeline.deflate import deflate
+
+    if not deflators:
+        raise fail(UI005, "no deflator chosen", expected="one or more price indexes",
+                   found="none", fix="Tick the deflators to compare.")
+    s = pick_series(ws, series_key)
+    ds = [pick_index(ws, name) for name in deflators]
+    s, cut = trim_to_cover(s, ds)
+    res = deflate([s], ds, base_for(s, base), to=parse_frequency(to, s, ds))
+    table = res.table()
+    f = res.frequency
+    nominal = res.nominal_series(s.name)
+    rows = []
+    for name in res.deflator_names:
+        real = res.real_series(s.name, name)
+        price = 100.0 * nominal / real
+        rates = {}
+        for key, v in (("nominal", nominal), ("price", price), ("real", real)):
+            rates[key] = _measure(growth, v, f, measure)
+        worst = table.loc[table["deflator"] == name, "status"]
+        rows.append({"deflator": name, **rates, "status": _worst(worst)})
+    span = _measure_span(nominal, f, measure)
+    verdict, tone = verdict_text([r["real"] for r in rows], MEASURES.get(measure, measure), span)
+    title = f"{s.name} in {res.dollars_label} under {len(rows):,} deflator(s) ({s.unit or 'unit not stated'})"
+    return Spread(table, rows, verdict, tone, title, s.unit or "unit not stated",
+                  f"{MEASURES.get(measure, measure)} ({span})",
+                  (*res.method_note(), *([cut] if cut else [])), res.warnings)
+
+
+def _measure_span(nominal: pd.Series, f: Frequency, measure: str) -> str:
+    idx = nominal.dropna().index
+    if len(idx) < 2:
+        return ""
+    last = idx[-1]
+    if measure == "cagr":
+        return f"{f.label(idx[0])} to {f.label(last)}"
+    if measure == "yoy" and f.periods_per_year > 1:
+        return f"{f.label(last)} on {f.label(last - f.periods_per_year)}"
+    return f"{f.label(last)} on {f.label(last - 1)}"
+
+
+def _measure(growth: Any, v: pd.Series, f: Frequency, measure: str) -> float:
+    v = v.dropna()
+    if len(v) < 2:
+        return float("nan")
+    last = v.index[-1]
+    if measure == "cagr":
+        return float(growth.cagr(v, v.index[0], last, f).value)
+    if measure == "yoy" and f.periods_per_year > 1:
+        g = growth.year_on_year(v, f)
+    else:
+        g = growth.period_on_period(v, f)
+    return float(g.values.get(last, float("nan")))
+
+
+def _worst(statuses: pd.Series) -> str:
+    from pipeline.model import STATUS_RANK
+
+    if statuses.empty:
+        return "final"
+    return max(statuses, key=lambda s: STATUS_RANK.get(s, 0))
+
+
+def verdict_text(real_rates: Sequence[float], measure_words: str = "", span: str = ""
+                 ) -> tuple[str, str]:
+    """The plain verdict on the sign of real growth across deflators."""
+    usable = [r for r in real_rates if isfinite(r)]
+    n = len(usable)
+    what = f" ({measure_words}, {span})" if measure_words and span else ""
+    if n == 0:
+        return "Real growth cannot be computed for the chosen periods.", "warn"
+    word = "deflator" if n == 1 else "deflators"
+    pos = sum(1 for r in usable if r > 0)
+    neg = sum(1 for r in usable if r < 0)
+    if pos == n:
+        return (f"Real growth is positive under all {n:,} {word}{what}."
+                if n > 1 else f"Real growth is positive under the one deflator chosen{what}.",
+                "ok")
+    if neg == n:
+        return (f"Real growth is negative under all {n:,} {word}{what}."
+                if n > 1 else f"Real growth is negative under the one deflator chosen{what}.",
+                "warn")
+    if pos + neg == 0:
+        return f"Real growth is zero under all {n:,} {word}{what}.", "info"
+    return (f"The sign depends on the deflator: real growth is positive under {pos:,} and "
+            f"negative under {neg:,} of {n:,} {word}{what}.", "error")
+
+
+# --------------------------------------------------------------------------- revisions
+
+
+def revisable_indexes(ws: Workspace) -> list[dict[str, str]]:
+    """Indexes held in two or more vintages."""
+    return [{"label": f"{name} ({len(v):,} vintages)", "value": name}
+            for name, v in ws.indexes.items() if len(v) > 1]
+
+
+def vintage_options(ws: Workspace, name: str | None) -> list[dict[str, str]]:
+    if not name or name not in ws.indexes:
+        return []
+    return [{"label": (v or "vintage not stated") + f" ({stretch_text(s)})", "value": v}
+            for v, s in sorted(ws.indexes[name].items())]
+
+
+@dataclass(frozen=True)
+class Revisions:
+    comparison: Any          # pipeline.revisions.VintageComparison
+    impact: Any              # pipeline.revisions.RevisionImpact
+    table: pd.DataFrame      # impact rows of the chosen series
+    moved: list[dict[str, Any]]
+    summary: list[str]
+    title: str
+    unit: str
+    method: tuple[str, ...]
+    warnings: tuple[Problem, ...]
+
+
+def revisions(ws: Workspace, index: str, old: str, new: str, series_key: str,
+              base: str | None, *, to: str | None = "auto") -> Revisions:
+    """Two vintages of an index and what moved in the real figures (pipeline.revisions)."""
+    from pipeline.revisions import compare_vintages, revision_impact
+
+    if old == new:
+        raise fail(UI005, "the same vintage is chosen twice", expected="two different vintages",
+                   found=old or "vintage not stated", fix="Choose an earlier and a later vintage.")
+    o, n = pick_index(ws, index, old), pick_index(ws, index, new)
+    s = pick_series(ws, series_key)
+    cmp = compare_vintages(o, n)
+    impact = revision_impact([s], o, n, base_for(s, base), to=parse_frequency(to, s, [n]))
+    t = impact.table[impact.table["series"] == s.name].reset_index(drop=True)
+    changed = t[t["real_change"].abs() > 1e-9]
+    moved = changed.iloc[::-1].head(24).to_dict("records")
+    unit = s.unit or "unit not stated"
+    summary = [
+        f"{cmp.revised:,} index value(s) revised between {old or 'the undated vintage'} and "
+        f"{new or 'the undated vintage'}; {cmp.added:,} added; {cmp.finalised:,} turned final.",
+    ]
+    if cmp.largest is not None:
+        summary.append(f"Largest index revision: {cmp.largest[1]:+,.3f} points in "
+                       f"{cmp.largest[0]}.")
+    if len(changed):
+        big = changed.loc[changed["real_change"].abs().idxmax()]
+        summary.append(f"{len(changed):,} real value(s) of {s.name} moved; the largest move is "
+                       f"{big['real_change']:+,.1f} {unit} ({big['real_change_pct']:+,.2f} %) "
+                       f"in {big['period']}.")
+    else:
+        summary.append(f"No real value of {s.name} moved.")
+    title = (f"{s.name} in constant {impact.base} dollars under two vintages of {index} "
+             f"({unit})")
+    return Revisions(cmp, impact, t, moved, summary, title, unit,
+                     (*cmp.method_note(), *impact.method_note()),
+                     (*cmp.warnings, *impact.warnings))
+
+
+# --------------------------------------------------------------------------- deflator shelf
+
+
+def shelf_rows(ws: Workspace) -> list[dict[str, Any]]:
+    """One row per index and vintage: what it is, where it is 100, what is not final."""
+    rows = []
+    for name, vins in ws.indexes.items():
+        for vin, s in sorted(vins.items(), reverse=True):
+            rows.append({
+                "name": name, "vintage": vin or "not stated",
+                "frequency": s.frequency.describe(),
+                "reference": s.reference or (s.unit or "not stated"),
+                "span": span_text(s), "status": stretch_text(s),
+                "latest": "yes" if vin == latest_vintage(vins) else "",
+            })
+    return rows
+
+
+def index_options(ws: Workspace) -> list[dict[str, str]]:
+    return [{"label": name, "value": name} for name in ws.indexes]
+
+
+def figure_items(ws: Workspace, names: Sequence[str]) -> list[dict[str, Any]]:
+    items = []
+    for name in names:
+        if name not in ws.indexes:
+            continue
+        s = pick_index(ws, name)
+        v = s.values
+        items.append({"name": name, "x": [p.start_time.strftime("%Y-%m-%d") for p in v.index],
+                      "labels": s.frequency.labels(v.index), "y": v.to_numpy(),
+                      "status": s.status_or_final().astype(str).tolist()})
+    return items
+
+
+def _put_index(ws: Workspace, s: Series) -> Workspace:
+    indexes = {k: dict(v) for k, v in ws.indexes.items()}
+    indexes.setdefault(s.name, {})[s.vintage or ""] = s
+    return dataclasses.replace(ws, indexes=indexes)
+
+
+def rebase_index(ws: Workspace, name: str, base: str) -> tuple[Workspace, list[str]]:
+    """Add the index rebased to ``base`` = 100 (pipeline.indexes.rebase)."""
+    from pipeline.indexes import rebase
+
+    if not (base or "").strip():
+        raise fail(UI005, "no base period given", expected="a period such as 2024 or FY2025",
+                   found="nothing", fix="Type the new base period.")
+    s = pick_index(ws, name)
+    out = rebase(s, base.strip())
+    out = dataclasses.replace(out, name=f"{name} ({base.strip()}=100)")
+    return _put_index(ws, out), [
+        f"Added {out.name!r}: {name} rebased so that its average over {base.strip()} is 100 "
+        "(percent changes do not move)."]
+
+
+def link_indexes(ws: Workspace, old: str, new: str, overlap: str | None
+                 ) -> tuple[Workspace, list[str]]:
+    """Add the two segments linked at the overlap (pipeline.indexes.link)."""
+    from pipeline.indexes import link
+
+    if old == new:
+        raise fail(UI005, "the same index is chosen twice", expected="two different indexes",
+                   found=old, fix="Choose the older and the newer segment.")
+    linked = link(pick_index(ws, old), pick_index(ws, new), (overlap or "").strip() or None)
+    out = dataclasses.replace(linked.series, name=f"{old} linked with {new}")
+    return _put_index(ws, out), [
+        f"Added {out.name!r}: linked at {linked.overlap}, factor {linked.factor:,.6f}.",
+        linked.method, *(p.message for p in linked.warnings)]
+
+
+def project_index(ws: Workspace, name: str, rate_pct: float | None, until: str | None
+                  ) -> tuple[Workspace, list[str]]:
+    """Add the index extended to ``until`` at an assumed annual rate (pipeline.projection)."""
+    from pipeline.projection import project
+
+    if rate_pct is None or not isfinite(rate_pct) or not (until or "").strip():
+        raise fail(UI005, "projection needs an annual rate and an end period",
+                   expected="a rate in percent a year and a period such as 2030 or FY2030",
+                   found=f"rate {rate_pct!r}, until {until!r}",
+                   fix="Fill in both fields.")
+    p = project(pick_index(ws, name), float(rate_pct) / 100.0, until=until.strip())
+    out = dataclasses.replace(p.series, name=f"{name} projected at {float(rate_pct):g} % a year")
+    return _put_index(ws, out), [
+        f"Added {out.name!r}: {p.first} to {p.last} projected (assumed, not measured), "
+        f"at {float(rate_pct):g} % a year.", *(w.message for w in p.warnings)]
+
+
+COST_METHODS = {"fixed": "fixed weights", "annual-chain": "annual chain",
+                "tornqvist": "chained Törnqvist"}
+
+
+def build_cost_index(ws: Workspace, name: str | None, components: Sequence[str],
+                     weights_csv: str | None, method: str, settings: Any = None
+                     ) -> tuple[Workspace, list[str]]:
+    """Blend component indexes with yearly weights into an own cost index
+    (pipeline.costindex.blend); the weights table is read by the intake."""
+    from pipeline.costindex import blend, weights_from_series
+    from pipeline.ingest import read_file
+
+    if len(components) < 2:
+        raise fail(UI005, "a cost index needs two or more components",
+                   expected="two or more component indexes", found=f"{len(components)} chosen",
+                   fix="Choose the component indexes.")
+    if not (weights_csv or "").strip():
+        raise fail(UI005, "no weights given", expected="a small table: period, then one column "
+                   "per component", found="nothing", fix="Paste the weights table.")
+    intake = read_file(weights_csv.encode("utf-8"), filename="weights.csv",
+                       kinds={c: "flow" for c in components}, settings=settings)
+    intake.raise_for_errors()
+    weights = weights_from_series(list(intake.series), source="weights table")
+    title = (name or "").strip() or "Own cost index"
+    ci = blend([pick_index(ws, c) for c in components], weights,
+               methods=[method] if method in COST_METHODS else None, name=title)
+    out = ci.series(method if method in COST_METHODS else None, name=title)
+    out = dataclasses.replace(out, vintage=max((pick_index(ws, c).vintage or "")
+                                               for c in components) or None)
+    return _put_index(ws, out), [f"Added {title!r} ({COST_METHODS.get(method, method)}).",
+                                 *ci.method_note(), *(w.message for w in ci.warnings)]

@@ -1,0 +1,15 @@
+"""WSGI entry point for gunicorn: ``gunicorn dashboard.wsgi:server``.
+
+Settings come from the environment (REALBASIS_*; see pipeline.settings). Each gunicorn
+worker imports this module and builds its own app; they share the workspace store, the
+job cache directory and the secret key, nothing else.
+"""
+
+from __future__ import annotations
+
+from pipeline.settings import load_settings
+
+from .app import create_app
+
+app = create_app(load_settings())
+server = app.server
