@@ -6,11 +6,12 @@ Accepted (case and surrounding blanks ignored):
 style                  examples                   frequency
 =====================  =========================  ==================================
 ISO date (+ time)      2024-01-31, 2024-01-01     monthly (a column may make it Q/A)
-year-month             2024-01, 2024/1, 2024M01   monthly
+year-month             2024-01, 2024/1, 2024M01,  monthly
+                       2024-M01 (SDMX)
 month name             Jan 2024, January 2024,    monthly
                        Jan-2024, 2024 Jan
 quarter                2024Q1, 2024-Q1, Q1 2024   quarterly (calendar)
-calendar year          2024                       calendar years
+calendar year          2024, 2024-A1 (SDMX)       calendar years
 fiscal year            FY2025, FY 2025, FY-2025   fiscal years (needs start month)
 fiscal quarter         FY2025Q1, Q1 FY2025        fiscal quarters (needs start month)
 fiscal span            2024-25, 2024/25,          fiscal years (needs start month);
@@ -77,8 +78,8 @@ _Y = r"(?P<y>[12]\d{3})"
 # (kind, regex); each is tried with fullmatch on the labels not matched so far.
 _PATTERNS: tuple[tuple[int, str], ...] = (
     (DATE, _Y + r"-(?P<m>\d{1,2})-(?P<d>\d{1,2})(?:[T ]\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?Z?)?"),
-    (YEAR, _Y + r"(?:\.0+)?"),
-    (YM, _Y + r"(?:[-/]|\s*M)(?P<m>\d{1,2})"),
+    (YEAR, _Y + r"(?:\.0+|-A1?)?"),
+    (YM, _Y + r"(?:[-/]|\s*-?M)(?P<m>\d{1,2})"),
     (SPAN, _Y + r"\s*[-/]\s*(?P<y2>[12]\d{3})"),
     (QTR, _Y + r"\s*[- ]?\s*Q(?P<q>[1-4])"),
     (QTR, r"Q(?P<q>[1-4])\s*[- ]?\s*" + _Y),
@@ -381,6 +382,7 @@ def parse_label_column(values: Sequence[str], fy_start: int | None = None, *,
     value) only serve to locate those errors.
     """
     where: dict[str, object] = {"file": file, "column": column}
+    values = list(values.tolist() if isinstance(values, pd.Series | pd.Index | np.ndarray) else values)
     parsed = parse_values(values, fy_start, where=where)
     good = parsed.keys != ""
     keys, first = np.unique(parsed.keys[good].astype(str), return_index=True)
@@ -399,10 +401,8 @@ def parse_label_column(values: Sequence[str], fy_start: int | None = None, *,
                    file=file, column=column, row=row)
     idx, key = finish(parsed)
     bad_pos = np.flatnonzero(~good)
-    vals = values if isinstance(values, pd.Series) else None
-
     def _text(p: int) -> str:
-        v = vals.iloc[p] if vals is not None else values[p]
+        v = values[p]
         return "" if v is None or (isinstance(v, float) and np.isnan(v)) or v is pd.NA else str(v)
 
     bad = tuple((int(p), _text(int(p))) for p in bad_pos)
