@@ -277,6 +277,24 @@ class CostIndex:
                       status=self.status.copy(), reference=self.reference,
                       notes=self.method_note())
 
+    def recipe(self) -> dict[str, object]:
+        """A JSON-safe description (for ``Workspace.own_indexes``); rebuild the index with
+        :func:`blend_recipe` and the same component indexes."""
+        yf = self.weights.year_frequency
+        return {
+            "kind": "cost-index",
+            "name": self.name,
+            "components": list(self.components),
+            "methods": list(self.methods),
+            "link": self.link,
+            "fixed_year": yf.label(self.fixed_year),
+            "year_frequency": {"code": yf.code, "fy_start": yf.fy_start},
+            "weights_given_as": self.weights.given_as,
+            "weights": {lab: {c: float(v) for c, v in row.items()}
+                        for lab, (_, row) in zip(self.weights.labels(),
+                                                 self.weights.shares.iterrows(), strict=True)},
+        }
+
     def method_note(self) -> tuple[str, ...]:
         w = self.weights
         years = w.labels()
@@ -489,3 +507,34 @@ def _year(text: str, yf: Frequency) -> pd.Period:
 
     p, _ = parse_label(text, yf.fy_start if yf.code == "FY" else None)
     return p.asfreq(yf.pandas_freq)
+
+
+def blend_recipe(recipe: Mapping[str, object], components: Sequence[Series]) -> CostIndex:
+    """Rebuild a cost index from :meth:`CostIndex.recipe` and the component indexes
+    (looked up by name; extra series are ignored)."""
+    try:
+        names = [str(n) for n in recipe["components"]]  # type: ignore[union-attr]
+        yf_raw = recipe["year_frequency"]
+        yf = Frequency(str(yf_raw["code"]), int(yf_raw["fy_start"]))  # type: ignore[index,arg-type]
+        weights_raw = recipe["weights"]
+    except (KeyError, TypeError, ValueError) as exc:
+        raise fail(WS106, "own cost index recipe is incomplete",
+                   expected="components, year_frequency and weights",
+                   found=f"missing or bad {exc}", fix="Rebuild the index in the workshop.") from None
+    by_name = {c.name: c for c in components}
+    lacking = [n for n in names if n not in by_name]
+    if lacking:
+        raise fail(WS101, "component indexes of the recipe are missing",
+                   expected=", ".join(names), found="no " + ", ".join(lacking),
+                   fix="Load the component indexes the own cost index was built from.")
+    labels = list(weights_raw)  # type: ignore[arg-type]
+    idx = pd.PeriodIndex([_year(lab, yf) for lab in labels], freq=yf.pandas_freq)
+    wide = pd.DataFrame([weights_raw[lab] for lab in labels], index=idx)  # type: ignore[index]
+    weights = make_weights(wide[names], weights_as="shares")
+    given = recipe.get("weights_given_as", "shares")
+    weights = CostWeights(weights.shares, given, weights.year_frequency)  # type: ignore[arg-type]
+    return blend([by_name[n] for n in names], weights,
+                 methods=list(recipe.get("methods") or METHODS),  # type: ignore[call-overload]
+                 fixed_year=str(recipe.get("fixed_year")) if recipe.get("fixed_year") else None,
+                 link=str(recipe.get("link", "period")),  # type: ignore[arg-type]
+                 name=str(recipe.get("name", "Own cost index")))

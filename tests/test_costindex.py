@@ -199,3 +199,23 @@ def test_coded_errors():
     with pytest.raises(RealbasisError) as e:
         weights_from_long(bad, source="w.csv")
     assert e.value.code == "WS102" and e.value.problems[0].where.row == 3
+
+
+def test_recipe_round_trip_is_json_safe():
+    # Workspace.own_indexes holds JSON-safe recipes (pipeline.model.Workspace).
+    import json
+
+    from pipeline.costindex import blend_recipe
+
+    comps, _, _ = monthly_components()
+    yrs = pd.period_range("2022", periods=3, freq="Y")
+    w = make_weights(pd.DataFrame({"Goods": [60.0, 50, 30], "Wages": [40.0, 50, 70]}, index=yrs))
+    res = blend(comps, w, link="annual", fixed_year="2023")
+    recipe = json.loads(json.dumps(res.recipe()))
+    again = blend_recipe(recipe, comps)
+    pd.testing.assert_frame_equal(again.values, res.values)
+    assert again.fixed_year == pd.Period("2023", "Y")
+    assert again.weights.given_as == res.weights.given_as == "shares"  # rows sum to 100
+    with pytest.raises(RealbasisError) as e:
+        blend_recipe(recipe, comps[:1])
+    assert e.value.code == "WS101"

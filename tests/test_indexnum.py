@@ -280,3 +280,25 @@ def test_proportional_prices_give_the_proportion(data, lam):
         if f not in ("lowe", "young"):
             res = compute_index(tab, f, chained=True).values.iloc[1]
             assert res / 100 == pytest.approx(lam, rel=1e-10)
+
+
+def test_read_prices_from_xlsx_and_decimal_comma_csv(tmp_path):
+    # Files go through the intake reader (workbooks, semicolons, decimal commas) and give
+    # the same ILO/IMF CPI Manual 2004 ch. 19 chained Fisher values.
+    from pipeline.indexnum import read_prices
+
+    df = long_table(ILO_PRICES, ILO_QUANTITIES)
+    df["period"] = df["period"].astype(str)
+    xlsx = tmp_path / "prices.xlsx"
+    df.to_excel(xlsx, index=False, sheet_name="Prices")
+    semi = tmp_path / "prices.csv"
+    text = df.rename(columns=str.title).to_csv(sep=";", index=False)
+    semi.write_text(text.replace(".", ","))
+    for path in (xlsx, semi):
+        res = compute_index(read_prices(path), "fisher", chained=True)
+        assert res.values.to_numpy()[1:] / 100 == pytest.approx(ILO_CHAINED["fisher"], abs=6e-5)
+    bad = tmp_path / "bad.csv"
+    bad.write_text("period,item,price,quantity\n2024-01,a,1,1\nsoon,a,2,1\n")
+    with pytest.raises(RealbasisError) as e:
+        read_prices(bad)
+    assert e.value.code == "WS002" and e.value.problems[0].where.row == 3
