@@ -118,7 +118,7 @@ _STOCK_WORDS = re.compile(r"\b(balance|balances|stock|outstanding|debt|assets?|l
                           r"|eop|closing)\b", re.IGNORECASE)
 _FLOW_WORDS = re.compile(r"\b(revenue|revenues|sales|spending|spend|cost|costs|expenditure|"
                          r"expenses?|income|receipts|payments?|wages|payroll|turnover|outlays?|"
-                         r"budget|purchases|fares?)\b", re.IGNORECASE)
+                         r"budget|purchases|fares?|rent|paid)\b", re.IGNORECASE)
 _MONEY = re.compile(r"[$€£¥]|\b(USD|EUR|GBP|JPY|CAD|AUD|NZD|CHF|CNY|SEK|NOK|DKK|INR|dollars?|"
                     r"euros?|pounds?)\b", re.IGNORECASE)
 _UNIT_IN_HEADER = re.compile(r"^(?P<name>.*?)\s*[\(\[](?P<unit>[^\)\]]+)[\)\]]\s*$")
