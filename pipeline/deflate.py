@@ -73,6 +73,7 @@ TABLE_COLUMNS: tuple[str, ...] = (
     "series", "deflator", "period", "nominal", "deflator_index", "real", "status",
 )
 _STATUS_ARR = np.array(STATUSES, dtype=object)
+CATEGORICAL_ROWS = 1_000_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -164,33 +165,55 @@ class DeflationResult:
         return s.dropna()
 
     # -- tidy table ------------------------------------------------------------------
-    def table(self, *, flags: bool = False) -> pd.DataFrame:
+    def table(self, *, flags: bool = False, categorical: bool | None = None) -> pd.DataFrame:
         """Tidy table: EXACTLY ``series, deflator, period, nominal, deflator_index, real,
         status`` (periods as canonical labels: 2024-01, 2024Q1, 2024, FY2025), one row per
         series x deflator x period with a nominal value, ordered that way. ``flags=True``
-        adds a boolean ``interpolated`` column."""
+        adds a boolean ``interpolated`` column.
+
+        The four text columns are plain strings; tables of more than
+        :data:`CATEGORICAL_ROWS` rows use pandas categoricals for them instead (same values,
+        built in a fraction of the time and memory). ``categorical`` forces either."""
         d_n, t_n, s_n = len(self.deflator_names), len(self.periods), len(self.series_names)
         present = ~np.isnan(self.nominal)  # (T, S)
-        # order: series, deflator, period -> arrays shaped (S, D, T)
-        mask = np.broadcast_to(present.T[:, None, :], (s_n, d_n, t_n))
-        s_i, d_i, t_i = np.nonzero(mask)
-        data = {
-            "series": np.array(self.series_names, dtype=object)[s_i],
-            "deflator": np.array(self.deflator_names, dtype=object)[d_i],
-            "period": self.period_labels[t_i],
-            "nominal": self.nominal[t_i, s_i],
-            "deflator_index": self.index_used[d_i, t_i, s_i],
-            "real": self.real[d_i, t_i, s_i],
-            "status": _STATUS_ARR[np.asarray(self.status[d_i, t_i, s_i], dtype=np.intp)],
+
+        def flat(a: np.ndarray) -> np.ndarray:  # (D, T, S) -> order series, deflator, period
+            return np.asarray(a).transpose(2, 0, 1).reshape(-1)
+
+        s_i = np.repeat(np.arange(s_n), d_n * t_n)
+        d_i = np.tile(np.repeat(np.arange(d_n), t_n), s_n)
+        t_i = np.tile(np.arange(t_n), s_n * d_n)
+        cols: dict[str, np.ndarray] = {
+            "nominal": np.broadcast_to(self.nominal.T[:, None, :], (s_n, d_n, t_n)).reshape(-1),
+            "deflator_index": flat(self.index_used),
+            "real": flat(self.real),
         }
-        if flags:
-            flag = (np.zeros(len(s_i), dtype=bool) if self.interpolated is None
-                    else np.asarray(self.interpolated[d_i, t_i, s_i], dtype=bool))
+        st = flat(self.status).astype(np.intp)
+        flag = (np.zeros(len(st), dtype=bool) if self.interpolated is None
+                else flat(self.interpolated).astype(bool)) if flags else None
+        if not present.all():
+            keep = np.broadcast_to(present.T[:, None, :], (s_n, d_n, t_n)).reshape(-1)
+            s_i, d_i, t_i, st = s_i[keep], d_i[keep], t_i[keep], st[keep]
+            cols = {k: v[keep] for k, v in cols.items()}
+            flag = flag[keep] if flag is not None else None
+        n = len(s_i)
+        cat = n > CATEGORICAL_ROWS if categorical is None else categorical
+
+        def text(codes: np.ndarray, labels: Sequence[str]) -> object:
+            if cat:
+                return pd.Categorical.from_codes(codes, categories=list(labels))
+            return pd.array(np.asarray(labels, dtype=object)[codes], dtype="str")
+
+        data: dict[str, object] = {
+            "series": text(s_i, self.series_names),
+            "deflator": text(d_i, self.deflator_names),
+            "period": text(t_i, list(self.period_labels)),
+            **cols,
+            "status": text(st, STATUSES),
+        }
+        if flag is not None:
             data["interpolated"] = flag
-        out = pd.DataFrame(data)
-        for c in ("series", "deflator", "period", "status"):
-            out[c] = out[c].astype(str)
-        return out
+        return pd.DataFrame(data, columns=[*TABLE_COLUMNS, *(["interpolated"] if flags else [])])
 
     def implicit_deflator(self, series: str, deflator: str | int = 0) -> pd.Series:
         """100 * nominal / real for one series (the aggregate's implicit deflator)."""
@@ -677,12 +700,13 @@ def deflate(
         groups.setdefault((s.frequency, kind or s.kind), []).append(s)
     blocks = []
     for (freq, k), members in groups.items():
-        idx = members[0].index
-        for m in members[1:]:
-            idx = idx.union(m.index)
-        full = full_range(idx, freq)
-        arr = np.column_stack([m.values.reindex(full).to_numpy(dtype=float) for m in members]) \
-            if len(full) else np.zeros((0, len(members)))
+        starts = [m.index.min() for m in members if len(m.index)]
+        ends = [m.index.max() for m in members if len(m.index)]
+        full = (pd.period_range(min(starts), max(ends), freq=freq.pandas_freq) if starts
+                else pd.PeriodIndex([], freq=freq.pandas_freq))
+        arr = np.column_stack([
+            (m.values if m.index.equals(full) else m.values.reindex(full)).to_numpy(dtype=float)
+            for m in members]) if len(full) else np.zeros((0, len(members)))
         ranks = None
         if any(m.status is not None for m in members):
             ranks = np.column_stack([

@@ -20,6 +20,7 @@ series convert in one pass.
 from __future__ import annotations
 
 import calendar
+import functools
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Literal
@@ -99,10 +100,15 @@ def relabel(index: pd.PeriodIndex, frequency: Frequency) -> pd.PeriodIndex:
     return index.asfreq(frequency.pandas_freq, how="end")
 
 
+@functools.lru_cache(maxsize=64)
+def _freqstr(pandas_freq: str) -> str:
+    return pd.Period("2000-01", "M").asfreq(pandas_freq).freqstr
+
+
 def check_index(series: Series) -> None:
     """Refuse a Series whose PeriodIndex does not carry its declared frequency."""
     idx = series.index
-    expected = pd.Period("2000-01", "M").asfreq(series.frequency.pandas_freq).freqstr
+    expected = _freqstr(series.frequency.pandas_freq)
     if idx.freqstr != expected:
         raise fail(
             PE207,
