@@ -143,3 +143,105 @@ def test_exports_carry_the_adjusted_columns(result, tmp_path, suffix):
         header = next(wb["Real terms"].iter_rows(max_row=1, values_only=True))
         assert list(header) == expected
         wb.close()
+
+
+# ------------------------------------------------------------------ realbasis deflate --sa
+
+
+@pytest.fixture(scope="module")
+def cli_files(tmp_path_factory, elec, deflators):
+    """The elec_equip series as a wide money file and the synthetic deflators as a long
+    index file (the deflators are illustrative, for plumbing)."""
+    folder = tmp_path_factory.mktemp("sa_cli")
+    labels = MONTHLY.labels(elec.values.index)
+    money = folder / "orders.csv"
+    pd.DataFrame({"period": labels, "Orders (EUR m)": elec.values.to_numpy()}).to_csv(
+        money, index=False)
+    rows = []
+    for d in deflators:
+        rows += [{"series": d.name, "period": lab, "value": v, "unit": "index 2010=100",
+                  "status": "final"} for lab, v in zip(labels, d.values.to_numpy(), strict=True)]
+    index = folder / "prices.csv"
+    pd.DataFrame(rows).to_csv(index, index=False)
+    return str(money), str(index)
+
+
+def _cli(args, capsys):
+    from pipeline.cli import main
+
+    code = main(["deflate", *args])
+    out = capsys.readouterr()
+    return code, out.out, out.err
+
+
+def test_cli_sa_adds_two_columns_after_the_contract_columns(cli_files, capsys):
+    import io
+
+    money, index = cli_files
+    code, out, err = _cli([money, "--index", index, "--base", "2010", "--sa", "stl"], capsys)
+    assert code == 0, err
+    table = pd.read_csv(io.StringIO(out), dtype={"period": str})
+    assert list(table.columns) == [*TABLE_COLUMNS, "nominal_sa", "real_sa"]
+    # Reference library: statsmodels STL on the log of the nominal series
+    first = table[table["deflator"] == "seasonal_prices"]
+    nominal = first["nominal"].to_numpy()
+    ref = STL(np.log(nominal), period=12).fit()
+    np.testing.assert_allclose(first["nominal_sa"], nominal / np.exp(ref.seasonal), rtol=1e-9)
+    assert "# Seasonal adjustment (stl): deflated first" in err
+    assert "seasonal adjustment (stl): 3/3 series" in err  # 1 nominal + 1 real per deflator
+    assert "# caution:" in err
+
+
+def test_cli_without_sa_is_unchanged(cli_files, capsys):
+    import io
+
+    money, index = cli_files
+    code, out, _ = _cli([money, "--index", index, "--base", "2010"], capsys)
+    assert code == 0
+    assert list(pd.read_csv(io.StringIO(out)).columns) == list(TABLE_COLUMNS)
+
+
+def test_cli_adjust_first_and_classical_to_a_file(cli_files, capsys, tmp_path):
+    money, index = cli_files
+    out = tmp_path / "sa.csv"
+    code, _, err = _cli([money, "--index", index, "--base", "2010", "--sa", "classical",
+                         "--sa-order", "adjust-first", "--out", str(out)], capsys)
+    assert code == 0, err
+    table = pd.read_csv(out)
+    assert list(table.columns)[-2:] == ["nominal_sa", "real_sa"]
+    np.testing.assert_allclose(table["real_sa"],
+                               table["nominal_sa"] * 100 / table["deflator_index"], rtol=1e-9)
+
+
+def test_cli_robust_reports_progress_on_stderr(cli_files, capsys):
+    money, index = cli_files
+    code, _, err = _cli([money, "--index", index, "--base", "2010", "--sa", "stl-robust"],
+                        capsys)
+    assert code == 0, err
+    lines = [ln for ln in err.splitlines() if ln.startswith("seasonal adjustment")]
+    assert lines and lines[-1] == "seasonal adjustment (stl-robust): 3/3 series"
+
+
+def test_cli_sa_errors_are_coded_without_traceback(cli_files, tmp_path, capsys):
+    import subprocess
+    import sys
+
+    from conftest import ROOT
+
+    money, index = cli_files
+    # annual results are never adjusted (a real process: exit status 2, no traceback)
+    done = subprocess.run([sys.executable, "-m", "pipeline.cli", "deflate", money, "--index",
+                           index, "--base", "2010", "--to", "A", "--sa", "stl"], cwd=ROOT,
+                          capture_output=True, text=True, timeout=120)
+    assert done.returncode == 2 and "[SA002]" in done.stderr
+    assert "Traceback" not in done.stderr
+    # a short series: counts in the message
+    short = tmp_path / "short.csv"
+    pd.read_csv(money).head(30).to_csv(short, index=False)
+    code, _, err = _cli([str(short), "--index", index, "--base", "1995", "--sa", "stl"],
+                        capsys)
+    assert code == 2 and "[SA003]" in err and "30 values (2 years 6 months)" in err
+    # unknown method: argparse refuses with the CLI code
+    with pytest.raises(SystemExit) as stop:
+        _cli([money, "--index", index, "--base", "2010", "--sa", "x11"], capsys)
+    assert stop.value.code == 2

@@ -2,6 +2,8 @@
 
     realbasis deflate SERIES_FILE --index INDEX_FILE [--index INDEX_FILE ...] --base PERIOD
                       [--to M|Q|A|FY] [--fiscal-start 1-12] [--kind flow|stock] [--out PATH]
+                      [--sa none|stl|stl-robust|x13|classical] [--sa-order deflate-first|adjust-first]
+                      [--sa-model auto|multiplicative|additive] [--sa-interpolate]
 
 Every money (flow or stock) series of SERIES_FILE is deflated by every index column of
 every --index file. ``--out`` ending in .csv, .json or .xlsx writes that file; without it
@@ -53,6 +55,25 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="treat every series as a flow (summed) or a stock (last value)")
     p.add_argument("--out", metavar="PATH", default=None,
                    help="write .csv, .json or .xlsx; default: print the table (CSV) to stdout")
+    add_sa_arguments(p)
+
+
+def add_sa_arguments(p: argparse.ArgumentParser) -> None:
+    """Seasonal adjustment options (pipeline.seasonal)."""
+    from pipeline.seasonal import DEFAULT_ORDER, METHODS, MODELS, ORDERS
+
+    p.add_argument("--sa", choices=("none", *METHODS), default="none",
+                   help="seasonally adjust monthly or quarterly results; adds the columns "
+                   "nominal_sa and real_sa (default: none)")
+    p.add_argument("--sa-order", dest="sa_order", choices=ORDERS, default=DEFAULT_ORDER,
+                   help="deflate-first (default: adjust the real series themselves) or "
+                   "adjust-first (adjust the nominal, then deflate it)")
+    p.add_argument("--sa-model", dest="sa_model", choices=MODELS, default="auto",
+                   help="auto (multiplicative when every value is > 0, else additive), "
+                   "multiplicative or additive")
+    p.add_argument("--sa-interpolate", dest="sa_interpolate", action="store_true",
+                   help="fill gaps inside a series to run the adjustment (flagged; the "
+                   "adjusted values stay missing there) instead of refusing the series")
 
 
 @dataclass(frozen=True)
@@ -155,9 +176,28 @@ def emit(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> N
         sys.stderr.write(f"# caution: {line}\n")
 
 
+def seasonally_adjust(args: argparse.Namespace, result: DeflationResult) -> DeflationResult:
+    """With --sa: the result seen with nominal_sa and real_sa (progress on stderr)."""
+    if getattr(args, "sa", "none") == "none":
+        return result
+    from pipeline.seasonal import adjust_deflation
+
+    shown = [-1]
+
+    def progress(done: int, total: int) -> None:
+        step = done * 20 // max(total, 1)  # at most about 20 lines
+        if step != shown[0] or done == total:
+            shown[0] = step
+            sys.stderr.write(f"seasonal adjustment ({args.sa}): {done}/{total} series\n")
+
+    adjusted = adjust_deflation(result, args.sa, order=args.sa_order, model=args.sa_model,
+                                interpolate=args.sa_interpolate, progress=progress)
+    return adjusted.as_result()  # type: ignore[return-value]
+
+
 def run(args: argparse.Namespace) -> int:
     inputs = load_inputs(args)
-    result = compute(args, inputs)
+    result = seasonally_adjust(args, compute(args, inputs))
     emit(args, inputs, result)
     return 0
 
