@@ -275,6 +275,7 @@ class _AtWork:
     ranks: np.ndarray
     interpolated: np.ndarray
     words: str
+    warnings: tuple[Problem, ...] = ()
 
 
 def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str) -> _AtWork:
@@ -297,7 +298,7 @@ def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str) -> _AtWork
     st = conv.series.status_or_final().map({"final": 0, "preliminary": 1, "projected": 2})
     return _AtWork(conv.series.index, conv.series.values.to_numpy(dtype=float),
                    st.to_numpy(dtype=np.int8),
-                   np.ones(len(conv.series.index), dtype=bool), conv.method)
+                   np.ones(len(conv.series.index), dtype=bool), conv.method, conv.warnings)
 
 
 def _fmt_names(names: Sequence[str], limit: int = 5) -> str:
@@ -398,6 +399,7 @@ def _block(
                            "(--to), use a more frequent deflator, or ask for interpolation "
                            "(every interpolated value is then flagged).")
         at = _deflator_at(d, work, kind, dname)
+        warnings.extend(w for w in at.warnings if w not in warnings)
         if work == freq or relation(freq, work) == "same":
             n_w, idx_w = frame, idx
         else:

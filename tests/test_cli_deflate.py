@@ -134,3 +134,20 @@ def test_formula_like_text_is_neutralised_in_csv(tmp_path):
                  "--out", str(out)]) == 0
     first = out.read_text().splitlines()[1]
     assert first.startswith("'=HYPERLINK(1)")
+
+
+def test_interpolated_values_get_a_flag_column_in_exports(tmp_path):
+    # Decision (DEVELOPERS notes): interpolation is flagged in its own column, only when used.
+    from pipeline.deflate import deflate
+    from pipeline.export import write_result
+    from pipeline.model import MONTHLY, QUARTERLY, Series
+
+    s = Series("rev", pd.Series([1.0] * 6, index=pd.period_range("2024-01", periods=6, freq="M")),
+               MONTHLY)
+    d = Series("cpi", pd.Series([100.0, 103.0], index=pd.period_range("2024Q1", periods=2, freq="Q")),
+               QUARTERLY, kind="index")
+    res = deflate([s], [d], "2024Q1", interpolate=True)
+    out = write_result(res, tmp_path / "real.csv")
+    table = pd.read_csv(out)
+    assert list(table.columns) == [*COLUMNS, "interpolated"]
+    assert table["interpolated"].all()
