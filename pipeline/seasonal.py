@@ -860,11 +860,10 @@ def adjust_deflation(result: Any, method: Method = "stl", *, order: str = DEFAUL
         with np.errstate(divide="ignore", invalid="ignore"):
             real_sa = nominal_sa[None, :, :] * 100.0 / index_used
     table = result.table()
-    # rows of result.table(): series x deflator x period where the nominal is present
-    present = ~np.isnan(nominal)
-    s_n, d_n, t_n = len(names), len(defl_names), len(periods)
-    mask = np.broadcast_to(present.T[:, None, :], (s_n, d_n, t_n))
-    s_i, d_i, t_i = np.nonzero(mask)
+    # place each row by its keys (not by assuming the table's row order)
+    s_i = pd.Index(names).get_indexer(table["series"].astype(str))
+    d_i = pd.Index(defl_names).get_indexer(table["deflator"].astype(str))
+    t_i = pd.Index(freq.labels(periods)).get_indexer(table["period"].astype(str))
     table = table.assign(nominal_sa=nominal_sa[t_i, s_i], real_sa=real_sa[d_i, t_i, s_i])
     warns = tuple(w for a in done for w in a.warnings)
     return AdjustedDeflation(table, method, order, nom_adj, real_adj, warns, result)

@@ -245,3 +245,17 @@ def test_cli_sa_errors_are_coded_without_traceback(cli_files, tmp_path, capsys):
     with pytest.raises(SystemExit) as stop:
         _cli([money, "--index", index, "--base", "2010", "--sa", "x11"], capsys)
     assert stop.value.code == 2
+
+
+def test_series_of_different_spans_are_placed_by_their_keys(elec, deflators):
+    later = Series("later orders", elec.values.iloc[24:] * 0.5, MONTHLY)
+    res = deflate([elec, later], [deflators[1]], "2010")
+    out = adjust_deflation(res, "stl")
+    rows = out.table[out.table["series"] == "later orders"]
+    assert len(rows) == len(later.values)
+    np.testing.assert_allclose(rows["nominal_sa"].to_numpy(),
+                               adjust(later, "stl").adjusted.values.to_numpy(), rtol=1e-10)
+    # the longer series' adjustment is untouched by the shorter one
+    full = out.table[out.table["series"] == "orders"]
+    np.testing.assert_allclose(full["nominal_sa"].to_numpy(),
+                               adjust(elec, "stl").adjusted.values.to_numpy(), rtol=1e-10)
