@@ -93,12 +93,13 @@ def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
     return html.Table(children, **kwargs)
 
 
-def field(label: str, control: Any, control_id: str, hint: str | None = None) -> html.Div:
+def field(label: str, control: Any, control_id: str, hint: str | None = None, *,
+          wide: bool = False) -> html.Div:
     """A labelled control (the label is tied to the control for screen readers)."""
     parts: list[Any] = [html.Label(label, htmlFor=control_id, className="rb-label"), control]
     if hint:
         parts.append(html.Small(hint, className="rb-hint"))
-    return html.Div(parts, className="rb-field")
+    return html.Div(parts, className="rb-field rb-field-wide" if wide else "rb-field")
 
 
 def notice(text: str | Sequence[str] | None, tone: Literal["info", "ok", "warn", "error"] = "info"

@@ -31,19 +31,35 @@ PROJECTED_FILL = "rgba(86, 180, 233, 0.12)"  # sky blue, light
 BAND_FILL = "rgba(0, 114, 178, 0.15)"
 
 
-def _layout(fig: go.Figure, title: str, y_title: str, *, categories: bool = True) -> go.Figure:
+def _category_ticks(x: Sequence[str], most: int = 14) -> tuple[list[str], list[str]]:
+    """Tick positions on a category axis of period labels: the first period of each year
+    (2024-01, 2024Q1, FY2025Q1), thinned to at most ``most`` ticks; years label them."""
+    firsts = [v for v in x if v.endswith(("-01", "Q1"))]
+    if not firsts:
+        firsts = list(x)
+    step = max(1, -(-len(firsts) // most))
+    vals = firsts[::step]
+    text = [v[:-3] if v.endswith("-01") else (v[:-2] if v.endswith("Q1") else v) for v in vals]
+    return vals, text
+
+
+def _layout(fig: go.Figure, title: str, y_title: str, *, categories: bool = True,
+            x: Sequence[str] | None = None) -> go.Figure:
     fig.update_layout(
-        title={"text": title, "x": 0, "xanchor": "left", "font": {"size": 16}},
+        title={"text": title, "x": 0, "xanchor": "left", "font": {"size": 16}} if title else None,
         template="plotly_white",
-        margin={"l": 70, "r": 20, "t": 60, "b": 50},
-        legend={"orientation": "h", "yanchor": "top", "y": -0.12, "x": 0},
+        margin={"l": 70, "r": 20, "t": 70 if title else 40, "b": 40},
+        legend={"orientation": "h", "yanchor": "bottom", "y": 1.0, "x": 0},
         hovermode="x unified",
         separators=".,",
         font={"family": "system-ui, -apple-system, Segoe UI, Roboto, sans-serif", "size": 13},
     )
     fig.update_yaxes(title_text=y_title, tickformat=",.0f", separatethousands=True)
     if categories:
-        fig.update_xaxes(type="category", nticks=14, tickangle=0)
+        fig.update_xaxes(type="category", tickangle=0)
+        if x:
+            vals, text = _category_ticks(list(x))
+            fig.update_xaxes(tickmode="array", tickvals=vals, ticktext=text)
     return fig
 
 
@@ -122,7 +138,7 @@ def real_terms_figure(table: pd.DataFrame, *, title: str, unit: str, real_label:
     _line(fig, x, _num(table["real"]), status, real_label, LINE_COLOURS[0], "solid",
           "square", unit)
     _shade(fig, status)
-    return _layout(fig, title, unit)
+    return _layout(fig, title, unit, x=x)
 
 
 def spread_figure(table: pd.DataFrame, *, title: str, unit: str,
@@ -159,7 +175,7 @@ def spread_figure(table: pd.DataFrame, *, title: str, unit: str,
         _line(fig, periods, _num(nominal), status, "Nominal", NOMINAL_COLOUR, "dot", "circle",
               unit)
     _shade(fig, status)
-    return _layout(fig, title, unit)
+    return _layout(fig, title, unit, x=periods)
 
 
 def index_figure(indexes: Sequence[Mapping[str, object]], *, title: str) -> go.Figure:
@@ -215,7 +231,7 @@ def revisions_figure(table: pd.DataFrame, *, title: str, unit: str, old_label: s
     status = ["preliminary" if "preliminary" in (a, b) else ("projected" if "projected" in (a, b)
               else "final") for a, b in zip(table["status_old"], table["status_new"], strict=True)]
     _shade(fig, status)
-    _layout(fig, title, unit)
+    _layout(fig, title, unit, x=x)
     fig.update_layout(yaxis2={"overlaying": "y", "side": "right", "showgrid": False,
                               "title": {"text": f"change ({unit})"}, "tickformat": ",.1f"})
     return fig

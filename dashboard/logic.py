@@ -487,12 +487,14 @@ def real_title(c: Computed, *, sa: bool = False) -> str:
             f"deflated by {c.deflator_name}")
 
 
-def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency
-                   ) -> list[dict[str, Any]]:
+def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency, *,
+                   annualise: bool = True) -> list[dict[str, Any]]:
     """Nominal, price and real growth by several measures (rates as fractions).
 
     Every rate comes from pipeline.growth; price growth is that of the implicit
-    deflator 100 x nominal / real, so (1 + nominal) = (1 + real)(1 + price) exactly."""
+    deflator 100 x nominal / real, so (1 + nominal) = (1 + real)(1 + price) exactly.
+    ``annualise=False`` leaves out the annualised period-on-period rate (common practice:
+    annualising one month's change of data that is not seasonally adjusted misleads)."""
     from pipeline import growth
 
     price = 100.0 * nominal / real
@@ -513,7 +515,7 @@ def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency
 
     add(f"{lab(last)} on {lab(last - 1)}",
         lambda v: at_last(growth.period_on_period(v, frequency)))
-    if frequency.periods_per_year > 1:
+    if frequency.periods_per_year > 1 and annualise:
         add(f"{lab(last)} on {lab(last - 1)}, annualised",
             lambda v: at_last(growth.annualised(v, frequency)))
         if (last - frequency.periods_per_year) in both:

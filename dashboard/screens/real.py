@@ -64,12 +64,15 @@ def layout() -> html.Div:
                                        placeholder="e.g. 2024, FY2025, 2024Q1",
                                        className="rb-input"), ids.RT_BASE,
               hint="One period or a range such as 2024-01..2024-12; empty = last full year."),
-        field("Show as", dcc.Dropdown(id=ids.RT_FREQ, options=[], value="auto", clearable=False,
+        field("Show as", dcc.Dropdown(id=ids.RT_FREQ, options=logic.frequency_options(Workspace("", ""), None),
+                                      value="auto", clearable=False,
                                       className="rb-dropdown"), ids.RT_FREQ),
         field("Seasonal adjustment",
               dcc.Checklist(id=ids.RT_SA, options=[{"label": " Seasonally adjust (STL, after "
                                                             "deflation)", "value": "sa"}],
-                            value=[], className="rb-check"), ids.RT_SA),
+                            value=[], className="rb-check",
+                            labelStyle={"display": "inline-flex", "alignItems": "center"},
+                            inputStyle={"marginRight": "6px"}), ids.RT_SA),
         html.Div([html.Button("Save these choices to the workspace", id=ids.RT_SAVE,
                               n_clicks=0, type="button", className="rb-button"),
                   html.Span(id=ids.RT_SAVED, role="status")], className="rb-field"),
@@ -121,11 +124,11 @@ def outputs(ws: Workspace, series: str | None, deflator: str | None, base: str |
                 problems_view(logic.error_dicts(err), title="Cannot compute"), None,
                 method_view(()))
     title = logic.real_title(c, sa=sa)
-    fig = real_terms_figure(c.frame, title=title, unit=c.unit,
+    fig = real_terms_figure(c.frame, title="", unit=c.unit,
                             real_label=f"Real ({c.dollars_label})",
                             nominal_label="Nominal" + (" (seasonally adjusted)" if sa else ""))
     try:
-        summary = logic.growth_summary(c.nominal, c.real, c.frequency)
+        summary = logic.growth_summary(c.nominal, c.real, c.frequency, annualise=sa)
     except RealbasisError as err:
         summary = []
         c = dataclasses.replace(c, warnings=(*c.warnings, *(p.as_warning() for p in err.problems)))

@@ -100,13 +100,14 @@ def outputs(ws: Workspace, index: Any, old: Any, new: Any, series: Any, base: An
         return (notice("These figures cannot be computed.", "warn"),
                 empty_figure("See the problems below."), None,
                 problems_view(logic.error_dicts(err), title="Cannot compute"), method_view(()))
-    fig = revisions_figure(rv.table, title=rv.title, unit=rv.unit,
+    fig = revisions_figure(rv.table, title="", unit=rv.unit,
                            old_label=f"as of {old or 'undated'}",
                            new_label=f"as of {new or 'undated'}")
     moved = table(MOVED_COLUMNS, rv.moved, caption=f"Real values that moved ({rv.unit}), "
                                                    "latest first",
                   empty="No real value moved between these vintages.")
-    return (notice(rv.summary, "info"), fig, moved,
+    return (html.Div([html.H3(rv.title, className="rb-result-title"), notice(rv.summary, "info")]),
+            fig, moved,
             warnings_view(logic.problem_dicts(rv.warnings)), method_view(rv.method))
 
 

@@ -117,7 +117,7 @@ def outputs(ws: Workspace, drawn: list[str] | None) -> tuple[Any, Any, list[Any]
     opts = logic.index_options(ws)
     names = [o["value"] for o in opts]
     chosen = [n for n in (drawn or []) if n in names] or names[:3]
-    fig = (index_figure(logic.figure_items(ws, chosen), title="Price indexes as held")
+    fig = (index_figure(logic.figure_items(ws, chosen), title="")
            if chosen else empty_figure("No price index in this workspace yet."))
     return (table(SHELF_COLUMNS, rows, caption="Price indexes in this workspace",
                   empty="No price index yet: upload one on the intake screen."),

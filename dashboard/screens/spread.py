@@ -53,12 +53,15 @@ def layout() -> html.Div:
         field("Base period", dcc.Input(id=ids.SP_BASE, type="text", debounce=True,
                                        placeholder="e.g. 2024, FY2025", className="rb-input"),
               ids.SP_BASE),
-        field("Show as", dcc.Dropdown(id=ids.SP_FREQ, options=[], value="auto",
+        field("Show as", dcc.Dropdown(id=ids.SP_FREQ, options=logic.frequency_options(Workspace("", ""), None),
+                                      value="auto",
                                       clearable=False, className="rb-dropdown"), ids.SP_FREQ),
         field("Growth measure", dcc.RadioItems(
             id=ids.SP_MEASURE, value="yoy", className="rb-radio",
+            labelStyle={"display": "inline-flex", "alignItems": "center", "marginRight": "16px"},
+            inputStyle={"marginRight": "6px"},
             options=[{"label": f" {words}", "value": key}
-                     for key, words in logic.MEASURES.items()]), ids.SP_MEASURE),
+                     for key, words in logic.MEASURES.items()]), ids.SP_MEASURE, wide=True),
     ], className="rb-controls")
     return screen(
         "Deflator spread",
@@ -92,7 +95,7 @@ def outputs(ws: Workspace, series: str | None, deflators: list[str] | None, base
                 "These figures cannot be computed", empty_figure("See the problems below."),
                 None, problems_view(logic.error_dicts(err), title="Cannot compute"),
                 method_view(()))
-    fig = spread_figure(sp.table, title=sp.title, unit=sp.unit)
+    fig = spread_figure(sp.table, title="", unit=sp.unit)
     growth = table(GROWTH_COLUMNS, sp.rows,
                    caption=f"Growth per deflator: {sp.measure_words}; "
                            "(1 + nominal) = (1 + real) × (1 + price), exactly")

@@ -1,0 +1,131 @@
+"""The app boots, its layout serialises and its callbacks answer over HTTP (Flask test
+client, no browser)."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+import pytest
+
+from dashboard import ids
+from dashboard.app import context, create_app
+from pipeline.cli import main
+from pipeline.settings import Settings
+
+
+def _outputs(dep: dict[str, Any]) -> list[str]:
+    out = dep["output"]
+    return out.strip(".").split("...") if out.startswith("..") else [out]
+
+
+def call(client: Any, deps: list[dict[str, Any]], output: str, values: dict[str, Any],
+         changed: str) -> dict[str, Any]:
+    """POST one callback, found by one of its outputs ('id.prop'), with input and state
+    values by 'id.prop'. Returns the JSON response."""
+    dep = next(d for d in deps if output in _outputs(d))
+    outs = [{"id": o.split(".")[0], "property": o.split(".")[1]} for o in _outputs(dep)]
+    body = {
+        "output": dep["output"],
+        "outputs": outs if len(outs) > 1 else outs[0],
+        "inputs": [{**i, "value": values.get(f"{i['id']}.{i['property']}")} for i in dep["inputs"]],
+        "state": [{**s, "value": values.get(f"{s['id']}.{s['property']}")} for s in dep["state"]],
+        "changedPropIds": [changed],
+    }
+    r = client.post("/_dash-update-component", json=body)
+    assert r.status_code == 200, r.data[:500]
+    return json.loads(r.data)
+
+
+@pytest.fixture(scope="module")
+def app(tmp_path_factory: pytest.TempPathFactory) -> Any:
+    return create_app(Settings(data_dir=str(tmp_path_factory.mktemp("app")),
+                               max_upload_bytes=10_000))
+
+
+@pytest.fixture(scope="module")
+def client(app: Any) -> Any:
+    return app.server.test_client()
+
+
+@pytest.fixture(scope="module")
+def deps(client: Any) -> list[dict[str, Any]]:
+    r = client.get("/_dash-dependencies")
+    assert r.status_code == 200
+    return json.loads(r.data)
+
+
+def test_app_boots_and_serves_the_page(client: Any):
+    r = client.get("/")
+    assert r.status_code == 200
+    assert b"realbasis" in r.data
+
+
+def test_layout_serialises_with_every_screen(client: Any):
+    r = client.get("/_dash-layout")
+    assert r.status_code == 200
+    text = r.data.decode()
+    layout = json.loads(text)
+    assert layout["type"] == "Div"
+    for key in ("intake", "shelf", "real", "spread", "revisions"):
+        assert ids.screen_container(key) in text and ids.nav_button(key) in text
+    for caution in ("not official statistics", "Preliminary index values will be revised"):
+        assert caution in text
+
+
+def test_dependencies_cover_the_screens(deps: list[dict[str, Any]]):
+    outputs = {o for d in deps for o in _outputs(d)}
+    for needed in (f"{ids.RT_FIGURE}.figure", f"{ids.SP_VERDICT}.children",
+                   f"{ids.RV_FIGURE}.figure", f"{ids.SH_TABLE}.children",
+                   f"{ids.IN_SERIES_TABLE}.children", f"{ids.WORKSPACE}.data"):
+        assert needed in outputs, needed
+    background = [d for d in deps if f"{ids.IN_SERIES_TABLE}.children" in _outputs(d)]
+    assert background and background[0].get("background"), "intake reading runs as a background job"
+
+
+def test_settings_reach_the_server(app: Any):
+    assert app.server.secret_key
+    assert app.server.config["MAX_CONTENT_LENGTH"] > 10_000
+    assert context(app).settings.max_upload_bytes == 10_000
+
+
+def test_callbacks_answer_over_http(client: Any, deps: list[dict[str, Any]]):
+    # the page opens on the demo workspace
+    got = call(client, deps, f"{ids.WORKSPACE}.data", {f"{ids.URL}.search": ""}, f"{ids.URL}.search")
+    ref = got["response"][ids.WORKSPACE]["data"]
+    assert ref["id"] and ref["version"] >= 1
+    values = {f"{ids.WORKSPACE}.data": ref, f"{ids.RT_SERIES}.value": "Apparel revenue",
+              f"{ids.RT_DEFLATOR}.value": "Chained consumer index", f"{ids.RT_BASE}.value": "2024",
+              f"{ids.RT_FREQ}.value": "auto", f"{ids.RT_SA}.value": []}
+    got = call(client, deps, f"{ids.RT_FIGURE}.figure", values, f"{ids.RT_DEFLATOR}.value")
+    title = got["response"][ids.RT_TITLE]["children"]
+    assert "constant 2024 dollars" in title and "Chained consumer index" in title
+    values[f"{ids.RT_DEFLATOR}.value"] = "Fixed-basket consumer index"
+    again = call(client, deps, f"{ids.RT_FIGURE}.figure", values, f"{ids.RT_DEFLATOR}.value")
+    assert "Fixed-basket" in again["response"][ids.RT_TITLE]["children"]
+    # the spread verdict
+    sp = {f"{ids.WORKSPACE}.data": ref, f"{ids.SP_SERIES}.value": "Rail operations",
+          f"{ids.SP_DEFLATORS}.value": ["Fixed-basket consumer index", "Chained consumer index",
+                                        "Government consumption deflator"],
+          f"{ids.SP_BASE}.value": "FY2025", f"{ids.SP_FREQ}.value": "auto",
+          f"{ids.SP_MEASURE}.value": "cagr"}
+    got = call(client, deps, f"{ids.SP_VERDICT}.children", sp, f"{ids.SP_DEFLATORS}.value")
+    assert "deflator" in json.dumps(got["response"][ids.SP_VERDICT]["children"])
+
+
+def test_oversized_upload_gets_a_clear_message(client: Any, deps: list[dict[str, Any]]):
+    import base64
+
+    contents = "data:text/csv;base64," + base64.b64encode(b"z" * 12_000).decode()
+    got = call(client, deps, f"{ids.IN_PENDING}.data",
+               {f"{ids.IN_UPLOAD}.contents": contents, f"{ids.IN_UPLOAD}.filename": "big.csv"},
+               f"{ids.IN_UPLOAD}.contents")
+    status = json.dumps(got["response"][ids.IN_STATUS]["children"])
+    assert "UI001" in status and "largest accepted" in status
+    assert got["response"][ids.IN_PENDING]["data"] is None
+
+
+def test_serve_command_refuses_zero_workers(capsys: pytest.CaptureFixture[str], tmp_path: Path):
+    assert main(["serve", "--workers", "0", "--data-dir", str(tmp_path)]) == 2
+    assert "CL501" in capsys.readouterr().err

@@ -1,0 +1,452 @@
+"""The dashboard's callback bodies and plain functions, without a browser.
+
+Numbers shown on screen come from the engine; these tests check that the dashboard asks
+the engine the right question and shows the answer faithfully (base stated, statuses
+kept, exact growth split, verdicts right). The hand-made examples use the textbook
+definitions cited beside each check; the demo data is used only to exercise the screens.
+"""
+
+from __future__ import annotations
+
+import base64
+import dataclasses
+import math
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from dashboard import components, figures, logic
+from dashboard.data import DEMO_NAME, DataAccess, WorkspaceRef
+from dashboard.demo import build_demo_workspace
+from dashboard.screens import discover, intake, real, revisions, shelf, spread
+from pipeline.errors import RealbasisError
+from pipeline.model import MONTHLY, QUARTERLY, Frequency, Series, Workspace
+from pipeline.settings import Settings
+from pipeline.store import WorkspaceStore
+
+# --------------------------------------------------------------------------- fixtures
+
+
+def _monthly(name: str, values: list[float], start: str = "2023-01", kind: str = "flow",
+             unit: str | None = "USD", status: list[str] | None = None,
+             vintage: str | None = None) -> Series:
+    idx = pd.period_range(start, periods=len(values), freq="M")
+    st = pd.Series(status, index=idx, dtype=object) if status else None
+    return Series(name, pd.Series(values, index=idx, dtype=float), MONTHLY, kind=kind,  # type: ignore[arg-type]
+                  unit=unit, status=st, vintage=vintage)
+
+
+@pytest.fixture()
+def access(tmp_path: Path) -> DataAccess:
+    return DataAccess(Settings(data_dir=str(tmp_path), max_upload_bytes=2000))
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    d = tmp_path_factory.mktemp("demo")
+    return build_demo_workspace(WorkspaceStore(f"sqlite:///{d}/s.sqlite"), DEMO_NAME)
+
+
+@pytest.fixture()
+def small() -> Workspace:
+    """Two years of a flat nominal series and two made-up indexes."""
+    nominal = _monthly("Sales", [100.0] * 12 + [103.0] * 12)
+    # index A rises 2 % between the years, index B 5 %.
+    a = _monthly("Index A", [100.0] * 12 + [102.0] * 12, kind="index", unit="index",
+                 vintage="2024-12-31")
+    b = _monthly("Index B", [100.0] * 12 + [105.0] * 12, kind="index", unit="index",
+                 status=["final"] * 18 + ["preliminary"] * 6, vintage="2024-12-31")
+    return Workspace("w1", "small", 3, series={"Sales": nominal},
+                     indexes={"Index A": {"2024-12-31": a}, "Index B": {"2024-12-31": b}})
+
+
+# --------------------------------------------------------------------------- uploads
+
+
+def _data_url(data: bytes) -> str:
+    return "data:text/csv;base64," + base64.b64encode(data).decode()
+
+
+def test_upload_over_the_limit_is_refused_before_decoding_with_sizes_stated():
+    with pytest.raises(RealbasisError) as err:
+        logic.decode_upload(_data_url(b"x" * 5000), "big.csv", 2000)
+    assert err.value.code == "UI001"
+    text = str(err.value)
+    assert "4.9 kB" in text and "2,000 bytes" in text and "REALBASIS_MAX_UPLOAD_BYTES" in text
+
+
+def test_upload_decodes_and_rejects_garbage():
+    assert logic.decode_upload(_data_url(b"period,a\n2024,1\n"), "f.csv", 2000) == b"period,a\n2024,1\n"
+    with pytest.raises(RealbasisError) as err:
+        logic.decode_upload("data:text/csv;base64,@@@@", "f.csv", 2000)
+    assert err.value.code == "UI002"
+    with pytest.raises(RealbasisError):
+        logic.decode_upload(None, "f.csv", 2000)
+
+
+def test_preview_shows_the_first_rows_as_written():
+    _cols, rows = logic.preview(b"period,Sales (USD)\n2024-01,1 234\n2024-02,1 300\n", "f.csv")
+    assert rows[0] == {"column 1": "period", "column 2": "Sales (USD)"}
+    assert rows[1]["column 2"] == "1 234"
+
+
+def test_receive_keeps_the_file_and_interpret_lists_series(access: DataAccess):
+    csv = b"period,Sales (USD thousands)\n2024-01,10\n2024-02,11\n2024-03,oops\n"
+    pending, _status = intake.receive(access, _data_url(csv), "sales.csv")
+    assert pending is not None and pending["filename"] == "sales.csv"
+    steps: list[tuple[int, int]] = []
+    _summary, _series_table, problems, _preview, options, disabled = intake.interpret(
+        access, pending, 0, {}, lambda a, b: steps.append((a, b)))
+    assert steps[-1] == (4, 4)
+    assert options == [{"label": "Sales", "value": "Sales"}]
+    # the bad cell is reported with its location, and blocks adding the file
+    text = str(problems.to_plotly_json())
+    assert "row 4" in text and "oops" in text
+    assert disabled is True
+
+
+def test_receive_refuses_a_big_file_with_a_clear_message(access: DataAccess):
+    pending, status = intake.receive(access, _data_url(b"y" * 3000), "big.csv")
+    assert pending is None
+    assert "UI001" in str(status.to_plotly_json()) and "File refused" in str(status.to_plotly_json())
+
+
+def test_kind_correction_is_applied_when_reading_again(access: DataAccess):
+    csv = b"period,Thing\n2024-01,5\n2024-02,7\n2024-03,3\n"  # guessed a flow
+    pending, _ = intake.receive(access, _data_url(csv), "t.csv")
+    kinds = intake.apply_kind({}, "Thing", "index")
+    assert kinds == {"Thing": "index"}
+    before = str(intake.interpret(access, pending, 0, {})[1].to_plotly_json())
+    after = str(intake.interpret(access, pending, 0, kinds)[1].to_plotly_json())
+    assert "children='flow'" in before and "children='index'" in after
+
+
+def test_adding_to_the_demo_starts_a_new_workspace_with_the_demo_indexes(access: DataAccess):
+    demo_ref = access.demo_ref()
+    csv = b"period,Widgets revenue (USD)\n2024-01,10\n2024-02,11\n2024-03,12\n"
+    pending, _ = intake.receive(access, _data_url(csv), "widgets.csv")
+    new_ref, message = intake.add(access, demo_ref, pending, 0, {})
+    assert new_ref is not None and new_ref.id != demo_ref.id
+    ws = access.load(new_ref)
+    assert list(ws.series) == ["Widgets revenue"]
+    assert "Chained consumer index" in ws.indexes
+    assert "illustrative" in str(message.to_plotly_json())
+    # the shared demo workspace did not change
+    assert access.load(WorkspaceRef(demo_ref.id, 0)).version == demo_ref.version
+    events = [e.event for e in access.store.audit(new_ref.id)]
+    assert "upload" in events
+
+
+def test_add_refuses_a_file_with_errors(access: DataAccess):
+    ws = access.create("mine")
+    pending, _ = intake.receive(access, _data_url(b"period,A\n2024-01,1\n2024-02,x\n"), "a.csv")
+    new_ref, message = intake.add(access, WorkspaceRef(ws.id, ws.version), pending, 0, {})
+    assert new_ref is None and "Not added" in str(message.to_plotly_json())
+
+
+def test_add_intake_files_indexes_by_vintage_and_money_by_name(small: Workspace):
+    newer = _monthly("Index A", [1.0, 2.0], kind="index", vintage="2025-06-30")
+    money = _monthly("Costs", [5.0, 6.0])
+    ws, summary = logic.add_intake(small, [newer, money])
+    assert set(ws.indexes["Index A"]) == {"2024-12-31", "2025-06-30"}
+    assert set(ws.series) == {"Sales", "Costs"}
+    assert summary.startswith("Added 1 money series and 1 index series")
+    assert logic.pick_index(ws, "Index A").vintage == "2025-06-30"  # latest by default
+
+
+# --------------------------------------------------------------------------- choices
+
+
+def test_default_base_is_the_last_complete_year():
+    s = _monthly("S", [1.0] * 21, start="2024-01")  # to 2025-09
+    assert logic.default_base(s) == "2024"
+    q = Series("Q", pd.Series([1.0] * 8, index=pd.period_range("2023Q1", periods=8, freq="Q")),
+               QUARTERLY)
+    assert logic.default_base(q) == "2024"
+    fy = Frequency("FY", 7)
+    a = Series("F", pd.Series([1.0, 2.0], index=pd.period_range("2024", periods=2,
+                                                                  freq=fy.pandas_freq)), fy)
+    assert logic.default_base(a) == "FY2025"
+
+
+def test_automatic_frequency_follows_a_less_frequent_deflator():
+    s = _monthly("S", [1.0] * 12)
+    q = Series("D", pd.Series([1.0] * 4, index=pd.period_range("2023Q1", periods=4, freq="Q")),
+               QUARTERLY, kind="index")
+    assert logic.parse_frequency("auto", s, [q]) == QUARTERLY
+    assert logic.parse_frequency("auto", s, [_monthly("M", [1.0] * 3, kind="index")]) is None
+    assert logic.parse_frequency("FY-7") == Frequency("FY", 7)
+
+
+def test_total_sums_series_and_keeps_the_worst_status(small: Workspace):
+    other = _monthly("Other", [1.0] * 23 + [float("nan")],
+                     status=["final"] * 20 + ["projected"] * 4)
+    ws = dataclasses.replace(small, series={**small.series, "Other": other})
+    total = logic.pick_series(ws, logic.TOTAL)
+    assert total.values.iloc[0] == 101.0
+    assert math.isnan(total.values.iloc[-1])  # a part is missing: the total is missing
+    assert total.status is not None and total.status.iloc[-2] == "projected"
+    assert any(o["value"] == logic.TOTAL for o in logic.series_options(ws))
+
+
+def test_series_are_cut_to_the_span_every_deflator_covers(small: Workspace):
+    short = _monthly("Short", [100.0] * 18, kind="index")
+    cut, note = logic.trim_to_cover(small.series["Sales"], [short])
+    assert cut.values.index[-1] == pd.Period("2024-06", "M")
+    assert note and "2023-01 to 2024-06" in note
+
+
+# --------------------------------------------------------------------------- real terms
+
+
+def test_real_values_are_nominal_times_base_index_over_index(small: Workspace):
+    # Constant dollars of base B: real(t) = nominal(t) * I(B) / I(t) (IMF Quarterly
+    # National Accounts Manual 2017, ch. 8; DESIGN.md facts of the trade).
+    c = logic.compute_real(small, "Sales", "Index B", "2023")
+    assert c.dollars_label == "constant 2023 dollars"
+    jan24 = c.frame.set_index("period").loc["2024-01"]
+    assert jan24["real"] == pytest.approx(103.0 * 100.0 / 105.0)
+    # the status of the index travels to the real values it touched
+    assert c.frame["status"].iloc[-1] == "preliminary"
+    assert "constant 2023 dollars" in logic.real_title(c)
+
+
+def test_growth_split_is_exact_not_a_difference(small: Workspace):
+    # (1 + nominal) = (1 + real)(1 + price): real growth = (1.03 / 1.05) - 1, not 3 % - 5 %
+    # (DESIGN.md; IMF QNA Manual 2017, ch. 8 on volume and price measures).
+    c = logic.compute_real(small, "Sales", "Index B", "2023", to="A")
+    rows = {r["measure"]: r for r in logic.growth_summary(c.nominal, c.real, c.frequency)}
+    r = rows["2024 on 2023"]
+    assert r["nominal"] == pytest.approx(0.03)
+    assert r["price"] == pytest.approx(0.05)
+    assert r["real"] == pytest.approx(1.03 / 1.05 - 1)
+    assert (1 + r["nominal"]) == pytest.approx((1 + r["real"]) * (1 + r["price"]))
+
+
+def test_real_screen_outputs_state_the_base_and_show_problems(demo: Workspace):
+    title, _fig, warn, growth, method = real.outputs(demo, "Apparel revenue",
+                                                      "Chained consumer index", "2024", "auto",
+                                                      False)
+    assert "constant 2024 dollars" in title
+    assert "preliminary" in str(warn.to_plotly_json())
+    assert "Growth" in str(growth.to_plotly_json())
+    assert "rebased" in str(method.to_plotly_json())
+    # an impossible base is shown as a coded problem, not a crash
+    title, _fig, warn, growth, method = real.outputs(demo, "Apparel revenue",
+                                                     "Chained consumer index", "1999", "auto", False)
+    assert title == "These figures cannot be computed" and "IX001" in str(warn.to_plotly_json())
+
+
+def test_real_screen_seasonal_adjustment_on(demo: Workspace):
+    title, _fig, _warn, _growth, method = real.outputs(demo, "Apparel revenue",
+                                                     "Fixed-basket consumer index", "2024", "auto",
+                                                     True)
+    assert "seasonally adjusted" in title
+    assert "Seasonal adjustment after deflation" in str(method.to_plotly_json())
+
+
+def test_saved_choices_land_in_workspace_settings(demo: Workspace):
+    ws = real.save_choices(demo, "Footwear revenue", "Chained consumer index", "2023", "A", True)
+    assert ws.settings["series"] == "Footwear revenue" and ws.settings["seasonal_adjustment"] is True
+
+
+# --------------------------------------------------------------------------- spread
+
+
+def test_verdict_words():
+    assert logic.verdict_text([0.01, 0.02, 0.03, 0.001, 0.2])[0].startswith(
+        "Real growth is positive under all 5 deflators")
+    assert logic.verdict_text([-0.01, -0.02])[0].startswith("Real growth is negative under all 2")
+    text, tone = logic.verdict_text([0.01, -0.02, float("nan")])
+    assert text.startswith("The sign depends on the deflator") and tone == "error"
+    assert "cannot be computed" in logic.verdict_text([float("nan")])[0]
+
+
+def test_spread_verdict_changes_with_the_deflators(small: Workspace):
+    # Nominal +3 %; index A +2 % -> real +0.98 %; index B +5 % -> real -1.9 %.
+    one = logic.spread(small, "Sales", ["Index A"], "2023", to="A")
+    both = logic.spread(small, "Sales", ["Index A", "Index B"], "2023", to="A")
+    assert one.verdict.startswith("Real growth is positive under the one deflator")
+    assert both.verdict.startswith("The sign depends on the deflator")
+    reals = {r["deflator"]: r["real"] for r in both.rows}
+    assert reals["Index A"] == pytest.approx(1.03 / 1.02 - 1)
+    assert reals["Index B"] == pytest.approx(1.03 / 1.05 - 1)
+    assert {r["deflator"]: r["status"] for r in both.rows}["Index B"] == "preliminary"
+
+
+def test_spread_screen_outputs(demo: Workspace):
+    verdict, title, fig, _growth, _warn, _method = spread.outputs(
+        demo, "Rail operations", ["Fixed-basket consumer index", "Chained consumer index",
+                                  "Government consumption deflator"], "FY2025", "auto", "cagr")
+    assert "constant FY2025 dollars" in title
+    assert "deflator" in str(verdict.to_plotly_json())
+    band = [t for t in fig.data if getattr(t, "fill", None) == "tonexty"]
+    assert band, "the band between the deflators is drawn"
+    verdict, *_ = spread.outputs(demo, "Rail operations", [], "FY2025", "auto", "cagr")
+    assert "Choose a series" in str(verdict.to_plotly_json())
+
+
+# --------------------------------------------------------------------------- revisions
+
+
+def test_revisions_screen_reports_what_moved(demo: Workspace):
+    _opts, old, new = revisions.vintages_for(demo, "Chained consumer index")
+    assert (old, new) == ("2026-04-15", "2026-10-15")
+    rv = logic.revisions(demo, "Chained consumer index", old, new, "Apparel revenue", "2024")
+    assert rv.comparison.revised > 0
+    moved = pd.DataFrame(rv.moved)
+    # the change shown is later minus earlier, period by period (pipeline.revisions)
+    assert np.allclose(moved["real_change"], moved["real_new"] - moved["real_old"])
+    summary, _fig, moved_table, _warn, _method = revisions.outputs(demo, "Chained consumer index", old,
+                                                           new, "Apparel revenue", "2024")
+    assert "moved" in str(summary.to_plotly_json())
+    assert "2026-03" in str(moved_table.to_plotly_json())
+    with pytest.raises(RealbasisError):
+        logic.revisions(demo, "Chained consumer index", new, new, "Apparel revenue", "2024")
+
+
+# --------------------------------------------------------------------------- shelf
+
+
+def test_shelf_rows_show_vintages_and_stretches(demo: Workspace):
+    rows = [r for r in logic.shelf_rows(demo) if r["name"] == "Chained consumer index"]
+    assert {r["vintage"] for r in rows} == {"2026-10-15", "2026-04-15"}
+    latest = next(r for r in rows if r["latest"] == "yes")
+    assert latest["status"] == "preliminary 2025-11–2026-09"
+
+
+def test_rebase_makes_the_base_average_100(small: Workspace):
+    # I'(t) = 100 * I(t) / mean(I over the base period) (ILO/IMF CPI Manual 2004, ch. 9;
+    # DESIGN.md): Index B averages 105 over 2024.
+    ws, _lines = logic.rebase_index(small, "Index B", "2024")
+    s = logic.pick_index(ws, "Index B (2024=100)")
+    assert s.values["2024"].mean() == pytest.approx(100.0)
+    assert s.values.iloc[0] == pytest.approx(100.0 * 100.0 / 105.0)
+    assert "Index B" in ws.indexes  # the original is kept
+
+
+def test_project_and_link_add_new_indexes(small: Workspace):
+    ws, lines = logic.project_index(small, "Index A", 2.0, "2025-12")
+    p = logic.pick_index(ws, "Index A projected at 2 % a year")
+    assert p.values.index[-1] == pd.Period("2025-12", "M")
+    assert p.status_or_final().iloc[-1] == "projected"
+    # twelve projected months compound to the annual rate (pipeline.projection)
+    assert p.values.iloc[-1] / p.values.iloc[-13] == pytest.approx(1.02)
+    ws, lines = logic.link_indexes(small, "Index A", "Index B", "2024-12")
+    assert "factor" in lines[0]
+    with pytest.raises(RealbasisError):
+        logic.project_index(small, "Index A", None, "2025")
+
+
+def test_own_cost_index_from_components_and_weights(demo: Workspace):
+    weights = str(demo.settings["cost_weights"])
+    comps = ["Goods purchased", "Wages and benefits", "Rent and occupancy", "Freight and energy"]
+    ws, lines = logic.build_cost_index(demo, "Harbourline costs", comps, weights, "fixed")
+    s = logic.pick_index(ws, "Harbourline costs")
+    assert s.kind == "index" and s.values.notna().sum() > 12
+    assert any("Fixed weights" in line for line in lines)
+    with pytest.raises(RealbasisError):
+        logic.build_cost_index(demo, "x", comps[:1], weights, "fixed")
+
+
+def test_shelf_action_saves_a_new_version(access: DataAccess, small: Workspace):
+    ws = access.create("shelf test")
+    ws = access.save(dataclasses.replace(ws, series=small.series, indexes=small.indexes),
+                     action="setup")
+    ref, message, _method = shelf.act(access, WorkspaceRef(ws.id, ws.version),
+                                     lambda w: logic.rebase_index(w, "Index A", "2024"), "rebase")
+    assert ref is not None and ref.version == ws.version + 1
+    ref2, message, _ = shelf.act(access, WorkspaceRef(ws.id, ws.version),
+                                 lambda w: logic.rebase_index(w, "Index A", "1990"), "rebase")
+    assert ref2 is None and "IX001" in str(message.to_plotly_json())
+
+
+# --------------------------------------------------------------------------- pieces
+
+
+def test_numbers_have_thousands_separators_and_units():
+    assert components.fmt_number(1234567.891) == "1,234,567.9"
+    assert components.fmt_number(float("nan")) == "–"
+    assert components.fmt_percent(0.0234) == "+2.3 %"
+    assert components.fmt_percent(-0.00001) == "+0.0 %"
+    t = components.table([components.Column("v", "Value (USD)", "number", 0)], [{"v": 12345}])
+    assert "12,345" in str(t.to_plotly_json())
+
+
+def test_user_text_stays_text():
+    evil = "<img src=x onerror=alert(1)>"
+    t = components.table([components.Column("name", "Series")], [{"name": evil}])
+    cell = t.children[1].children[0].children[0]
+    assert cell.children == evil  # a text child: React escapes it
+    root = Path(components.__file__).parent
+    for path in root.rglob("*.py"):
+        text = path.read_text()
+        assert "dangerously" not in text and "dcc.Markdown" not in text, path
+
+
+def test_palette_is_okabe_ito():
+    # Okabe & Ito (2008), "Color Universal Design (CUD): how to make figures and
+    # presentations that are friendly to colorblind people", the eight colours.
+    assert set(figures.OKABE_ITO) == {"#000000", "#E69F00", "#56B4E9", "#009E73", "#F0E442",
+                                      "#0072B2", "#D55E00", "#CC79A7"}
+    assert set(figures.LINE_COLOURS) <= set(figures.OKABE_ITO)
+
+
+def test_figures_shade_preliminary_and_dash_projected():
+    frame = pd.DataFrame({"period": ["2024", "2025", "2026", "2027"],
+                          "nominal": [1.0, 2.0, 3.0, 4.0], "real": [1.0, 1.5, 2.0, 2.5],
+                          "status": ["final", "preliminary", "projected", "projected"]})
+    fig = figures.real_terms_figure(frame, title="t", unit="USD", real_label="Real")
+    dashed = [t for t in fig.data if t.name.endswith("(projected)")]
+    assert dashed and all(t.line.dash == "dash" for t in dashed)
+    # the dashed part starts at the last measured point so the line is continuous
+    assert dashed[-1].y[:2] == (None, 1.5)
+    shapes = fig.layout.shapes
+    assert [(s.x0, s.x1) for s in shapes] == [(0.5, 1.5), (1.5, 3.5)]
+
+
+def test_screens_are_discovered_in_order():
+    keys = [s.key for s in discover()]
+    assert keys[:5] == ["intake", "shelf", "real", "spread", "revisions"]
+
+
+# --------------------------------------------------------------------------- data access
+
+
+def test_demo_workspace_is_built_once(tmp_path: Path):
+    a = DataAccess(Settings(data_dir=str(tmp_path)))
+    b = DataAccess(Settings(data_dir=str(tmp_path)))
+    ra, rb_ = a.demo_ref(), b.demo_ref()
+    assert ra.id == rb_.id
+    assert sum(1 for w in a.store.list() if w.name == DEMO_NAME) == 1
+    ws = a.load(ra)
+    assert "ILLUSTRATIVE" in ws.notes and "Harbourline" in ws.notes
+
+
+def test_cache_is_keyed_by_id_and_version(access: DataAccess):
+    ws = access.create("cache")
+    ref = WorkspaceRef(ws.id, ws.version)
+    assert access.load(ref) is access.load(ref)
+    saved = access.save(dataclasses.replace(ws, notes="changed"), action="note")
+    assert access.load(WorkspaceRef(ws.id, 0)).notes == "changed"
+    assert access.load(ref).notes == ""  # the old version is still the old version
+    assert saved.version == ws.version + 1
+
+
+def test_kept_uploads_are_shared_files_with_checked_ids(access: DataAccess):
+    uid = access.keep_upload(b"abc", "a.csv")
+    assert access.upload(uid) == (b"abc", "a.csv")
+    for bad in ("../../etc/passwd", "0" * 64, 5):
+        with pytest.raises(RealbasisError) as err:
+            access.upload(bad)  # type: ignore[arg-type]
+        assert err.value.code == "UI003"
+
+
+def test_secret_key_is_generated_once_and_shared(tmp_path: Path):
+    from dashboard.jobs import secret_key
+
+    s = Settings(data_dir=str(tmp_path))
+    assert secret_key(s) == secret_key(s) and len(secret_key(s)) > 40
+    assert secret_key(s.replace(secret_key="fixed")) == "fixed"
