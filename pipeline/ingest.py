@@ -594,9 +594,11 @@ def _period_share(col: pd.Series, fy_start: int | None) -> float:
         return 0.0
     sample = sample.iloc[:2000]
     try:
-        parsed = labels.parse_values(sample.tolist(), fy_start if fy_start else 7)
-    except RealbasisError:
-        return 0.0
+        parsed = labels.parse_values(sample.tolist(), fy_start if fy_start and fy_start != 1 else 7)
+    except RealbasisError as e:
+        # slashed dates of unclear day/month order are periods all the same: the real
+        # parse then raises PE106 with the column named
+        return 1.0 if e.code == labels.PE106 else 0.0
     return float((parsed.keys != "").mean())
 
 
@@ -627,7 +629,8 @@ def _layout(t: _Table, fy_start: int | None, name: str) -> tuple[Layout, dict[st
             pos = find(names)
             if pos is not None:
                 roles[role] = pos
-        return "long", roles, False
+        unused = [t.header[i] for i in range(len(t.header)) if i not in roles.values()]
+        return "long", {**roles, "_unused": unused}, False  # type: ignore[dict-item]
     # wide: a period column, by name first, then by content (left to right)
     candidates = ([period] if period is not None else []) + [
         i for i in range(len(t.header)) if i != period]
@@ -669,6 +672,9 @@ def _wide(t: _Table, roles: dict[str, int], name: str) -> tuple[_Long, list[Prob
     short = [split[t.header[i]][0] for i in value_cols]
     use_short = len({s.casefold() for s in short}) == len(short)
     names = [s if use_short else t.header[i] for s, i in zip(short, value_cols, strict=True)]
+    if len(value_cols) == 1 and _norm(names[0]) in _VALUE_NAMES:
+        # 'date,value' files: the file name is the better series name
+        names = [Path(name).stem or names[0]]
     n = len(t.cells)
     k = len(value_cols)
     vals = t.cells[value_cols].to_numpy(dtype=object).reshape(-1)  # row-major
@@ -716,6 +722,7 @@ def _transposed(t: _Table, name: str) -> tuple[_Long, list[Problem]]:
 
 
 def _long(t: _Table, roles: dict[str, int]) -> _Long:
+    roles = {k: v for k, v in roles.items() if not k.startswith("_")}
     c = t.cells
     n = len(c)
     long = _Long(_ustrip(c[roles["series"]]), c[roles["period"]], c[roles["value"]], t.rows,
@@ -1070,6 +1077,13 @@ def read_file(source: str | Path | bytes, *, filename: str | None = None, sheet:
     if layout == "sdmx":
         long = _sdmx(table, roles)
     elif layout == "long":
+        unused: list[str] = roles.pop("_unused", [])  # type: ignore[assignment]
+        if unused:
+            problems.append(Problem(IN025, "columns not used by a long layout were ignored",
+                                    "series, period, value and optional unit, status, vintage",
+                                    ", ".join(unused), "Nothing to do if they hold notes only.",
+                                    Location(file=name, sheet=table.sheet, column=unused[0]),
+                                    "warning"))
         long = _long(table, roles)
     elif transposed:
         long, more = _transposed(table, name)

@@ -5,7 +5,9 @@ Accepted (case and surrounding blanks ignored):
 =====================  =========================  ==================================
 style                  examples                   frequency
 =====================  =========================  ==================================
-ISO date (+ time)      2024-01-31, 2024-01-01     monthly (a column may make it Q/A)
+ISO date (+ time)      2024-01-31, 2024/01/31     monthly (a column may make it Q/A)
+slashed date           31/01/2024, 1/31/2024      monthly; day/month order decided by
+                                                  the column (PE106 when it cannot be)
 year-month             2024-01, 2024/1, 2024M01,  monthly
                        2024-M01 (SDMX)
 month name             Jan 2024, January 2024,    monthly
@@ -57,6 +59,7 @@ PE102 = register("PE102", "fiscal year start month needed")
 PE103 = register("PE103", "period labels of mixed frequencies")
 PE104 = register("PE104", "fiscal start month out of range")
 PE105 = register("PE105", "fiscal span label needs a start month other than January")
+PE106 = register("PE106", "day and month order of dates is ambiguous")
 
 ACCEPTED = (
     "2024-01-31, 2024-01, 2024M01, Jan 2024, January 2024, 2024Q1, 2024-Q1, Q1 2024, "
@@ -64,7 +67,7 @@ ACCEPTED = (
 )
 
 # Label kinds (per unique label) ---------------------------------------------------------
-BAD, DATE, YM, AMBIG, SPAN, MNAME, QTR, YEAR, FYEAR, FYQTR = range(10)
+BAD, DATE, YM, AMBIG, SPAN, MNAME, QTR, YEAR, FYEAR, FYQTR, SLASH = range(11)
 
 _MONTHS = {
     "JAN": 1, "JANUARY": 1, "FEB": 2, "FEBRUARY": 2, "MAR": 3, "MARCH": 3, "APR": 4,
@@ -77,7 +80,8 @@ _Y = r"(?P<y>[12]\d{3})"
 
 # (kind, regex); each is tried with fullmatch on the labels not matched so far.
 _PATTERNS: tuple[tuple[int, str], ...] = (
-    (DATE, _Y + r"-(?P<m>\d{1,2})-(?P<d>\d{1,2})(?:[T ]\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?Z?)?"),
+    (SLASH, r"(?P<a>\d{1,2})[/.](?P<b>\d{1,2})[/.]" + _Y),
+    (DATE, _Y + r"[-/](?P<m>\d{1,2})[-/](?P<d>\d{1,2})(?:[T ]\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?Z?)?"),
     (YEAR, _Y + r"(?:\.0+|-A1?)?"),
     (YM, _Y + r"(?:[-/]|\s*-?M)(?P<m>\d{1,2})"),
     (SPAN, _Y + r"\s*[-/]\s*(?P<y2>[12]\d{3})"),
@@ -114,6 +118,7 @@ class _Unique:
     kind: np.ndarray  # int8 label kind per unique
     year: np.ndarray  # int64 (for SPAN/AMBIG: first year)
     sub: np.ndarray  # month (DATE/YM/AMBIG/MNAME) or quarter (QTR/FYQTR); 0 otherwise
+    sub2: np.ndarray  # SLASH dates: the second number (first is in sub); else 0
 
 
 def _check_fy_start(fy_start: int | None) -> int | None:
@@ -139,6 +144,7 @@ def _parse_uniques(values: Sequence[object]) -> _Unique:
     kind = np.zeros(n, dtype=np.int8)
     year = np.zeros(n, dtype=np.int64)
     sub = np.zeros(n, dtype=np.int64)
+    sub2 = np.zeros(n, dtype=np.int64)
     remaining = np.ones(n, dtype=bool)
     for k, pattern in _PATTERNS:
         if not remaining.any():
@@ -152,7 +158,12 @@ def _parse_uniques(values: Sequence[object]) -> _Unique:
         idx = pos[ok]
         g = got[ok]
         y = g["y"].astype(np.int64).to_numpy()
-        if k == DATE:
+        if k == SLASH:
+            kind[idx] = SLASH
+            year[idx] = y
+            sub[idx] = g["a"].astype(np.int64).to_numpy()
+            sub2[idx] = g["b"].astype(np.int64).to_numpy()
+        elif k == DATE:
             m = g["m"].astype(np.int64).to_numpy()
             d = g["d"].astype(np.int64).to_numpy()
             mm = np.clip(m, 1, 12)
@@ -187,7 +198,50 @@ def _parse_uniques(values: Sequence[object]) -> _Unique:
             kind[idx] = k
             year[idx] = y
         remaining[idx] = False
-    return _Unique(np.asarray(uniques, dtype=object), np.asarray(codes), kind, year, sub)
+    return _Unique(np.asarray(uniques, dtype=object), np.asarray(codes), kind, year, sub, sub2)
+
+
+def _resolve_slash(u: _Unique, kind: np.ndarray, present: np.ndarray,
+                   where: dict[str, object]) -> tuple[np.ndarray, np.ndarray]:
+    """Decide day/month order of ``31/01/2024`` or ``1/31/2024`` dates for a whole column.
+
+    A first number above 12 means day first; a second above 12 means month first. With
+    neither, dates all on the 1st of the month decide it (``1/3/2024`` next to
+    ``1/4/2024`` is day first); otherwise the order is ambiguous (PE106)."""
+    sl = (kind == SLASH) & present
+    if not sl.any():
+        return kind, u.sub
+    kind, sub = kind.copy(), u.sub.copy()
+    a, b = u.sub[sl], u.sub2[sl]
+    if (a > 12).any() and (b > 12).any():
+        order = None
+    elif (a > 12).any():
+        order = "dmy"
+    elif (b > 12).any() or (a == b).all():
+        order = "mdy"
+    elif (a == 1).all():
+        order = "dmy"
+    elif (b == 1).all():
+        order = "mdy"
+    else:
+        ex = [str(x) for x in u.uniques[sl][:3]]
+        raise fail(PE106, "dates written with slashes could be day/month or month/day",
+                   expected="ISO dates (2024-01-31), or dates whose day is above 12 somewhere",
+                   found="dates such as " + ", ".join(repr(e) for e in ex),
+                   fix="Write the dates as YYYY-MM-DD (or as 2024-01 for months).",
+                   **where)  # type: ignore[arg-type]
+    if order is None:
+        kind[sl] = BAD
+        return kind, sub
+    month = a if order == "mdy" else b
+    day = b if order == "mdy" else a
+    pos = np.flatnonzero(sl)
+    mm = np.clip(month, 1, 12)
+    dim = pd.PeriodIndex.from_fields(year=u.year[sl], month=mm, freq="M").days_in_month.to_numpy()
+    ok = (month >= 1) & (month <= 12) & (day >= 1) & (day <= dim)
+    kind[pos] = np.where(ok, DATE, BAD)
+    sub[pos] = month
+    return kind, sub
 
 
 def _resolve_ambiguous(kind: np.ndarray, present: np.ndarray) -> np.ndarray:
@@ -309,6 +363,11 @@ def parse_label(text: str, fy_start: int | None = None) -> tuple[pd.Period, Freq
                    fix="Write the period in one of the accepted forms, e.g. 2024-01, 2024Q1, FY2025.")
     if kind[0] == AMBIG:
         kind[0] = YM
+    kind, sub = _resolve_slash(u, kind, np.ones(1, dtype=bool), {})
+    if kind[0] == BAD:
+        raise fail(PE101, f"{text.strip()!r} is not a date", expected=ACCEPTED, found=repr(text),
+                   fix="Write the period in one of the accepted forms, e.g. 2024-01-31 or 2024-01.")
+    u = _Unique(u.uniques, u.codes, kind, u.year, sub, u.sub2)
     _needs_fy(kind, fy_start, {}, [text])
     key = _freq_key(kind)[0]
     ords = _first_month_ordinal(kind, u.year, u.sub, fy_start or 1)
@@ -335,6 +394,8 @@ def parse_values(values: Sequence[object], fy_start: int | None = None, *,
     present = np.zeros(len(u.uniques), dtype=bool)
     present[u.codes[u.codes >= 0]] = True
     kind = _resolve_ambiguous(u.kind, present)
+    kind, sub = _resolve_slash(u, kind, present, where or {})
+    u = _Unique(u.uniques, u.codes, kind, u.year, sub, u.sub2)
     used = kind[present]
     ex = [str(x) for x in u.uniques[present & np.isin(kind, (SPAN, FYEAR, FYQTR))][:3]]
     _needs_fy(used, fy_start, where or {}, ex)

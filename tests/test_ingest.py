@@ -373,3 +373,19 @@ def test_fuzz_random_bytes(data, filename):
 @given(st.binary(max_size=200))
 def test_fuzz_bytes_behind_a_zip_signature(tail):
     _check(b"PK\x03\x04" + tail, "fuzz.xlsx")
+
+
+def test_date_value_file_takes_its_name_from_the_file_and_long_extras_are_reported():
+    r = read_file(b"date,value\n2024-01-31,1\n2024-02-29,2\n", filename="store_sales.csv")
+    assert [s.name for s in r.series] == ["store_sales"]
+    text = b"series,period,value,comment\nRevenue,2024-01,1,checked\n"
+    w = read_file(text, filename="c.csv")
+    assert codes(w) == ["IN025"] and w.problems[0].where.column == "comment"
+
+
+def test_slashed_dates_of_unclear_order_are_refused_with_the_column():
+    with pytest.raises(RealbasisError) as e:
+        read_file(b"Date,Revenue\n3/4/2024,1\n4/5/2024,2\n", filename="s.csv")
+    assert e.value.code == "PE106" and e.value.problems[0].where.column == "Date"
+    r = read_file(b"Date,Revenue\n31/1/2024,1\n29/2/2024,2\n", filename="s.csv")
+    assert r.series[0].index[1] == pd.Period("2024-02", "M")

@@ -191,3 +191,23 @@ def test_canonical_labels_round_trip(year, month, code, fy_start):
             "FY": Frequency("FY", fy_start), "FQ": Frequency("Q", fy_start)}[code]
     period = pd.Period(f"{year}-{month:02d}", "M").asfreq(freq.pandas_freq)
     assert parse_label(freq.label(period), fy_start=fy_start) == (period, freq)
+
+
+def test_slashed_dates_resolved_by_the_column():
+    # day above 12 decides day-first (common practice in UK/European exports) ...
+    assert parse_label("31/01/2024")[0] == pd.Period("2024-01", "M")
+    # ... second number above 12 decides month-first (US spreadsheets)
+    assert parse_label("1/31/2024")[0] == pd.Period("2024-01", "M")
+    assert parse_label("2024/01/31")[0] == pd.Period("2024-01", "M")
+    # first-of-month columns decide it: 1/3, 1/4 are 1 March, 1 April
+    assert list(parse_label_column(["1/3/2024", "1/4/2024"]).index.month) == [3, 4]
+    assert list(parse_label_column(["3/1/2024", "4/1/2024"]).index.month) == [3, 4]
+    with pytest.raises(RealbasisError) as e:
+        parse_label_column(["3/4/2024", "4/5/2024"], file="d.csv", column="date")
+    assert e.value.code == "PE106" and e.value.problems[0].where.column == "date"
+    with pytest.raises(RealbasisError) as e:
+        parse_label("3/4/2024")
+    assert e.value.code == "PE106"
+    with pytest.raises(RealbasisError) as e:
+        parse_label("30/2/2024")
+    assert e.value.code == "PE101"
