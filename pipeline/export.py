@@ -68,9 +68,12 @@ def _context_lines(context: Mapping[str, Any]) -> list[tuple[str, str]]:
     return [(str(k), str(v)) for k, v in context.items() if v is not None]
 
 
+CSV_LINE_END = "\r\n"  # RFC 4180; also makes the csv writer quote text holding a CR
+
+
 def write_csv(result: DeflationResult, path: Path) -> None:
     table = neutralise_frame(export_table(result))
-    table.to_csv(path, index=False, lineterminator="\n")
+    table.to_csv(path, index=False, lineterminator=CSV_LINE_END)
 
 
 def _num(v: float) -> float | None:
