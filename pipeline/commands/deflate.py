@@ -168,7 +168,7 @@ def emit(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> N
         sys.stderr.write(f"wrote {path} ({result.dollars_label}; {rows} series x deflator "
                          f"pairs, {result.frequency.describe()})\n")
         return
-    neutralise_frame(result.table()).to_csv(sys.stdout, index=False, lineterminator="\n")
+    neutralise_frame(result.table()).to_csv(sys.stdout, index=False, lineterminator="\r\n")
     sys.stdout.flush()
     for line in result.method_note():
         sys.stderr.write(f"# {line}\n")
