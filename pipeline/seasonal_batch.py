@@ -24,6 +24,7 @@ same statistics computed the same way.
 
 from __future__ import annotations
 
+import multiprocessing
 import os
 import threading
 from collections import OrderedDict
@@ -292,11 +293,16 @@ def run_pool(
     enough to balance uneven series and to give the progress bar steps). ``progress``
     is called in this process with (items done, total) after each chunk. With one worker
     (or one item) everything runs here, in order, with no pool at all. An ``executor``
-    given by the caller is used and left open.
+    given by the caller is used and left open. Inside a daemonic process (which may not
+    have children) everything runs inline too.
     """
     items = list(items)
     total = len(items)
     workers = max_workers or default_workers()
+    if executor is None and multiprocessing.current_process().daemon:
+        # A daemonic process (a Celery prefork worker, some background-job runners) may
+        # not start children: run inline instead of failing.
+        workers = 1
     if total == 0:
         return []
     if executor is None and (workers <= 1 or total == 1):

@@ -450,3 +450,20 @@ def test_method_note_states_method_model_and_diagnostics(elec):
     assert "STL" in note[0] and "seasonal=7" in note[0] and "monthly" in note[0]
     assert note[1].startswith("Model: multiplicative")
     assert "strength of seasonality" in note[2]
+
+
+def _pool_in_daemon(queue) -> None:
+    queue.put(run_pool(_square, range(6), max_workers=2))
+
+
+def test_run_pool_runs_inline_inside_a_daemonic_process():
+    # e.g. a Celery prefork worker: daemonic processes may not start a pool
+    import multiprocessing
+
+    ctx = multiprocessing.get_context("fork")
+    queue = ctx.Queue()
+    proc = ctx.Process(target=_pool_in_daemon, args=(queue,), daemon=True)
+    proc.start()
+    got = queue.get(timeout=60)
+    proc.join(60)
+    assert got == [i * i for i in range(6)] and proc.exitcode == 0
