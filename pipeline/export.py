@@ -6,9 +6,10 @@
   which has no interpolation switch).
 * ``.json``: ``{"base", "frequency", "dollars", "columns", "records", "method",
   "cautions", "warnings", "context"}``; missing numbers are ``null``.
-* ``.xlsx``: a data sheet ("Real terms") and a "Method" sheet (method note, the usual
-  cautions, warnings, context). :func:`build_workbook` returns the openpyxl workbook so the
-  audit-workbook code can add or replace sheets before saving.
+* ``.xlsx``: the audit workbook of :mod:`pipeline.workbook` (Summary, the "Real terms"
+  data sheet written by :func:`write_data_sheet`, one "Real - <deflator>" sheet each,
+  "Indexes used", "Status flags", "Method"). :func:`build_workbook` still gives the
+  minimal two-sheet workbook (data and method) for callers that want only that.
 
 Text cells that a spreadsheet would read as a formula (starting with = + - @, a tab or a
 carriage return) are written with a leading single quote (:func:`neutralise`).
@@ -180,7 +181,11 @@ def build_workbook(result: DeflationResult, **context: Any) -> Any:
 
 
 def write_xlsx(result: DeflationResult, path: Path, **context: Any) -> None:
-    build_workbook(result, **context).save(path)
+    """The audit workbook (:mod:`pipeline.workbook`): summary, the "Real terms" data
+    sheet, real values per deflator, indexes as used, status flags and method."""
+    from .workbook import write_workbook
+
+    write_workbook(result, path, **context)
 
 
 def write_result(result: DeflationResult, path: str | Path, **context: Any) -> Path:

@@ -97,3 +97,117 @@ def test_garbage_tokens_resolve_to_nothing(store):
     token, _ = store.create_link(ws.id)
     for bad in ("", "x", token[:-1], token + "A", token.upper(), "' OR 1=1 --", "a" * 5000):
         assert store.resolve_token(bad) is None
+
+
+# --------------------------------------------------------------------------- HTTP level
+
+
+def _app(tmp_path, **settings_kw):
+    from dash import Input, Output
+
+    from dashboard.app import create_app
+    from pipeline.settings import Settings
+
+    settings = Settings(data_dir=str(tmp_path / "data"), demo=False, **settings_kw)
+    store = WorkspaceStore.from_settings(settings)
+    ws = store.create("Tallmere transit (illustrative)")
+    app = create_app(settings, store=store)
+
+    # A probe callback that changes the workspace, standing in for any screen's save.
+    @app.callback(Output("probe-out", "children"), Input("probe-btn", "n_clicks"))
+    def _probe(n):
+        cur = store.load(ws.id)
+        saved = store.save(cur.__class__(**{**cur.__dict__, "notes": f"edit {n}"}),
+                           action="probe edit")
+        return f"saved v{saved.version}"
+
+    # And one that swallows the refusal and pretends all is well: the server must still
+    # answer 403 because a change was refused while handling the request.
+    @app.callback(Output("probe-out2", "children"), Input("probe-btn2", "n_clicks"))
+    def _sneaky(n):
+        try:
+            store.record_upload(ws.id, "x.csv", 1, "0" * 64)
+        except RealbasisError:
+            return "ok"
+        return "ok"
+
+    return app, store, ws
+
+
+def _dispatch(client, button="probe-btn", out="probe-out", headers=None, changed=None):
+    body = {"output": f"{out}.children", "outputs": {"id": out, "property": "children"},
+            "inputs": [{"id": button, "property": "n_clicks", "value": 1}],
+            "changedPropIds": changed or [f"{button}.n_clicks"], "state": []}
+    return client.post("/_dash-update-component", json=body, headers=headers or {})
+
+
+def test_reviewer_cannot_change_anything_over_http(tmp_path):
+    app, store, ws = _app(tmp_path)
+    editor = app.server.test_client()
+    r = _dispatch(editor)
+    assert r.status_code == 200, r.get_data(as_text=True)
+    assert r.headers["X-Realbasis-Access"] == "editor"
+    assert store.current_version(ws.id) == 2
+
+    token, info = store.create_link(ws.id, label="auditor")
+    reviewer = app.server.test_client()
+    r = reviewer.get(f"/review/{token}")
+    assert r.status_code == 302
+    page = reviewer.get("/")
+    assert page.status_code == 200 and page.headers["X-Realbasis-Access"] == "reviewer"
+    layout = reviewer.get("/_dash-layout").get_data(as_text=True)
+    assert "Read-only reviewer view" in layout
+
+    before = store.current_version(ws.id)
+    r = _dispatch(reviewer)
+    assert r.status_code == 403 and r.get_json()["code"] == "SH001"
+    r = _dispatch(reviewer, "probe-btn2", "probe-out2")  # refusal swallowed by the callback
+    assert r.status_code == 403 and r.get_json()["code"] == "SH001"
+    r = _dispatch(reviewer, changed=["in-upload.contents"])  # uploads refused up front
+    assert r.status_code == 403
+    for method in ("post", "put", "delete"):
+        r = getattr(reviewer, method)("/anything", data=b"x")
+        assert r.status_code == 403
+    # The same by header, without a cookie.
+    r = _dispatch(app.server.test_client(), headers={"X-Realbasis-Review": token})
+    assert r.status_code == 403 and r.get_json()["code"] == "SH001"
+    assert store.current_version(ws.id) == before
+    assert not [e for e in store.audit(ws.id) if e.event == "upload"]
+
+    # Revoking takes effect on the very next request.
+    store.revoke_link(info.id)
+    r = reviewer.get("/")
+    assert r.status_code == 403 and "SH002" in r.get_data(as_text=True)
+    assert reviewer.get(f"/review/{token}").status_code == 403
+    assert reviewer.get("/review/not-a-token").status_code == 403
+
+
+def test_editor_access_is_local_unless_a_token_is_set(tmp_path):
+    from dashboard.app import create_app
+    from pipeline.settings import Settings
+
+    with pytest.raises(RealbasisError) as err:
+        create_app(Settings(data_dir=str(tmp_path / "d0"), host="0.0.0.0", demo=False))
+    assert err.value.code == "SH003"
+
+    app, store, ws = _app(tmp_path / "a")
+    remote = app.server.test_client()
+    remote.environ_base["REMOTE_ADDR"] = "192.0.2.7"  # TEST-NET-1 (RFC 5737)
+    assert _dispatch(remote).status_code == 403
+    local = app.server.test_client()
+    assert _dispatch(local, headers={"X-Forwarded-For": "192.0.2.7"}).status_code == 403
+    assert local.get("/", headers={"Host": "attacker.example"}).status_code == 403
+    assert _dispatch(local, headers={"Origin": "http://attacker.example"}).status_code == 403
+    assert store.current_version(ws.id) == 1
+
+    secret = "correct horse battery staple 42"
+    app, store, ws = _app(tmp_path / "b", host="0.0.0.0", editor_token=secret)
+    c = app.server.test_client()
+    c.environ_base["REMOTE_ADDR"] = "192.0.2.7"
+    assert c.get("/").status_code == 302  # to the sign-in page
+    assert _dispatch(c).status_code == 403
+    assert _dispatch(c, headers={"Authorization": "Bearer wrong"}).status_code == 403
+    assert _dispatch(c, headers={"Authorization": f"Bearer {secret}"}).status_code == 200
+    assert c.post("/editor-login", data={"token": secret}).status_code == 302
+    assert _dispatch(c).status_code == 200
+    assert store.current_version(ws.id) == 3

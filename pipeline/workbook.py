@@ -1,0 +1,525 @@
+"""The audit workbook: one Excel file a reviewer can check a real-terms result against.
+
+Sheets (in this order):
+
+* **Summary** — what the numbers are (constant dollars of which base period), the
+  series and deflators, one line per series x deflator (first and last period, real
+  values there, real change, worst status), the usual cautions.
+* **Real terms** — the engine's tidy table exactly (``series, deflator, period, nominal,
+  deflator_index, real, status``, plus ``interpolated`` / ``nominal_sa``, ``real_sa`` when
+  used), the same rows as ``realbasis deflate`` prints (written by
+  :func:`pipeline.export.write_data_sheet`).
+* **Real - <deflator>** — one sheet per deflator: period, then nominal, real and status
+  for every series.
+* **Indexes used** — every deflator as used, rebased so the base period = 100, with its
+  per-period status, vintage, source and reference.
+* **Status flags** — every real value resting on a preliminary, projected (or
+  interpolated) index value, and the preliminary/projected stretches of each deflator.
+* **Method** — base period, alignment rules (the engine's method note), seasonal
+  adjustment, index vintages, warnings, cautions, how the file was made.
+* **Audit trail** — when the export comes from a stored workspace.
+
+Text that came from users (series and index names, units, notes, file names, settings)
+is *neutralised* before it is written: a cell starting with ``=``, ``+``, ``-``, ``@``, a
+tab or a carriage return gets a leading apostrophe and is stored as text, so a
+spreadsheet never runs it as a formula (OWASP "CSV Injection" guidance). Numbers are
+written as numbers at full precision; number formats only change how they look.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+from collections.abc import Iterable, Mapping, Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+from openpyxl import Workbook
+from openpyxl.cell import WriteOnlyCell
+from openpyxl.styles import Alignment, Font, PatternFill
+from openpyxl.utils import get_column_letter
+
+from . import __version__
+from .errors import fail, register
+from .export import EX002, EX003, XLSX_MAX_ROWS, export_table, neutralise, write_data_sheet
+from .model import CAUTIONS, STATUSES
+
+EX101 = register("EX101", "too many series for one workbook sheet")
+
+XLSX_MAX_COLUMNS = 16_384
+SHEET_SUMMARY = "Summary"
+SHEET_DATA = "Real terms"
+SHEET_INDEXES = "Indexes used"
+SHEET_FLAGS = "Status flags"
+SHEET_METHOD = "Method"
+SHEET_AUDIT = "Audit trail"
+REAL_PREFIX = "Real - "
+
+_BOLD = Font(bold=True)
+_TITLE = Font(bold=True, size=14)
+_WRAP = Alignment(wrap_text=True, vertical="top")
+_FLAG_FILL = {"preliminary": PatternFill("solid", fgColor="FFF2CC"),
+              "projected": PatternFill("solid", fgColor="E2EFDA")}
+_MONEY = "#,##0.00"
+_INDEX = "0.000"
+_BAD_SHEET_CHARS = re.compile(r"[\[\]:*?/\\]")
+
+
+class _Cell:
+    """A value with its look, turned into an openpyxl write-only cell by :func:`_append`."""
+
+    __slots__ = ("fill", "fmt", "font", "value", "wrap")
+
+    def __init__(self, value: Any, *, fmt: str | None = None, font: Font | None = None,
+                 fill: PatternFill | None = None, wrap: bool = False) -> None:
+        self.value, self.fmt, self.font, self.fill, self.wrap = value, fmt, font, fill, wrap
+
+
+def _plain(value: Any) -> Any:
+    if isinstance(value, np.generic):
+        value = value.item()
+    if isinstance(value, float) and not np.isfinite(value):
+        return None if np.isnan(value) else ("inf" if value > 0 else "-inf")
+    return value
+
+
+def _append(ws: Any, values: Sequence[Any], *, font: Font | None = None,
+            fmts: Sequence[str | None] | None = None) -> None:
+    """Append one row: text neutralised and stored as text (never a formula), NaN empty."""
+    row = []
+    for j, v in enumerate(values):
+        spec = v if isinstance(v, _Cell) else _Cell(v)
+        value = _plain(spec.value)
+        if isinstance(value, str):
+            cell = WriteOnlyCell(ws, neutralise(value))
+            cell.data_type = "s"
+        else:
+            cell = WriteOnlyCell(ws, value)
+            fmt = spec.fmt or (fmts[j] if fmts and j < len(fmts) else None)
+            if fmt and value is not None:
+                cell.number_format = fmt
+        if spec.font or font:
+            cell.font = spec.font or font
+        if spec.fill is not None:
+            cell.fill = spec.fill
+        if spec.wrap:
+            cell.alignment = _WRAP
+        row.append(cell)
+    ws.append(row)
+
+
+def _widths(ws: Any, widths: Mapping[int, float]) -> None:
+    for col, w in widths.items():
+        ws.column_dimensions[get_column_letter(col)].width = w
+
+
+def _flagged(status: str) -> _Cell:
+    return _Cell(status, fill=_FLAG_FILL.get(status))
+
+
+def sheet_title(name: str, taken: set[str]) -> str:
+    """A valid, unique worksheet title for user text (31 characters, no []:*?/\\)."""
+    base = _BAD_SHEET_CHARS.sub("_", name).strip("'") or "sheet"
+    base = base[:31]
+    title, n = base, 2
+    while title.lower() in taken:
+        suffix = f" ({n})"
+        title = base[:31 - len(suffix)] + suffix
+        n += 1
+    taken.add(title.lower())
+    return title
+
+
+def _lines(value: Any) -> list[str]:
+    if value is None:
+        return []
+    if isinstance(value, str):
+        return [value]
+    if isinstance(value, Mapping):
+        return [f"{k}: {v}" for k, v in value.items()]
+    if isinstance(value, Iterable):
+        return [str(v) for v in value]
+    return [str(value)]
+
+
+def _status_name(rank: Any) -> str:
+    return STATUSES[int(rank)]
+
+
+def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
+    """Write the audit workbook of a :class:`pipeline.deflate.DeflationResult`.
+
+    Optional ``context`` (all plain values): ``title``; ``command`` (the command line
+    or screen that made it); ``seasonal`` (words, or a list of lines, on the seasonal
+    adjustment applied; default "none"); ``files`` or ``sources`` (input files);
+    ``workspace`` (name, id and version text); ``audit`` (a sequence of
+    :class:`pipeline.store.AuditEvent`); ``notes``; ``cautions`` (default
+    :data:`pipeline.model.CAUTIONS`); ``generated_at`` (datetime). Other keys are listed
+    on the method sheet as "key: value". Raises EX003 when the data do not fit a sheet,
+    EX101 when there are too many series for the wide sheets, EX002 on a write error."""
+    path = Path(path)
+    table = result.table(flags=True)
+    if len(table) + 1 > XLSX_MAX_ROWS:
+        raise fail(EX003, f"{len(table)} rows do not fit on one Excel sheet",
+                   expected=f"at most {XLSX_MAX_ROWS - 1} rows", found=str(len(table)),
+                   fix="Export CSV or JSON instead, or deflate fewer series at a time.")
+    wide = 1 + 3 * len(result.series_names)
+    if wide > XLSX_MAX_COLUMNS:
+        raise fail(EX101, f"{len(result.series_names)} series do not fit side by side on "
+                   "one Excel sheet", expected=f"at most {(XLSX_MAX_COLUMNS - 1) // 3} series",
+                   found=str(len(result.series_names)),
+                   fix="Export CSV or JSON instead, or deflate fewer series at a time.")
+    wb = Workbook(write_only=True)
+    taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_DATA, SHEET_INDEXES, SHEET_FLAGS,
+                                 SHEET_METHOD, SHEET_AUDIT)}
+    _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
+    write_data_sheet(wb, export_table(result), SHEET_DATA)
+    for d, name in enumerate(result.deflator_names):
+        _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d)
+    _indexes(wb.create_sheet(SHEET_INDEXES), result)
+    _flags(wb.create_sheet(SHEET_FLAGS), result, table)
+    _method(wb.create_sheet(SHEET_METHOD), result, context)
+    if context.get("audit"):
+        _audit(wb.create_sheet(SHEET_AUDIT), context["audit"])
+    tmp = path.with_name(path.name + ".part")
+    try:
+        wb.save(tmp)
+        tmp.replace(path)
+    except OSError as err:
+        tmp.unlink(missing_ok=True)
+        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
+                   fix="Check that the folder exists, that you may write there, and that "
+                       "no spreadsheet program holds the file open.") from None
+    return path
+
+
+# --------------------------------------------------------------------------- sheets
+
+
+def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
+    _widths(ws, {1: 34, 2: 34, 3: 8, 4: 14, 5: 12, 6: 12, 7: 16, 8: 16, 9: 12, 10: 13})
+    title = context.get("title") or f"Real terms in {result.dollars_label}"
+    _append(ws, [_Cell(str(title), font=_TITLE)])
+    _append(ws, [])
+    made_at = context.get("generated_at") or dt.datetime.now(dt.UTC)
+    facts = [
+        ("Amounts", f"{result.dollars_label} (base period {result.base_label})"),
+        ("Frequency", result.frequency.describe()),
+        ("Periods", f"{result.period_labels[0]} to {result.period_labels[-1]}"
+         if len(result.periods) else "none"),
+        ("Series", ", ".join(result.series_names)),
+        ("Deflators", ", ".join(
+            f"{s.name} (vintage {s.vintage or 'not stated'})" for s in result.deflators_used)
+         or ", ".join(result.deflator_names)),
+        ("Worst status", result.worst_status),
+        ("Workspace", context.get("workspace")),
+        ("Made by", f"realbasis {__version__}"),
+        ("Made at", made_at.isoformat(timespec="seconds")),
+    ]
+    for label, value in facts:
+        if value not in (None, ""):
+            _append(ws, [_Cell(label, font=_BOLD), str(value)])
+    _append(ws, [])
+    _append(ws, ["Series", "Deflator", "Kind", "Unit", "First period", "Last period",
+                 "Real, first", "Real, last", "Real change", "Worst status"], font=_BOLD)
+    labels = result.period_labels
+    for j, sname in enumerate(result.series_names):
+        rows = np.flatnonzero(~np.isnan(result.nominal[:, j]))
+        if not len(rows):
+            continue
+        first, last = rows[0], rows[-1]
+        for d, dname in enumerate(result.deflator_names):
+            r0, r1 = float(result.real[d][first, j]), float(result.real[d][last, j])
+            change = (r1 / r0 - 1.0) if r0 and np.isfinite(r0) and np.isfinite(r1) else None
+            worst = _status_name(np.max(result.status[d][rows, j]))
+            _append(ws, [sname, dname, result.kinds[j], result.units[j] or "",
+                         labels[first], labels[last], r0, r1, change, _flagged(worst)],
+                    fmts=[None] * 6 + [_MONEY, _MONEY, "0.00%", None])
+    _append(ws, [])
+    _append(ws, [_Cell("Cautions", font=_BOLD)])
+    for line in context.get("cautions") or CAUTIONS:
+        _append(ws, ["• " + str(line)])
+    if result.worst_status != "final":
+        _append(ws, [_Cell("• Some figures here rest on preliminary or projected index "
+                           "values: see the sheet 'Status flags'.", font=_BOLD)])
+
+
+def _real(ws: Any, result: Any, d: int) -> None:
+    name = result.deflator_names[d]
+    ws.freeze_panes = "B4"
+    _widths(ws, {1: 11, **{c: 18 for c in range(2, 2 + 3 * len(result.series_names))}})
+    _append(ws, [_Cell(f"Real values deflated by {name}, in {result.dollars_label}",
+                       font=_BOLD)])
+    _append(ws, [])
+    header = ["period"]
+    for s in result.series_names:
+        header += [f"{s} (nominal)", f"{s} (real)", f"{s} status"]
+    _append(ws, header, font=_BOLD)
+    real, status, nominal = result.real[d], result.status[d], result.nominal
+    for t, label in enumerate(result.period_labels):
+        row: list[Any] = [str(label)]
+        for j in range(len(result.series_names)):
+            nom = float(nominal[t, j])
+            if np.isnan(nom):
+                row += [None, None, None]
+            else:
+                row += [_Cell(nom, fmt=_MONEY), _Cell(float(real[t, j]), fmt=_MONEY),
+                        _flagged(_status_name(status[t, j]))]
+        _append(ws, row)
+
+
+def _indexes(ws: Any, result: Any) -> None:
+    used = list(result.deflators_used)
+    _widths(ws, {1: 18, **{c: 20 for c in range(2, 2 + 2 * len(used))}})
+    ws.freeze_panes = "B8"  # title, blank, 4 lines about each index, header
+    _append(ws, [_Cell(f"Deflator indexes as used, rebased: {result.base_label} = 100",
+                       font=_BOLD)])
+    _append(ws, [])
+    if not used:
+        _append(ws, ["The result does not carry its deflators."])
+        return
+    meta = [("vintage", lambda s: s.vintage or "not stated"),
+            ("source", lambda s: s.source or ""),
+            ("original frequency", lambda s: s.frequency.describe()),
+            ("unit", lambda s: s.unit or "")]
+    for label, get in meta:
+        row: list[Any] = [_Cell(label, font=_BOLD)]
+        for s in used:
+            row += [get(s), None]
+        _append(ws, row)
+    header: list[Any] = ["period"]
+    for s in used:
+        header += [f"{s.name} ({result.base_label} = 100)", f"{s.name} status"]
+    _append(ws, header, font=_BOLD)
+    # one row per period of any deflator, in time order, at each deflator's own frequency
+    rows: dict[tuple[Any, Any], dict[int, tuple[float, str]]] = {}
+    names: dict[tuple[Any, Any], str] = {}
+    for k, s in enumerate(used):
+        labels = s.frequency.labels(s.index)
+        flags = s.status_or_final().tolist()
+        for p, lab, v, flag in zip(s.index, labels, s.values.tolist(), flags, strict=True):
+            key = (p.start_time, p.end_time)
+            rows.setdefault(key, {})[k] = (v, flag)
+            names[key] = lab
+    for key in sorted(rows):
+        row = [names[key]] + [None] * (2 * len(used))
+        for k, (v, flag) in rows[key].items():
+            row[1 + 2 * k] = _Cell(float(v), fmt=_INDEX)
+            row[2 + 2 * k] = _flagged(str(flag))
+        _append(ws, row)
+
+
+def _flags(ws: Any, result: Any, table: Any) -> None:
+    _widths(ws, {1: 30, 2: 30, 3: 16, 4: 16, 5: 16, 6: 14})
+    _append(ws, [_Cell("Figures resting on index values that are not final", font=_BOLD)])
+    _append(ws, ["Preliminary index values will be revised; projected values are "
+                 "assumptions. Interpolated: the index was interpolated to the series' "
+                 "periods."])
+    _append(ws, [])
+    _append(ws, [_Cell("Deflator stretches", font=_BOLD)])
+    _append(ws, ["deflator", "vintage", "preliminary from", "preliminary to",
+                 "projected from", "projected to"], font=_BOLD)
+    for s in result.deflators_used:
+        st = s.stretches()
+        pre, pro = st.get("preliminary"), st.get("projected")
+        _append(ws, [s.name, s.vintage or "not stated", *(pre or ("", "")),
+                     *(pro or ("", ""))])
+    _append(ws, [])
+    _append(ws, [_Cell("Real values flagged", font=_BOLD)])
+    _append(ws, ["series", "deflator", "period", "real", "status", "interpolated"], font=_BOLD)
+    flagged = table[(table["status"] != "final") | table["interpolated"]]
+    if flagged.empty:
+        _append(ws, ["None: every figure rests on final index values."])
+    for rec in flagged.itertuples(index=False):
+        _append(ws, [rec.series, rec.deflator, rec.period, _Cell(rec.real, fmt=_MONEY),
+                     _flagged(rec.status), "yes" if rec.interpolated else ""])
+
+
+_KNOWN = {"title", "command", "seasonal", "sources", "files", "workspace", "audit", "notes",
+          "cautions", "generated_at", "base"}
+
+
+def _seasonal_lines(result: Any) -> list[str]:
+    """The seasonal-adjustment note of an adjusted result (pipeline.seasonal's view)."""
+    adjusted = getattr(result, "_adjusted", None)
+    return list(adjusted.method_note()) if adjusted is not None else []
+
+
+def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
+    _widths(ws, {1: 28, 2: 110})
+    _append(ws, [_Cell("Method", font=_TITLE)])
+    _append(ws, [])
+    sections: list[tuple[str, list[str]]] = [
+        ("Base period", [f"{result.base_label}: every deflator is rebased so that its "
+                         f"average over {result.base_label} is 100; real = nominal x 100 / "
+                         f"rebased index, i.e. {result.dollars_label}."]),
+        ("Alignment rules and steps", [m for m in result.method_note()
+                                       if m not in _seasonal_lines(result)]),
+        ("Seasonal adjustment", _lines(context.get("seasonal")) or _seasonal_lines(result)
+         or ["None: the series were deflated as given."]),
+        ("Index vintages", [
+            f"{s.name}: vintage {s.vintage or 'not stated'}"
+            + (f"; source {s.source}" if s.source else "")
+            for s in result.deflators_used] or list(result.deflator_names)),
+        ("Input files", _lines(context.get("sources")) + _lines(context.get("files"))),
+        ("Warnings", [p.render().replace("\n", "; ") for p in result.warnings] or ["None."]),
+        ("Cautions", [str(c) for c in (context.get("cautions") or CAUTIONS)]),
+        ("Notes", _lines(context.get("notes"))),
+        ("How this file was made", [f"realbasis {__version__}"]
+         + _lines(context.get("command"))
+         + [f"{k}: {v}" for k, v in context.items() if k not in _KNOWN and v is not None]),
+    ]
+    for heading, lines in sections:
+        if not lines:
+            continue
+        for i, line in enumerate(lines):
+            _append(ws, [_Cell(heading, font=_BOLD) if i == 0 else None,
+                         _Cell(line, wrap=True)])
+        _append(ws, [])
+
+
+def _audit(ws: Any, events: Sequence[Any]) -> None:
+    ws.freeze_panes = "A2"
+    _widths(ws, {1: 26, 2: 18, 3: 12, 4: 9, 5: 90})
+    _append(ws, ["time (UTC)", "who", "event", "version", "what"], font=_BOLD)
+    for e in events:
+        _append(ws, [e.at.isoformat(timespec="seconds"), e.actor, e.event,
+                     e.version if e.version is not None else "", e.describe()])
+
+
+# --------------------------------------------------------------------------- workspaces
+
+EX102 = register("EX102", "workspace export needs a base period, series and deflators")
+
+
+def _latest(vintages: Mapping[str, Any]) -> str:
+    return sorted(vintages)[-1]  # ISO dates sort as text; '' (unknown) sorts first
+
+
+def _trim(s: Any, deflators: Sequence[Any]) -> tuple[Any, str | None]:
+    """Cut a series to the periods every deflator covers (its ends only)."""
+    covered = [d.values.dropna().index for d in deflators if d.values.notna().any()]
+    if not covered or s.values.dropna().empty:
+        return s, None
+    start = max(i[0].start_time for i in covered)
+    end = min(i[-1].end_time for i in covered)
+    idx = s.values.index
+    keep = np.asarray((idx.start_time >= start) & (idx.end_time <= end))
+    if keep.all() or not s.values[keep].notna().any():
+        return s, None  # nothing to cut, or nothing left: let the engine say what is missing
+    kept = s.values[keep]
+    status = s.status.reindex(kept.index) if s.status is not None else None
+    first, last = kept.dropna().index[0], kept.dropna().index[-1]
+    return (s.with_values(kept, status=status),
+            f"{s.name} is exported from {s.frequency.label(first)} to "
+            f"{s.frequency.label(last)}, the periods every chosen deflator covers.")
+
+
+def _frequency(code: Any, series: Sequence[Any], deflators: Sequence[Any]) -> Any:
+    """The result frequency from a saved choice: 'auto' (the series' own, or the least
+    frequent deflator's when coarser), 'native', 'M', 'Q', 'A', 'FY-7'."""
+    from .model import Frequency
+
+    if code and code not in ("auto", "native"):
+        text = str(code)
+        return Frequency("FY", int(text[3:])) if text.startswith("FY-") else Frequency(text)
+    if code == "native" or not series or not deflators:
+        return None
+    own = series[0].frequency
+    coarsest = min(deflators, key=lambda d: d.frequency.periods_per_year).frequency
+    if coarsest.periods_per_year < own.periods_per_year:
+        if coarsest.code == "Q" and own.is_fiscal:
+            return Frequency("Q", own.fy_start)
+        if coarsest.code == "A" and own.is_fiscal:
+            return Frequency("FY", own.fy_start)
+        return coarsest
+    return None
+
+
+def workspace_result(ws: Any, *, base: str | None = None,
+                     deflators: Sequence[str] | None = None,
+                     series: Sequence[str] | None = None, to: Any = None
+                     ) -> tuple[Any, dict[str, str], list[str]]:
+    """Deflate a stored workspace as its saved choices say (or as given).
+
+    Series: ``series``, else the workspace's chosen series and every other series of the
+    same frequency. Deflators: ``deflators``, else the chosen ones, else every index; each
+    at the vintage in ``settings["vintages"]`` or its latest. Base: ``base``, else the
+    saved base. Returns the result, the index vintages used and notes on trimming."""
+    from .deflate import deflate
+
+    settings = dict(ws.settings or {})
+    base = (base or str(settings.get("base") or "")).strip()
+    names = list(deflators or settings.get("deflators") or
+                 ([settings["deflator"]] if settings.get("deflator") else []) or ws.indexes)
+    names = [n for n in dict.fromkeys(names) if n in ws.indexes]
+    if series:
+        chosen = [n for n in series if n in ws.series]
+    else:
+        first = settings.get("series") if settings.get("series") in ws.series else None
+        if first is None and ws.series:
+            groups: dict[Any, list[str]] = {}
+            for n, s in ws.series.items():
+                groups.setdefault(s.frequency, []).append(n)
+            first = max(groups.values(), key=len)[0]
+        chosen = [n for n, s in ws.series.items()
+                  if first is not None and s.frequency == ws.series[first].frequency]
+    missing = [w for w, ok in (("a base period", base), ("money series", chosen),
+                               ("price indexes", names)) if not ok]
+    if missing:
+        raise fail(EX102, "the workspace export needs " + ", ".join(missing),
+                   expected="a saved base period, money series and price indexes",
+                   found=f"base {base or 'none'}; {len(chosen)} series; {len(names)} indexes",
+                   fix="Choose them on the Real terms or Deflator spread screen and save, or "
+                       "give them (--base, --deflator).")
+    saved_vintages = settings.get("vintages") if isinstance(settings.get("vintages"), dict) else {}
+    used: dict[str, str] = {}
+    defl = []
+    for n in names:
+        vins = ws.indexes[n]
+        key = str(saved_vintages.get(n)) if saved_vintages.get(n) in vins else _latest(vins)
+        used[n] = key
+        defl.append(vins[key])
+    notes = []
+    money = []
+    for n in chosen:
+        s, note = _trim(ws.series[n], defl)
+        money.append(s)
+        if note:
+            notes.append(note)
+    freq = _frequency(to if to is not None else settings.get("frequency", "auto"), money, defl)
+    return deflate(money, defl, base, to=freq), used, notes
+
+
+def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
+                     deflators: Sequence[str] | None = None,
+                     series: Sequence[str] | None = None, to: Any = None,
+                     store: Any = None, actor: str = "editor", command: str | None = None
+                     ) -> Path:
+    """Write a workspace's result (.xlsx audit workbook, .csv or .json) the same way the
+    command line does, with the workspace, its audit trail and index vintages recorded.
+    With a ``store`` and editor access, the export is noted in the audit trail."""
+    from .export import write_result
+    from .store import current_access
+
+    result, used, notes = workspace_result(ws, base=base, deflators=deflators, series=series,
+                                           to=to)
+    events = store.audit(ws.id) if store is not None else []
+    uploads = [f"{e.detail.get('filename')} ({e.detail.get('size')} bytes, sha256 "
+               f"{e.detail.get('sha256')})" for e in events if e.event == "upload"]
+    context: dict[str, Any] = {
+        "workspace": f"{ws.name} (id {ws.id}, version {ws.version})",
+        "command": command or f"realbasis workspace export {ws.id}",
+        "sources": uploads or None,
+        "notes": notes or None,
+        "audit": events or None,
+    }
+    if Path(path).suffix.lower() != ".xlsx":
+        context = {"workspace": context["workspace"], "command": context["command"],
+                   "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items())}
+    out = write_result(result, path, **{k: v for k, v in context.items() if v is not None})
+    if store is not None and not current_access().read_only:
+        store.record_use(ws.id, used, purpose=f"export {Path(path).name}", actor=actor)
+    return out
