@@ -473,7 +473,11 @@ def _block(
                          f"{'summed' if flow_rule == 'sum' else 'taken at the last sub-period'}"
                          f" to {out_freq.describe()}; its deflator_index there is the "
                          "implicit deflator 100 x nominal / real")
-        method.append(f"Deflator {at.words}; {agg_words}.")
+        pre = ""
+        if relation(freq, work) == "coarser":
+            how = "summed" if flow_rule == "sum" else "taken at their last sub-period"
+            pre = f"the {freq.describe()} series were first {how} to {work.describe()}; "
+        method.append(f"Deflator {at.words}; {pre}{agg_words}.")
         used_ranks = rank_w[~np.isnan(n_w).all(axis=1)] if n_s else rank_w[:0]
         if used_ranks.size and used_ranks.max() > 0:
             worst = str(_STATUS_ARR[int(used_ranks.max())])
