@@ -251,7 +251,7 @@ def _decode(data: bytes, name: str) -> tuple[str, str]:
 
 def _sniff(text: str) -> tuple[str, int]:
     """(delimiter, number of title lines above the header)."""
-    lines = [ln for ln in text.splitlines()[:60]]
+    lines = text[:200_000].splitlines()[:60]
     nonblank = [(i, ln) for i, ln in enumerate(lines) if ln.strip()]
     head = nonblank[0][1] if nonblank else ""
     best, best_score = ",", -1.0
@@ -281,7 +281,10 @@ def _read_text(data: bytes, name: str, settings: Settings) -> _Table:
                    found="only blank text", fix="Choose the file that holds the data.", file=name)
     sep, skip = _sniff(text)
     try:
-        df = pd.read_csv(io.StringIO(text), sep=sep, header=None, dtype=str,
+        # the C reader decodes bytes itself (faster than a Python text buffer)
+        buf = (io.BytesIO(data) if encoding in ("utf-8", "utf-8-sig", "cp1252")
+               else io.StringIO(text))
+        df = pd.read_csv(buf, encoding=encoding if isinstance(buf, io.BytesIO) else None, sep=sep, header=None, dtype=str,
                          keep_default_na=False, na_filter=False, skip_blank_lines=False,
                          skiprows=skip, nrows=settings.max_rows + 2, engine="c",
                          quotechar='"', skipinitialspace=False)
@@ -399,7 +402,8 @@ def _finish_table(t: _Table, name: str, settings: Settings) -> tuple[_Table, lis
     """Drop blank rows/columns, take the header, check names and row counts."""
     df = t.cells
     problems: list[Problem] = []
-    blank = np.column_stack([_ustrip(df[c]).to_numpy(dtype=object) == "" for c in df.columns])
+    # exact-empty test is vectorised; whitespace-only cells are caught later as missing
+    blank = np.column_stack([df[c].to_numpy(dtype=object) == "" for c in df.columns])
     keep_rows = ~blank.all(axis=1)
     df = df[keep_rows]
     rows = t.rows[keep_rows]
@@ -794,13 +798,19 @@ def _kind_guess(name: str, header: str, unit: str | None, vmin: float, vmax: flo
     return "flow", "kind 'flow' assumed (no index or balance words in the name)"
 
 
-def _col(long: _Long, name: str | None) -> np.ndarray:
-    return np.full(len(long.row), name or "", dtype=object)
+class _col:
+    """A lazily built column holding one name (for cell-problem locations)."""
+
+    def __init__(self, long: _Long, name: str | None) -> None:
+        self.n, self.name = len(long.row), name or ""
+
+    def __getitem__(self, pos: np.ndarray) -> np.ndarray:
+        return np.full(len(pos), self.name, dtype=object)
 
 
 def _cell_problems(code: str, message: str, mask: np.ndarray, long: _Long, name: str,
                    sheet: str | None, found: pd.Series | np.ndarray, expected: str, fix: str,
-                   column: np.ndarray | None = None, severity: str = "error",
+                   column: np.ndarray | _col | None = None, severity: str = "error",
                    per_row: bool = False) -> list[Problem]:
     pos = np.flatnonzero(mask)
     if not len(pos):
@@ -1011,7 +1021,11 @@ def _build(long: _Long, layout: Layout, t: _Table, name: str, fy_start: int | No
                 st_full[o - lo] = st
                 st_series = pd.Series(st_full, index=pidx, dtype=object)
         # gaps
-        gaps = np.setdiff1d(np.arange(lo, hi + 1), o)
+        gaps = np.array([], dtype=np.int64)
+        if len(o) < hi - lo + 1:
+            present = np.zeros(hi - lo + 1, dtype=bool)
+            present[o - lo] = True
+            gaps = np.flatnonzero(~present) + lo
         if len(gaps):
             gl = freq.labels(pidx[gaps - lo][:5])
             problems.append(Problem(
