@@ -19,7 +19,7 @@ PeriodIndex (one column per series), or a :class:`pipeline.model.Series`.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Literal, TypeVar
+from typing import Any, Literal, TypeVar
 
 import numpy as np
 import pandas as pd
@@ -279,3 +279,39 @@ def lagged_ratio_wide(arr: np.ndarray, lag: int) -> np.ndarray:
         with np.errstate(divide="ignore", invalid="ignore"):
             out[..., lag:, :] = np.where((prev > 0) & (cur >= 0), cur / prev - 1.0, np.nan)
     return out
+
+
+def growth_table(result: Any, series: str, deflator: str | int = 0, *,
+                 measure: Measure = "year_on_year", periods: int = 1) -> pd.DataFrame:
+    """Nominal, price and real growth of one series under one deflator, side by side.
+
+    ``result`` is a :class:`pipeline.deflate.DeflationResult`. Price growth is that of
+    the deflator as used (for aggregated periods the implicit deflator nominal / real);
+    real growth is the exact split (1 + nominal) / (1 + price) - 1, which equals the
+    growth of the real values themselves. Columns: period, nominal_growth, price_growth,
+    real_growth, status (of the later period's real value). Fractions, not percent.
+    """
+    nominal = result.nominal_series(series)
+    real = result.real_series(series, deflator)
+    freq = result.frequency
+    price = 100.0 * nominal / real
+
+    def measure_of(v: pd.Series) -> pd.Series:
+        if measure == "year_on_year":
+            return year_on_year(v, freq).values
+        if measure == "annualised":
+            return annualised(v, freq, periods=periods).values
+        if measure == "cumulative":
+            return cumulative(v, freq).values
+        return period_on_period(v, freq, periods=periods).values
+
+    n_g, p_g = measure_of(nominal), measure_of(price)
+    r_g = split(nominal=n_g, price=p_g).real
+    status = result.status_frame(deflator)[series].reindex(nominal.index)
+    return pd.DataFrame({
+        "period": freq.labels(nominal.index),
+        "nominal_growth": n_g.to_numpy(),
+        "price_growth": p_g.to_numpy(),
+        "real_growth": np.asarray(r_g),
+        "status": status.to_numpy(),
+    })

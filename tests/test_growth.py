@@ -13,12 +13,13 @@ from pipeline.growth import (
     annualised,
     cagr,
     cumulative,
+    growth_table,
     lagged_ratio_wide,
     period_on_period,
     split,
     year_on_year,
 )
-from pipeline.model import MONTHLY, QUARTERLY, Series, fiscal_year
+from pipeline.model import ANNUAL, MONTHLY, QUARTERLY, Series, fiscal_year
 
 
 def test_statsmodels_macrodata_infl_is_the_annualised_quarterly_log_rate():
@@ -125,3 +126,26 @@ def test_wide_fast_path_matches_the_pandas_measure():
     fast = lagged_ratio_wide(arr, 12)
     slow = year_on_year(pd.DataFrame(arr, index=idx)).values.to_numpy()
     np.testing.assert_allclose(fast, slow, equal_nan=True)
+
+
+def test_growth_table_real_growth_is_the_exact_split_and_the_growth_of_real_values():
+    # (1 + nominal) = (1 + real)(1 + price) with price = implicit deflator growth
+    # (DESIGN.md; IMF QNA Manual 2017, ch. 8 for the implicit deflator).
+    from pipeline.deflate import deflate
+
+    rng = np.random.default_rng(11)
+    idx = pd.period_range("2022-01", periods=36, freq="M")
+    rev = Series("rev", pd.Series(rng.uniform(80, 120, 36), index=idx), MONTHLY)
+    cpi = Series("cpi", pd.Series(np.linspace(100, 112, 36), index=idx), MONTHLY, kind="index")
+    res = deflate([rev], [cpi], "2023", to=ANNUAL)
+    t = growth_table(res, "rev", "cpi")
+    assert t["period"].tolist() == ["2022", "2023", "2024"]
+    real_levels = res.real_series("rev")
+    direct = (real_levels / real_levels.shift(1) - 1).to_numpy()
+    np.testing.assert_allclose(t["real_growth"].to_numpy(), direct, equal_nan=True, rtol=1e-12)
+    lhs = 1 + t["nominal_growth"].iloc[1:]
+    rhs = (1 + t["real_growth"].iloc[1:]) * (1 + t["price_growth"].iloc[1:])
+    np.testing.assert_allclose(lhs, rhs, rtol=1e-12)
+    # real growth is not the difference of the two rates
+    assert not np.allclose(t["real_growth"].iloc[1:],
+                           (t["nominal_growth"] - t["price_growth"]).iloc[1:], rtol=1e-9)
