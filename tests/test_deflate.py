@@ -274,3 +274,33 @@ def test_projected_nominal_amounts_mark_their_real_values():
     d = index("deflator", [100.0, 103.0, 106.0], "2025", fy)
     t = deflate([spend], [d], "FY2025").table()
     assert t["status"].tolist() == ["final", "final", "projected"]
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(0, 11), st.integers(1, 12), st.sampled_from(["Q", "A", "FY"]),
+       st.integers(20, 40), st.booleans())
+def test_any_calendar_aggregate_is_the_sum_or_last_of_the_monthly_reals(
+        offset, fy_start, code, n, stock):
+    # IMF QNA Manual 2017, ch. 8: deflate monthly, then sum (flows) or take the last
+    # value (stocks) over each complete quarter / calendar year / fiscal year, fiscal
+    # years and quarters starting in any month.
+    rng = np.random.default_rng(offset * 100 + fy_start + n)
+    start = pd.Period("2020-01", "M") + offset
+    kind = "stock" if stock else "flow"
+    s = series("x", rng.uniform(10, 20, n), str(start), kind=kind)
+    d = index("d", rng.uniform(90, 110, n + 12), str(start - 6))
+    target = Frequency(code, fy_start) if code != "A" else ANNUAL
+    base = MONTHLY.label(start + n // 2)
+    monthly = deflate([s], [d], base).real_series("x")
+    agg = deflate([s], [d], base, to=target)
+    got = agg.real_series("x")
+    groups = monthly.groupby(monthly.index.asfreq(target.pandas_freq, how="end"))
+    want = groups.last() if stock else groups.sum()
+    if stock:  # a stock's period value is its closing balance: the last month must be there
+        last_month = groups.apply(lambda g: g.index[-1])
+        ends = want.index.asfreq("M", how="end")
+        complete = want[np.asarray(last_month.to_numpy() == ends)]
+    else:  # a flow needs every month of the period
+        complete = want[groups.size() == target.months_per_period]
+    assert target.labels(got.index) == target.labels(complete.index)
+    np.testing.assert_allclose(got.to_numpy(), complete.to_numpy(), rtol=1e-12)
