@@ -106,3 +106,22 @@ RV_TABLE = "rv-table"
 RV_SUMMARY = "rv-summary"
 RV_METHOD = "rv-method"
 RV_WARNINGS = "rv-warnings"
+
+# Share and export (dashboard/screens/share.py)
+SX_SCOPE = "sx-scope"               # what the downloads contain (saved choices)
+SX_DL_XLSX = "sx-dl-xlsx"
+SX_DL_CSV = "sx-dl-csv"
+SX_DL_JSON = "sx-dl-json"
+SX_DL_PNG = "sx-dl-png"
+SX_DOWNLOAD = "sx-download"         # dcc.Download for workbook / CSV / JSON
+SX_DOWNLOAD_PNG = "sx-download-png"  # dcc.Download for the chart image
+SX_DL_STATUS = "sx-dl-status"
+SX_LINK_PANEL = "sx-link-panel"
+SX_LINK_LABEL = "sx-link-label"
+SX_LINK_DAYS = "sx-link-days"
+SX_LINK_CREATE = "sx-link-create"
+SX_LINK_NEW = "sx-link-new"         # the new link, shown once
+SX_LINKS = "sx-links"
+SX_REVOKE_ID = "sx-revoke-id"
+SX_REVOKE = "sx-revoke"
+SX_AUDIT = "sx-audit"

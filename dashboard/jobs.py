@@ -7,7 +7,7 @@ another. Background-callback handles are signed with the Flask secret key, which
 the same in every worker: ``Settings.secret_key`` when set, else a random key generated
 once into ``data_dir/secret_key`` (created atomically; the first worker wins).
 
-When ``Settings.redis_url`` is set the Celery manager (added by the store/share work)
+When ``Settings.redis_url`` is set the Celery manager of :mod:`dashboard.celery_app`
 replaces diskcache; :func:`make_manager` is the single place that decides.
 """
 
@@ -17,11 +17,14 @@ import os
 import secrets
 import time
 from pathlib import Path
+from typing import Any
 
 import diskcache
 from dash import DiskcacheManager
 
 from pipeline.settings import Settings
+
+from .access import AccessAwareMixin
 
 JOB_EXPIRE_SECONDS = 3600
 
@@ -48,8 +51,18 @@ def secret_key(settings: Settings) -> str:
     raise RuntimeError(f"secret key file {path} stays empty; delete it and restart")
 
 
-def make_manager(settings: Settings) -> DiskcacheManager:
-    """The background-callback manager: diskcache in the shared cache directory."""
+class AccessDiskcacheManager(AccessAwareMixin, DiskcacheManager):
+    """diskcache jobs that run under the access of the request that started them."""
+
+
+def make_manager(settings: Settings) -> Any:
+    """The background-callback manager: Celery with Redis when ``settings.redis_url`` is
+    set (dashboard.celery_app), else diskcache in the shared cache directory. Either way
+    a job runs under the access (editor/reviewer) of the request that started it."""
+    if settings.redis_url:
+        from .celery_app import make_manager as make_celery_manager
+
+        return make_celery_manager(settings, expire=JOB_EXPIRE_SECONDS)
     folder = Path(settings.effective_cache_dir)
     folder.mkdir(parents=True, exist_ok=True)
-    return DiskcacheManager(diskcache.Cache(str(folder)), expire=JOB_EXPIRE_SECONDS)
+    return AccessDiskcacheManager(diskcache.Cache(str(folder)), expire=JOB_EXPIRE_SECONDS)

@@ -46,6 +46,7 @@ from .export import EX002, EX003, XLSX_MAX_ROWS, export_table, neutralise, write
 from .model import CAUTIONS, STATUSES
 
 EX101 = register("EX101", "too many series for one workbook sheet")
+EX103 = register("EX103", "chart image cannot be made")
 
 XLSX_MAX_COLUMNS = 16_384
 SHEET_SUMMARY = "Summary"

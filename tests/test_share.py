@@ -12,6 +12,7 @@ from __future__ import annotations
 import base64
 import datetime as dt
 import hashlib
+import json
 import math
 
 import pytest
@@ -211,3 +212,96 @@ def test_editor_access_is_local_unless_a_token_is_set(tmp_path):
     assert c.post("/editor-login", data={"token": secret}).status_code == 302
     assert _dispatch(c).status_code == 200
     assert store.current_version(ws.id) == 3
+
+
+# --------------------------------------------------------------------------- Share screen
+
+
+def _links_body(ref, trigger="rb-workspace.data", label="audit", days=None):
+    return {"output": "..sx-links.children...sx-revoke-id.options...sx-link-new.children..",
+            "outputs": [{"id": "sx-links", "property": "children"},
+                        {"id": "sx-revoke-id", "property": "options"},
+                        {"id": "sx-link-new", "property": "children"}],
+            "inputs": [{"id": "rb-workspace", "property": "data", "value": ref},
+                       {"id": "sx-link-create", "property": "n_clicks", "value": 1},
+                       {"id": "sx-revoke", "property": "n_clicks", "value": 0}],
+            "state": [{"id": "sx-link-label", "property": "value", "value": label},
+                      {"id": "sx-link-days", "property": "value", "value": days},
+                      {"id": "sx-revoke-id", "property": "value", "value": None}],
+            "changedPropIds": [trigger]}
+
+
+def test_share_screen_links_over_http(tmp_path):
+    app, store, ws = _app(tmp_path)
+    ref = {"id": ws.id, "version": 1}
+    editor = app.server.test_client()
+    r = editor.post("/_dash-update-component",
+                    json=_links_body(ref, "sx-link-create.n_clicks", days=30))
+    assert r.status_code == 200
+    text = json.dumps(r.get_json())
+    assert "http://localhost/review/" in text and "not shown again" in text
+    [info] = store.list_links(ws.id)
+    assert info.label == "audit" and info.expires_at is not None
+
+    token, _ = store.create_link(ws.id)
+    reviewer = app.server.test_client()
+    headers = {"X-Realbasis-Review": token}
+    # opening the screen as a reviewer is fine (nothing is changed) ...
+    r = reviewer.post("/_dash-update-component", json=_links_body(ref), headers=headers)
+    assert r.status_code == 200, r.get_data(as_text=True)
+    # ... pressing "Create link" is refused by the server
+    r = reviewer.post("/_dash-update-component",
+                      json=_links_body(ref, "sx-link-create.n_clicks"), headers=headers)
+    assert r.status_code == 403 and r.get_json()["code"] == "SH001"
+    assert len(store.list_links(ws.id)) == 2
+    # bad expiry is a coded message, not a crash
+    r = editor.post("/_dash-update-component",
+                    json=_links_body(ref, "sx-link-create.n_clicks", days=-3))
+    assert r.status_code == 200 and "SH005" in r.get_data(as_text=True)
+
+
+def test_share_logic_rows_and_scope(tmp_path):
+    from dashboard.screens.share import audit_rows, export_file, link_rows, scope_text
+    from pipeline.model import MONTHLY, Series, Workspace
+
+    store = WorkspaceStore(f"sqlite:///{tmp_path / 's.sqlite'}")
+    ws = store.create("Scope (illustrative)")
+    assert "Nothing to export yet" in scope_text(ws)[0]
+    now = dt.datetime.now(dt.UTC)
+    store.create_link(ws.id, label="a", expires_at=now + dt.timedelta(days=1))
+    _, b = store.create_link(ws.id, label="b")
+    store.revoke_link(b.id)
+    rows = link_rows(store.list_links(ws.id), now + dt.timedelta(days=2))
+    assert [r["state"] for r in rows] == ["expired", "revoked"]
+    events = audit_rows(store.audit(ws.id))
+    assert events[0]["what"].startswith(f"reviewer link {b.id} revoked")  # newest first
+
+    import numpy as np
+    import pandas as pd
+
+    idx = pd.period_range("2024-01", periods=24, freq="M")
+    rev = Series("Revenue", pd.Series(np.linspace(100, 120, 24), index=idx), MONTHLY)
+    cpi = Series("CPI", pd.Series(np.linspace(100, 103, 24), index=idx), MONTHLY,
+                 kind="index", vintage="2026-01-10")
+    ws = store.save(Workspace(ws.id, ws.name, ws.version, series={"Revenue": rev},
+                              indexes={"CPI": {"2026-01-10": cpi}}, settings={"base": "2024"}))
+    lines = scope_text(ws)
+    assert "constant 2024 dollars" in lines[0] and "CPI (vintage 2026-01-10)" in lines[2]
+    data, name = export_file(ws, "json", store)
+    assert name.endswith("-v2-real.json") and b'"base": "2024"' in data
+    store.close()
+
+
+@pytest.mark.browser
+def test_chart_image_is_a_png_from_chromium(tmp_path, chromium_path, monkeypatch):
+    from dashboard.data import DataAccess
+    from dashboard.screens.share import chart_png
+    from pipeline.settings import Settings
+
+    monkeypatch.setenv("RB_CHROMIUM", chromium_path)
+    data = DataAccess(Settings(data_dir=str(tmp_path / "d")))
+    ws = data.latest(data.demo_ref().id)
+    png, name = chart_png(ws)
+    assert png[:8] == b"\x89PNG\r\n\x1a\n" and name.endswith("-spread.png")
+    # width x height from the PNG header (IHDR), as requested
+    assert int.from_bytes(png[16:20], "big") == 1200 and int.from_bytes(png[20:24], "big") == 675

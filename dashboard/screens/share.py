@@ -1,0 +1,338 @@
+"""Share and export: downloads, reviewer links and the audit trail.
+
+Downloads (audit workbook, CSV, JSON) are written by the same engine path as the command
+line (:func:`pipeline.workbook.export_workspace` -> :func:`pipeline.export.write_result`)
+from the workspace's saved choices, so an editor and a reviewer get the same file. They
+run as background jobs (diskcache, or Celery with Redis). The chart image is the
+deflator-spread chart rendered by kaleido through the system Chromium.
+
+Reviewer links are created, listed and revoked here by editors; a reviewer sees the
+downloads and the audit trail only. The panel is hidden for reviewers for clarity, but the
+store refuses link changes under a reviewer link whatever the page shows.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import os
+import re
+import shutil
+import tempfile
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+from dash import Dash, Input, Output, State, ctx, dcc, html, no_update
+
+from pipeline.errors import RealbasisError, fail
+from pipeline.export import EX001
+from pipeline.model import CAUTIONS, Workspace
+from pipeline.store import SH005, AuditEvent, LinkInfo, WorkspaceStore, current_access
+from pipeline.workbook import EX103, workspace_result
+
+from .. import ids, logic
+from ..components import Column, cautions_view, field, notice, problems_view, screen, table
+from ..data import WorkspaceRef
+
+KEY = "share"
+TITLE = "Share and export"
+ORDER = 60
+
+FORMATS = {"xlsx": "Excel workbook (audit)", "csv": "CSV table", "json": "JSON"}
+PNG_SIZE = (1200, 675)
+
+LINK_COLUMNS = (
+    Column("id", "Link"), Column("label", "For"), Column("state", "State"),
+    Column("created", "Created (UTC)"), Column("expires", "Expires (UTC)"),
+    Column("last_used", "Last used (UTC)"),
+)
+AUDIT_COLUMNS = (Column("at", "Time (UTC)"), Column("actor", "Who"), Column("what", "What"))
+
+
+# --------------------------------------------------------------------------- plain logic
+
+
+def _when(t: dt.datetime | None) -> str:
+    return t.strftime("%Y-%m-%d %H:%M") if t else "—"
+
+
+def link_rows(links: Sequence[LinkInfo], now: dt.datetime | None = None) -> list[dict[str, str]]:
+    return [{"id": li.id, "label": li.label or "—", "state": li.state(now),
+             "created": _when(li.created_at), "expires": _when(li.expires_at) if li.expires_at
+             else "never", "last_used": _when(li.last_used_at)} for li in links]
+
+
+def audit_rows(events: Sequence[AuditEvent]) -> list[dict[str, str]]:
+    """Newest first, in words."""
+    return [{"at": _when(e.at), "actor": e.actor, "what": e.describe()}
+            for e in reversed(list(events))]
+
+
+def scope_text(ws: Workspace) -> list[str]:
+    """What the downloads will contain, from the saved choices."""
+    try:
+        result, used, notes = workspace_result(ws)
+    except RealbasisError as err:
+        return [f"Nothing to export yet: {err.problems[0].message}.",
+                err.problems[0].fix]
+    lines = [f"Amounts in {result.dollars_label}, {result.frequency.describe()}.",
+             "Series: " + ", ".join(result.series_names) + ".",
+             "Deflators: " + ", ".join(f"{k} (vintage {v or 'not stated'})"
+                                       for k, v in used.items()) + ".",
+             *notes]
+    if result.worst_status != "final":
+        lines.append("Some figures rest on preliminary or projected index values; the "
+                     "workbook's 'Status flags' sheet lists them.")
+    return lines
+
+
+def safe_filename(text: str) -> str:
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "-", text).strip("-._")[:60]
+    return stem or "workspace"
+
+
+def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None) -> tuple[bytes, str]:
+    """The download: (bytes, file name) of the workspace's result in ``fmt``."""
+    from pipeline.workbook import export_workspace
+
+    if fmt not in FORMATS:
+        raise fail(EX001, f"unknown export format {fmt!r}", expected=", ".join(FORMATS),
+                   found=repr(fmt), fix="Choose one of the offered downloads.")
+    name = f"{safe_filename(ws.name)}-v{ws.version}-real.{fmt}"
+    with tempfile.TemporaryDirectory(prefix="rb-export-") as tmp:
+        path = export_workspace(ws, Path(tmp) / name, store=store,
+                                actor=current_access().actor,
+                                command=f"dashboard: Share and export ({FORMATS[fmt]})")
+        return path.read_bytes(), name
+
+
+def chromium_path() -> str | None:
+    for candidate in (os.environ.get("RB_CHROMIUM"), os.environ.get("BROWSER_PATH"),
+                      shutil.which("chromium"), "/usr/bin/chromium"):
+        if candidate and Path(candidate).exists():
+            return candidate
+    return None
+
+
+def chart_figure(ws: Workspace) -> Any:
+    """The deflator-spread chart of the saved choices, titled, with the cautions."""
+    from ..figures import spread_figure
+
+    settings = dict(ws.settings or {})
+    series = settings.get("series") if settings.get("series") in ws.series else next(
+        iter(ws.series), None)
+    names = [n for n in (settings.get("deflators") or
+                         ([settings["deflator"]] if settings.get("deflator") else [])
+                         or list(ws.indexes)[:5]) if n in ws.indexes]
+    if not series or not names:
+        raise fail(EX103, "no chart to draw yet", expected="a series and deflators chosen",
+                   found=f"series {series or 'none'}; {len(names)} deflators",
+                   fix="Choose them on the Deflator spread screen and save.")
+    sp = logic.spread(ws, str(series), names, str(settings.get("base") or "") or None,
+                      to=str(settings.get("frequency") or "auto"))
+    fig = spread_figure(sp.table, title=sp.title, unit=sp.unit)
+    fig.add_annotation(text="Illustrative analytical estimates, not official statistics. "
+                            + CAUTIONS[0] + " " + CAUTIONS[1],
+                       xref="paper", yref="paper", x=0, y=-0.22, showarrow=False,
+                       xanchor="left", font={"size": 10})
+    fig.update_layout(margin={"b": 120})
+    return fig
+
+
+def chart_png(ws: Workspace) -> tuple[bytes, str]:
+    """The chart as PNG through kaleido and the system Chromium (never downloaded)."""
+    import kaleido
+
+    path = chromium_path()
+    if path is None:
+        raise fail(EX103, "chart images need Chromium", expected="/usr/bin/chromium or "
+                   "RB_CHROMIUM", found="no Chromium", fix="Install Debian's chromium package "
+                   "or set RB_CHROMIUM; the workbook and CSV downloads work without it.")
+    fig = chart_figure(ws)
+    try:
+        png = kaleido.calc_fig_sync(fig.to_dict(), opts={"format": "png", "width": PNG_SIZE[0],
+                                                          "height": PNG_SIZE[1]},
+                                    kopts={"path": path})
+    except Exception as err:  # kaleido/choreographer raise many kinds of errors
+        raise fail(EX103, "the chart image could not be made", expected="a PNG from Chromium",
+                   found=f"{type(err).__name__}: {err}"[:300],
+                   fix="Try again; if it keeps failing use the workbook or CSV.") from None
+    return bytes(png), f"{safe_filename(ws.name)}-v{ws.version}-spread.png"
+
+
+def new_link(store: WorkspaceStore, workspace_id: str, label: str | None, days: Any,
+             base_url: str) -> tuple[str, LinkInfo]:
+    """Create a reviewer link; returns the full address (shown once) and its info."""
+    expires = None
+    if days not in (None, ""):
+        try:
+            n = float(days)
+        except (TypeError, ValueError):
+            n = -1.0
+        if not n > 0:
+            raise fail(SH005, "a reviewer link must expire after a positive number of days",
+                       expected="a number of days above 0, or empty for no expiry",
+                       found=repr(days), fix="Enter e.g. 30, or leave the box empty.")
+        expires = dt.datetime.now(dt.UTC) + dt.timedelta(days=n)
+    token, info = store.create_link(workspace_id, expires_at=expires, label=label or "",
+                                    actor=current_access().actor)
+    return f"{base_url.rstrip('/')}/review/{token}", info
+
+
+def links_view(store: WorkspaceStore, workspace_id: str) -> tuple[Any, list[dict[str, str]]]:
+    """The links table and the revoke choices (editors only)."""
+    links = store.list_links(workspace_id)
+    options = [{"label": f"{li.id} — {li.label or 'no label'}", "value": li.id}
+               for li in links if li.active]
+    return table(LINK_COLUMNS, link_rows(links), caption="Reviewer links of this workspace",
+                 empty="No reviewer links yet."), options
+
+
+# --------------------------------------------------------------------------- layout
+
+
+def layout() -> html.Div:
+    downloads = html.Section([
+        html.H3("Downloads"),
+        html.Div(id=ids.SX_SCOPE, className="rb-scope"),
+        html.Div([
+            html.Button(FORMATS["xlsx"], id=ids.SX_DL_XLSX, n_clicks=0, type="button",
+                        className="rb-button"),
+            html.Button(FORMATS["csv"], id=ids.SX_DL_CSV, n_clicks=0, type="button",
+                        className="rb-button"),
+            html.Button(FORMATS["json"], id=ids.SX_DL_JSON, n_clicks=0, type="button",
+                        className="rb-button"),
+            html.Button("Chart image (PNG)", id=ids.SX_DL_PNG, n_clicks=0, type="button",
+                        className="rb-button"),
+        ], className="rb-actions"),
+        html.Div(id=ids.SX_DL_STATUS, role="status", **{"aria-live": "polite"}),
+        dcc.Download(id=ids.SX_DOWNLOAD),
+        dcc.Download(id=ids.SX_DOWNLOAD_PNG),
+        html.P("The workbook holds a summary, the real values per deflator, the deflator "
+               "indexes as used (rebased), the status flags, the method and the audit trail; "
+               "it is the same file `realbasis workspace export` writes.", className="rb-hint"),
+    ], className="rb-panel")
+    links = html.Section([
+        html.H3("Reviewer links (read-only)"),
+        html.P("A reviewer link opens every screen of this workspace read-only: the server "
+               "refuses any change made through it. The link is shown once; only its hash is "
+               "kept. Revoke it when the review is over.", className="rb-hint"),
+        html.Div([
+            field("For whom", dcc.Input(id=ids.SX_LINK_LABEL, type="text", maxLength=200,
+                                        placeholder="e.g. audit committee",
+                                        className="rb-input"), ids.SX_LINK_LABEL),
+            field("Expires after (days)", dcc.Input(id=ids.SX_LINK_DAYS, type="number", min=0,
+                                                    placeholder="never", className="rb-input"),
+                  ids.SX_LINK_DAYS, "Leave empty for a link that does not expire."),
+            html.Button("Create link", id=ids.SX_LINK_CREATE, n_clicks=0, type="button",
+                        className="rb-button"),
+        ], className="rb-controls"),
+        html.Div(id=ids.SX_LINK_NEW, role="status", **{"aria-live": "polite"}),
+        html.Div(id=ids.SX_LINKS),
+        html.Div([
+            field("Revoke a link", dcc.Dropdown(id=ids.SX_REVOKE_ID, options=[],
+                                                placeholder="Choose a link",
+                                                className="rb-dropdown"), ids.SX_REVOKE_ID),
+            html.Button("Revoke", id=ids.SX_REVOKE, n_clicks=0, type="button",
+                        className="rb-button rb-danger"),
+        ], className="rb-controls"),
+    ], id=ids.SX_LINK_PANEL, className="rb-panel")
+    audit = html.Section([html.H3("Audit trail"), html.Div(id=ids.SX_AUDIT)],
+                         className="rb-panel")
+    return screen(TITLE, "Download what this workspace shows, send a read-only link to a "
+                  "reviewer, and see everything that was done to the workspace.",
+                  downloads, links, audit, cautions_view())
+
+
+# --------------------------------------------------------------------------- callbacks
+
+
+def register(app: Dash) -> None:
+    import flask
+
+    from ..app import context
+
+    rb = context(app)
+
+    @app.callback(Output(ids.SX_SCOPE, "children"), Output(ids.SX_AUDIT, "children"),
+                  Output(ids.SX_LINK_PANEL, "hidden"), Input(ids.WORKSPACE, "data"))
+    def _overview(ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update, no_update, no_update
+        ws = rb.data.load(r)
+        scope = html.Ul([html.Li(line) for line in scope_text(ws)])
+        audit = table(AUDIT_COLUMNS, audit_rows(rb.data.store.audit(ws.id)),
+                      caption="Uploads, settings changes, index vintages, exports and links",
+                      empty="Nothing recorded yet.")
+        return scope, audit, current_access().read_only
+
+    @app.callback(Output(ids.SX_LINKS, "children"), Output(ids.SX_REVOKE_ID, "options"),
+                  Output(ids.SX_LINK_NEW, "children"),
+                  Input(ids.WORKSPACE, "data"), Input(ids.SX_LINK_CREATE, "n_clicks"),
+                  Input(ids.SX_REVOKE, "n_clicks"),
+                  State(ids.SX_LINK_LABEL, "value"), State(ids.SX_LINK_DAYS, "value"),
+                  State(ids.SX_REVOKE_ID, "value"))
+    def _links(ref: Any, _c: Any, _r: Any, label: Any, days: Any, revoke_id: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update, no_update, no_update
+        store = rb.data.store
+        trigger = ctx.triggered_id
+        if current_access().read_only and trigger == ids.WORKSPACE:
+            return None, [], None  # nothing to show a reviewer; changes would be refused
+        message: Any = None
+        try:
+            if trigger == ids.SX_LINK_CREATE:
+                url, info = new_link(store, r.id, label, days, flask.request.host_url)
+                message = html.Div([
+                    html.P(f"Link {info.id} created. Copy it now: it is not shown again."),
+                    dcc.Input(value=url, readOnly=True, className="rb-input rb-link-url",
+                              id="sx-link-url", style={"width": "100%"}),
+                ], className="rb-notice rb-ok", role="status")
+            elif trigger == ids.SX_REVOKE and revoke_id:
+                info = store.revoke_link(str(revoke_id), actor=current_access().actor)
+                message = notice(f"Link {info.id} revoked: it no longer opens anything.", "ok")
+            links, options = links_view(store, r.id)
+        except RealbasisError as err:
+            return no_update, no_update, problems_view(logic.error_dicts(err),
+                                                       title="Not done")
+        return links, options, message
+
+    @app.callback(
+        Output(ids.SX_DOWNLOAD, "data"), Output(ids.SX_DL_STATUS, "children"),
+        Input(ids.SX_DL_XLSX, "n_clicks"), Input(ids.SX_DL_CSV, "n_clicks"),
+        Input(ids.SX_DL_JSON, "n_clicks"), State(ids.WORKSPACE, "data"),
+        background=True, prevent_initial_call=True,
+        running=[(Output(ids.SX_DL_XLSX, "disabled"), True, False),
+                 (Output(ids.SX_DL_CSV, "disabled"), True, False),
+                 (Output(ids.SX_DL_JSON, "disabled"), True, False)],
+    )
+    def _download(_x: Any, _c: Any, _j: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        fmt = {ids.SX_DL_XLSX: "xlsx", ids.SX_DL_CSV: "csv",
+               ids.SX_DL_JSON: "json"}.get(str(ctx.triggered_id), "xlsx")
+        if r is None:
+            return no_update, no_update
+        try:
+            data, name = export_file(rb.data.load(r), fmt, rb.data.store)
+        except RealbasisError as err:
+            return no_update, problems_view(logic.error_dicts(err), title="Cannot export")
+        return dcc.send_bytes(data, name), notice(f"{name} is ready.", "ok")
+
+    @app.callback(
+        Output(ids.SX_DOWNLOAD_PNG, "data"),
+        Output(ids.SX_DL_STATUS, "children", allow_duplicate=True),
+        Input(ids.SX_DL_PNG, "n_clicks"), State(ids.WORKSPACE, "data"),
+        background=True, prevent_initial_call=True,
+        running=[(Output(ids.SX_DL_PNG, "disabled"), True, False)],
+    )
+    def _png(_n: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update, no_update
+        try:
+            data, name = chart_png(rb.data.load(r))
+        except RealbasisError as err:
+            return no_update, problems_view(logic.error_dicts(err), title="No chart image")
+        return dcc.send_bytes(data, name), notice(f"{name} is ready.", "ok")
