@@ -217,6 +217,8 @@ def test_not_numbers(text):
 
 
 def test_decimal_detection_per_file():
+    # decimal comma with '.' or space for thousands, and ';' as the field separator where
+    # the comma is the decimal mark (common practice in continental European exports)
     assert detect_decimal(pd.Series(["1.234,5", "12"], dtype=str)) == ","
     assert detect_decimal(pd.Series(["1,234.5", "12"], dtype=str)) == "."
     # 1,234 alone is ambiguous: point, unless the file is semicolon-separated

@@ -22,9 +22,12 @@ from pipeline.model import Frequency
         ("2024-03-31 00:00:00", pd.Period("2024-03", "M"), Frequency("M")),
         ("2024-01", pd.Period("2024-01", "M"), Frequency("M")),
         ("2024/3", pd.Period("2024-03", "M"), Frequency("M")),
-        # SDMX time-period formats: 2024-M01 style months are written 2024M01 in many
-        # statistical exports (SDMX 2.1 technical notes, time period formats)
+        # 2024M01: month notation of many statistical exports (common practice)
         ("2024M01", pd.Period("2024-01", "M"), Frequency("M")),
+        # SDMX reporting periods 2024-M01, 2024-A1 (SDMX 2.1 Technical Notes, time
+        # period formats; from memory)
+        ("2024-M01", pd.Period("2024-01", "M"), Frequency("M")),
+        ("2024-A1", pd.Period("2024", "Y-DEC"), Frequency("A")),
         ("2024M1", pd.Period("2024-01", "M"), Frequency("M")),
         ("Jan 2024", pd.Period("2024-01", "M"), Frequency("M")),
         ("January 2024", pd.Period("2024-01", "M"), Frequency("M")),
