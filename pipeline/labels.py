@@ -47,6 +47,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 import pandas as pd
@@ -350,8 +351,19 @@ def _to_periods(ordinals: np.ndarray, key: str, fy_start: int | None) -> pd.Peri
 
 def parse_label(text: str, fy_start: int | None = None) -> tuple[pd.Period, Frequency]:
     """Parse one period label. Raises ``RealbasisError`` (PE101) when it is not a period,
-    PE102 when a fiscal label comes without ``fy_start``."""
+    PE102 when a fiscal label comes without ``fy_start``. Results are cached."""
     fy_start = _check_fy_start(fy_start)
+    if isinstance(text, str):
+        return _parse_label_cached(text, fy_start)
+    return _parse_label(text, fy_start)
+
+
+@lru_cache(maxsize=4096)
+def _parse_label_cached(text: str, fy_start: int | None) -> tuple[pd.Period, Frequency]:
+    return _parse_label(text, fy_start)
+
+
+def _parse_label(text: str, fy_start: int | None) -> tuple[pd.Period, Frequency]:
     if not isinstance(text, str) or not text.strip():
         raise fail(PE101, "a period label is empty or not text", expected=ACCEPTED,
                    found=repr(text), fix="Write the period, e.g. 2024-01, 2024Q1 or FY2025.")
