@@ -40,46 +40,28 @@ from dash import Dash
 from dash._callback_context import context_value
 from dash._utils import AttributeDict
 
-from pipeline.errors import RealbasisError, fail, register
+from pipeline.errors import RealbasisError
 from pipeline.settings import Settings
 from pipeline.store import (
     SH001,
     SH002,
+    SH006,
     SH007,
     AccessContext,
     WorkspaceStore,
+    check_serving,
     current_access,
+    is_loopback_host,
     reset_access,
     set_access,
 )
 
-SH003 = "SH003"
-SH006 = "SH006"
-register(SH003, "serving on a network needs an editor token")
-register(SH006, "editor access refused")
-
-LOOPBACK_ADDRS = frozenset({"127.0.0.1", "::1", "::ffff:127.0.0.1"})
-LOOPBACK_HOSTS = frozenset({"127.0.0.1", "localhost", "::1", "[::1]"})
 REVIEW_HEADER = "X-Realbasis-Review"
 ROLE_HEADER = "X-Realbasis-Access"
+LOOPBACK_ADDRS = frozenset({"127.0.0.1", "::1", "::ffff:127.0.0.1"})
 _FORWARD_HEADERS = ("X-Forwarded-For", "Forwarded", "X-Real-Ip")
 _SAFE_METHODS = frozenset({"GET", "HEAD", "OPTIONS"})
 _ANONYMOUS = AccessContext("reviewer", None, "anonymous")
-
-
-def is_loopback_host(host: str) -> bool:
-    return host.strip().lower() in LOOPBACK_HOSTS
-
-
-def check_serving(settings: Settings) -> None:
-    """Refuse to serve beyond this machine without an editor token (``SH003``)."""
-    if not is_loopback_host(settings.host) and not settings.editor_token:
-        raise fail(SH003, f"serving on {settings.host} needs an editor token",
-                   expected="REALBASIS_EDITOR_TOKEN set when REALBASIS_HOST is not 127.0.0.1",
-                   found=f"host {settings.host}, no editor token",
-                   fix="Set REALBASIS_EDITOR_TOKEN to a long random secret (e.g. `python -c "
-                       "'import secrets; print(secrets.token_urlsafe(32))'`), or serve on "
-                       "127.0.0.1.")
 
 
 def _digest(text: str) -> str:

@@ -62,6 +62,9 @@ SH002 = register("SH002", "reviewer link unknown, revoked or expired")
 SH004 = register("SH004", "reviewer link not found")
 SH005 = register("SH005", "reviewer link expiry invalid")
 SH007 = register("SH007", "reviewer link does not open this workspace")
+SH003 = register("SH003", "serving on a network needs an editor token")
+SH006 = register("SH006", "editor access refused")
+LOOPBACK_HOSTS = frozenset({"127.0.0.1", "localhost", "::1", "[::1]"})
 
 SCHEMA_VERSION = 2
 """Version 1: workspaces, versions, payloads, links, audit. Version 2: links record
@@ -205,6 +208,21 @@ def require_write(what: str) -> None:
                    expected="editor access", found=f"{ctx.role} access",
                    fix="Ask the workspace's editor to make the change; reviewer links "
                        "only show the work.")
+
+
+def is_loopback_host(host: str) -> bool:
+    return str(host).strip().lower() in LOOPBACK_HOSTS
+
+
+def check_serving(settings: Settings) -> None:
+    """Refuse to serve beyond this machine without an editor token (``SH003``)."""
+    if not is_loopback_host(settings.host) and not settings.editor_token:
+        raise fail(SH003, f"serving on {settings.host} needs an editor token",
+                   expected="REALBASIS_EDITOR_TOKEN set when REALBASIS_HOST is not 127.0.0.1",
+                   found=f"host {settings.host}, no editor token",
+                   fix="Set REALBASIS_EDITOR_TOKEN to a long random secret (e.g. `python -c "
+                       "'import secrets; print(secrets.token_urlsafe(32))'`), or serve on "
+                       "127.0.0.1.")
 
 
 def _require_read(workspace_id: str) -> None:

@@ -305,3 +305,64 @@ def test_chart_image_is_a_png_from_chromium(tmp_path, chromium_path, monkeypatch
     assert png[:8] == b"\x89PNG\r\n\x1a\n" and name.endswith("-spread.png")
     # width x height from the PNG header (IHDR), as requested
     assert int.from_bytes(png[16:20], "big") == 1200 and int.from_bytes(png[20:24], "big") == 675
+
+
+def test_serve_refuses_a_network_address_without_an_editor_token(tmp_path, capsys):
+    from pipeline.cli import main
+
+    assert main(["serve", "--host", "0.0.0.0", "--data-dir", str(tmp_path)]) == 2
+    assert "[SH003]" in capsys.readouterr().err
+
+
+@pytest.mark.slow
+def test_reviewer_is_read_only_against_a_real_gunicorn(tmp_path):
+    import os
+    import socket
+    import subprocess
+    import sys
+    import time
+
+    import requests
+    from conftest import ROOT
+
+    data = tmp_path / "data"
+    store = WorkspaceStore(f"sqlite:///{data / 'realbasis.sqlite'}")
+    ws = store.create("Served (illustrative)")
+    token, _ = store.create_link(ws.id, label="gunicorn test")
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    env = {**os.environ, "REALBASIS_DATA_DIR": str(data), "REALBASIS_DEMO": "0",
+           "PYTHONPATH": str(ROOT)}
+    proc = subprocess.Popen([sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "2",
+                             "-b", f"127.0.0.1:{port}", "dashboard.wsgi:server"],
+                            cwd=ROOT, env=env, stdout=subprocess.DEVNULL,
+                            stderr=subprocess.DEVNULL)
+    base = f"http://127.0.0.1:{port}"
+    try:
+        deadline = time.monotonic() + 60
+        while True:
+            try:
+                requests.get(base + "/_dash-layout", timeout=10)
+                break
+            except requests.RequestException:
+                assert time.monotonic() < deadline, "gunicorn did not start"
+                time.sleep(0.3)
+        ref = {"id": ws.id, "version": 1}
+        reviewer = requests.Session()
+        r = reviewer.get(f"{base}/review/{token}", timeout=10)
+        assert r.status_code == 200 and r.headers["X-Realbasis-Access"] == "reviewer"
+        for _ in range(4):  # whichever worker answers
+            r = reviewer.post(base + "/_dash-update-component",
+                              json=_links_body(ref, "sx-link-create.n_clicks"), timeout=10)
+            assert r.status_code == 403 and r.json()["code"] == "SH001"
+        assert len(store.list_links(ws.id)) == 1
+        editor = requests.Session()
+        r = editor.post(base + "/_dash-update-component",
+                        json=_links_body(ref, "sx-link-create.n_clicks"), timeout=10)
+        assert r.status_code == 200 and r.headers["X-Realbasis-Access"] == "editor"
+        assert len(store.list_links(ws.id)) == 2
+    finally:
+        proc.terminate()
+        proc.wait(20)
+        store.close()

@@ -18,6 +18,7 @@ import subprocess
 from pipeline.errors import fail
 from pipeline.errors import register as register_code
 from pipeline.settings import load_settings
+from pipeline.store import check_serving
 
 CL501 = register_code("CL501", "dashboard server could not start")
 
@@ -30,6 +31,7 @@ def _run(args: argparse.Namespace) -> int:
         raise fail(CL501, "the number of workers must be at least 1",
                    expected="--workers 1 or more", found=str(settings.workers),
                    fix="Pass --workers 1 for a single process or 2+ for gunicorn.")
+    check_serving(settings)  # beyond 127.0.0.1 only with an editor token (SH003)
     url = f"http://{settings.host}:{settings.port}/"
     gunicorn = shutil.which("gunicorn")
     if settings.workers == 1 or gunicorn is None or os.name == "nt":
@@ -40,7 +42,7 @@ def _run(args: argparse.Namespace) -> int:
         return 0
     env = dict(os.environ)
     for spec_name, env_name in (("data_dir", "REALBASIS_DATA_DIR"), ("demo", "REALBASIS_DEMO"),
-                                ("workers", "REALBASIS_WORKERS")):
+                                ("workers", "REALBASIS_WORKERS"), ("host", "REALBASIS_HOST")):
         value = getattr(settings, spec_name)
         env[env_name] = ("1" if value else "0") if isinstance(value, bool) else str(value)
     cmd = [gunicorn, "--no-control-socket", "-w", str(settings.workers),
