@@ -72,6 +72,7 @@ IN027 = register("IN027", "workbook cannot be opened")
 IN028 = register("IN028", "blank column name")
 
 Layout = Literal["wide", "long", "sdmx"]
+_MAX_TITLE_ROWS = 30  # single-cell rows above a table's header that are skipped as titles
 
 FORMATS = ("CSV (comma, semicolon or tab; UTF-8, UTF-8 with BOM, UTF-16 with BOM, cp1252)",
            "XLSX (choose the sheet)", "SDMX-CSV (TIME_PERIOD, OBS_VALUE)")
@@ -280,13 +281,22 @@ def _read_text(data: bytes, name: str, settings: Settings) -> _Table:
         raise fail(IN003, "the file is empty", expected="a header row and at least one data row",
                    found="only blank text", fix="Choose the file that holds the data.", file=name)
     sep, skip = _sniff(text)
+    # read enough rows to see whether there are more than max_rows data rows: blank lines
+    # and title rows do not count as data, so allow for them (counted without a loop)
+    raw = np.frombuffer(data if encoding != "utf-16" else text.encode("utf-8"), dtype=np.uint8)
+    nl = np.flatnonzero(raw == 10)
+    starts = np.r_[0, nl + 1]
+    ends = np.r_[nl, len(raw)]
+    length = ends - starts
+    blank_lines = int((length == 0).sum() + ((length == 1) & (raw[np.minimum(starts, len(raw) - 1)] == 13)).sum())
+    nrows = settings.max_rows + 2 + _MAX_TITLE_ROWS + blank_lines
     try:
         # the C reader decodes bytes itself (faster than a Python text buffer)
         buf = (io.BytesIO(data) if encoding in ("utf-8", "utf-8-sig", "cp1252")
                else io.StringIO(text))
         df = pd.read_csv(buf, encoding=encoding if isinstance(buf, io.BytesIO) else None, sep=sep, header=None, dtype=str,
                          keep_default_na=False, na_filter=False, skip_blank_lines=False,
-                         skiprows=skip, nrows=settings.max_rows + 2, engine="c",
+                         skiprows=skip, nrows=nrows, engine="c",
                          quotechar='"', skipinitialspace=False)
     except pd.errors.EmptyDataError:
         raise fail(IN003, "the file has no rows", expected="a header row and data rows",
@@ -364,7 +374,7 @@ def _read_xlsx(data: bytes, name: str, sheet: str | None, settings: Settings) ->
                     if any(c.strip() for c in cells):
                         rows.append(cells)
                         numbers.append(r)
-                        if len(rows) > settings.max_rows + 1:
+                        if len(rows) > settings.max_rows + 1 + _MAX_TITLE_ROWS:
                             break
             except (zipfile.BadZipFile, KeyError, OSError, ValueError, TypeError) as e:
                 raise fail(IN027, "the workbook cannot be read", expected="an .xlsx workbook",
@@ -415,7 +425,7 @@ def _finish_table(t: _Table, name: str, settings: Settings) -> tuple[_Table, lis
     width = int(filled[:30].max())
     title = 0
     if width >= 2:
-        while title < len(filled) - 1 and filled[title] == 1:
+        while title < min(_MAX_TITLE_ROWS, len(filled) - 1) and filled[title] == 1:
             title += 1
     if title:
         df = df.iloc[title:]
@@ -463,7 +473,7 @@ def _finish_table(t: _Table, name: str, settings: Settings) -> tuple[_Table, lis
         problems.append(Problem(IN026, f"{t.skipped} line(s) above the header were skipped", "",
                                 "title or note lines before the table",
                                 "Nothing to do if those lines are titles.",
-                                Location(file=name, row=1), "warning"))
+                                Location(file=name, sheet=t.sheet, row=1), "warning"))
     return _Table(header, df, rows, t.fmt, t.encoding, t.delimiter, t.sheet, t.sheets,
                   t.skipped), problems
 

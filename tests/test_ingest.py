@@ -391,3 +391,21 @@ def test_slashed_dates_of_unclear_order_are_refused_with_the_column():
     assert e.value.code == "PE106" and e.value.problems[0].where.column == "Date"
     r = read_file(b"Date,Revenue\n31/1/2024,1\n29/2/2024,2\n", filename="s.csv")
     assert r.series[0].index[1] == pd.Period("2024-02", "M")
+
+
+def test_row_limit_is_not_fooled_by_blank_lines_or_titles():
+    text = "Illustrative title\n\n\nperiod,Revenue\n\n2024-01,1\n\n2024-02,2\n2024-03,3\n2024-04,4\n"
+    with pytest.raises(RealbasisError) as e:
+        read_file(text.encode(), filename="t.csv", settings=Settings(max_rows=3))
+    assert e.value.code == "IN002"
+    r = read_file(text.encode(), filename="t.csv", settings=Settings(max_rows=4))
+    assert r.rows == 4 and r.series[0].values.tolist() == [1.0, 2.0, 3.0, 4.0]
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    for row in (["Title"], ["Subtitle"], ["period", "Revenue"], ["2024-01", 1], ["2024-02", 2]):
+        ws.append(row)
+    buf = io.BytesIO()
+    wb.save(buf)
+    with pytest.raises(RealbasisError) as e:
+        read_file(buf.getvalue(), filename="t.xlsx", settings=Settings(max_rows=1))
+    assert e.value.code == "IN002"
