@@ -11,7 +11,9 @@
    whole engine call ``adjust_many`` (checks, diagnostics and result objects included).
 2. Robust STL: ``adjust_many(..., "stl-robust")`` serially (one worker, no pool)
    against the process pool over all cores; ``robust_pool_efficiency`` =
-   serial time / (pool time x cores). Pool time includes starting the pool.
+   serial time / (pool time x cores). Pool time includes starting the pool. Wall-clock
+   figures need an otherwise idle machine; the CPU-seconds ratio (serial CPU / CPU of the
+   parent and all workers) is printed too, as the pool's own overhead.
 
 The series are synthetic (trend x seasonal x noise, seeded), for timing only.
 The last line holds the figures as key=value.
@@ -20,6 +22,7 @@ The last line holds the figures as key=value.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import time
 from pathlib import Path
@@ -92,21 +95,32 @@ def main() -> None:
 
     # --- 2. robust STL: serial against the pool
     rob = series[:k_rob]
+    c0 = time.process_time()
     t0 = time.perf_counter()
     serial = adjust_many(rob, "stl-robust", max_workers=1)
     t_serial = time.perf_counter() - t0
+    cpu_serial = time.process_time() - c0
+    c0, k0 = time.process_time(), os.times()
     t0 = time.perf_counter()
     pooled = adjust_many(rob, "stl-robust", max_workers=cores)
     t_pool = time.perf_counter() - t0
+    k1 = os.times()
+    cpu_pool = (time.process_time() - c0 + (k1.children_user - k0.children_user)
+                + (k1.children_system - k0.children_system))
     same = all(np.allclose(a.adjusted.values, b.adjusted.values, rtol=0, atol=1e-9)
                for a, b in zip(serial, pooled, strict=True))
     efficiency = t_serial / (t_pool * cores)
 
-    print(f"series={k} months={n} cores={cores}")
+    load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
+    print(f"series={k} months={n} cores={cores} load_average_1min={load:.2f} "
+          "(other work on the machine lowers the pool figure)")
     print(f"operator_build_s={build:.3f} batch_s={t_batch:.5f} loop_s={t_loop:.3f} "
           f"engine_adjust_many_s={t_engine:.3f}")
     print(f"robust_series={k_rob} robust_serial_s={t_serial:.3f} robust_pool_s={t_pool:.3f} "
           f"pool_equals_serial={same}")
+    # CPU seconds of all processes: the pool's overhead, whatever else runs on the machine
+    print(f"robust_serial_cpu_s={cpu_serial:.3f} robust_pool_cpu_s={cpu_pool:.3f} "
+          f"robust_pool_cpu_ratio={cpu_serial / cpu_pool:.3f}")
     print(f"batch_ratio={t_loop / t_batch:.1f} max_abs_diff={max_abs_diff:.3e} "
           f"robust_pool_efficiency={efficiency:.3f}")
 
