@@ -72,6 +72,7 @@ IN027 = register("IN027", "workbook cannot be opened")
 IN028 = register("IN028", "blank column name")
 
 Layout = Literal["wide", "long", "sdmx"]
+_FKEYS = ("M", "Q", "A", "FY", "FQ")  # frequency keys of pipeline.labels
 _MAX_TITLE_ROWS = 30  # single-cell rows above a table's header that are skipped as titles
 
 FORMATS = ("CSV (comma, semicolon or tab; UTF-8, UTF-8 with BOM, UTF-16 with BOM, cp1252)",
@@ -487,8 +488,8 @@ def detect_decimal(values: pd.Series, delimiter: str | None = None) -> str:
     ``1,234.5``, ``12.5``, ``1234.56``. Groups of three after the separator (``1,234``)
     are ambiguous; a tie is a point unless the file is semicolon-separated (common
     practice where the comma is the decimal mark)."""
-    if len(values) > 50000:
-        values = values.iloc[:: max(1, len(values) // 50000)]
+    if len(values) > 20000:
+        values = values.iloc[:: max(1, len(values) // 20000)]
     s = values[values.str.contains(r"[.,]", regex=True)]
     s = pd.Series(s.unique(), dtype=str).str.replace(r"[^\d.,\-]", "", regex=True)
     comma = (s.str.fullmatch(r"-?\d{1,3}(\.\d{3})+,\d+") | s.str.fullmatch(r"-?\d+,(\d{1,2}|\d{4,})")
@@ -910,7 +911,11 @@ def _build(long: _Long, layout: Layout, t: _Table, name: str, fy_start: int | No
     vint = vintage[sel] if vintage is not None else np.full(len(sel), "", dtype=object)
     gkey = pd.MultiIndex.from_arrays([sname, vint]) if vintage is not None else pd.Index(sname)
     gcodes, guniq = pd.factorize(gkey, sort=False)
-    keys = parsed.keys[sel].astype(str)
+    keys_all = parsed.keys[sel]
+    # frequency keys as small integers (fast grouping); _FKEYS[code] is the key
+    keys = np.full(len(sel), -1, dtype=np.int8)
+    for code, key in enumerate(_FKEYS):
+        keys[keys_all == key] = code
     ords = parsed.ordinals[sel]
     kinds_sel = parsed.kinds[sel]
     vals = numbers[sel]
@@ -927,17 +932,18 @@ def _build(long: _Long, layout: Layout, t: _Table, name: str, fy_start: int | No
     for key in np.unique(keys):
         m = keys == key
         k2 = key
-        if key == "M" and date_only[key]:
-            k2 = labels._date_frequency(ords[m], parsed.fy_start)
+        if _FKEYS[key] == "M" and date_only[key]:
+            k2 = _FKEYS.index(labels._date_frequency(ords[m], parsed.fy_start))
             freq_key[m] = k2
-        idx = labels._to_periods(ords[m], k2, parsed.fy_start)
+        idx = labels._to_periods(ords[m], _FKEYS[k2], parsed.fy_start)
         target_ord[m] = idx.asi8
 
     frame = pd.DataFrame({"g": gcodes, "f": freq_key, "o": target_ord, "v": vals, "r": rows_sel,
                           "i": np.arange(len(sel))})
     # mixed frequencies inside one series
-    nfreq = frame.groupby("g", sort=False)["f"].nunique()
-    mixed = set(nfreq.index[nfreq.to_numpy() > 1].tolist())
+    grouped = frame.groupby("g", sort=False)["f"]
+    spread = grouped.max() - grouped.min()
+    mixed = set(spread.index[spread.to_numpy() > 0].tolist())
     for g in sorted(mixed):
         sub = frame[frame["g"] == g]
         counts = sub["f"].value_counts()
@@ -946,7 +952,7 @@ def _build(long: _Long, layout: Layout, t: _Table, name: str, fy_start: int | No
         gname = guniq[g] if vintage is None else guniq[g][0]
         problems.append(Problem(
             IN014, "the series mixes frequencies", "one frequency per series",
-            "; ".join(f"{labels._FREQ_WORDS[k]}: {c} rows" for k, c in counts.items()),
+            "; ".join(f"{labels._FREQ_WORDS[_FKEYS[k]]}: {c} rows" for k, c in counts.items()),
             "Remove total or subtotal rows, or give each frequency its own series.",
             Location(file=name, sheet=sheet, row=int(first["r"]),
                      column=str(long.period_column[sel[int(first["i"])]]), series=str(gname))))
@@ -981,7 +987,7 @@ def _build(long: _Long, layout: Layout, t: _Table, name: str, fy_start: int | No
         g = int(gcol[a])
         gname = str(guniq[g] if vintage is None else guniq[g][0])
         gvint = None if vintage is None else (str(guniq[g][1]) or None)
-        key = str(f_all[a])
+        key = _FKEYS[int(f_all[a])]
         freq: Frequency = labels.frequency_of(key, parsed.fy_start)
         o = o_all[a:b]
         v = v_all[a:b]
