@@ -796,9 +796,10 @@ def _sdmx(t: _Table, roles: dict[str, int]) -> _Long:
 
 def _kind_guess(name: str, header: str, unit: str | None, vmin: float, vmax: float,
                 has100: bool) -> tuple[Kind, str]:
-    text = f"{header} {unit or ''}"
-    if _INDEX_WORDS.search(text):
+    if _INDEX_WORDS.search(header):
         return "index", f"kind 'index' guessed from the words {header!r}"
+    if unit and _INDEX_WORDS.search(unit):
+        return "index", f"kind 'index' guessed from the unit {unit!r}"
     if _STOCK_WORDS.search(header):
         return "stock", f"kind 'stock' guessed from the words {header!r}"
     if _FLOW_WORDS.search(header):
