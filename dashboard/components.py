@@ -168,7 +168,8 @@ def progress_bar(bar_id: str) -> html.Progress:
 def dropdown(control_id: str, *, multi: bool = False, clearable: bool = False,
              placeholder: str = "") -> dcc.Dropdown:
     """A searchable, keyboard-usable select."""
-    return dcc.Dropdown(id=control_id, options=[], multi=multi, clearable=clearable,
+    # a multi-select is clearable so its popover offers "Deselect All"
+    return dcc.Dropdown(id=control_id, options=[], multi=multi, clearable=clearable or multi,
                         placeholder=placeholder, className="rb-dropdown")
 
 

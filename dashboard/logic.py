@@ -518,9 +518,9 @@ def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency, *,
     if frequency.periods_per_year > 1 and annualise:
         add(f"{lab(last)} on {lab(last - 1)}, annualised",
             lambda v: at_last(growth.annualised(v, frequency)))
-        if (last - frequency.periods_per_year) in both:
-            add(f"{lab(last)} on a year earlier",
-                lambda v: at_last(growth.year_on_year(v, frequency)))
+    if frequency.periods_per_year > 1 and (last - frequency.periods_per_year) in both:
+        add(f"{lab(last)} on a year earlier",
+            lambda v: at_last(growth.year_on_year(v, frequency)))
     add(f"compound annual rate {lab(first)} to {lab(last)}",
         lambda v: float(growth.cagr(v, first, last, frequency).value))
     add(f"cumulative {lab(first)} to {lab(last)}",

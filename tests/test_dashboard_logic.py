@@ -211,6 +211,10 @@ def test_real_values_are_nominal_times_base_index_over_index(small: Workspace):
     # the status of the index travels to the real values it touched
     assert c.frame["status"].iloc[-1] == "preliminary"
     assert "constant 2023 dollars" in logic.real_title(c)
+    rows = {r["measure"]: r for r in logic.growth_summary(c.nominal, c.real, c.frequency,
+                                                          annualise=False)}
+    assert "2024-12 on a year earlier" in rows
+    assert not any("annualised" in m for m in rows)
 
 
 def test_growth_split_is_exact_not_a_difference(small: Workspace):

@@ -71,8 +71,7 @@ def layout() -> html.Div:
               dcc.Checklist(id=ids.RT_SA, options=[{"label": " Seasonally adjust (STL, after "
                                                             "deflation)", "value": "sa"}],
                             value=[], className="rb-check",
-                            labelStyle={"display": "inline-flex", "alignItems": "center"},
-                            inputStyle={"marginRight": "6px"}), ids.RT_SA),
+                            inline=True, inputStyle={"marginRight": "6px"}), ids.RT_SA),
         html.Div([html.Button("Save these choices to the workspace", id=ids.RT_SAVE,
                               n_clicks=0, type="button", className="rb-button"),
                   html.Span(id=ids.RT_SAVED, role="status")], className="rb-field"),

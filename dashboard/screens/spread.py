@@ -58,8 +58,7 @@ def layout() -> html.Div:
                                       clearable=False, className="rb-dropdown"), ids.SP_FREQ),
         field("Growth measure", dcc.RadioItems(
             id=ids.SP_MEASURE, value="yoy", className="rb-radio",
-            labelStyle={"display": "inline-flex", "alignItems": "center", "marginRight": "16px"},
-            inputStyle={"marginRight": "6px"},
+            inline=True, inputStyle={"marginRight": "6px"},
             options=[{"label": f" {words}", "value": key}
                      for key, words in logic.MEASURES.items()]), ids.SP_MEASURE, wide=True),
     ], className="rb-controls")

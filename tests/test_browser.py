@@ -1,0 +1,223 @@
+"""The dashboard in a real browser: Chromium driven by Playwright against gunicorn with two
+workers (started here as a subprocess, with its own data folder), as in production.
+
+Skips with the reason where no Chromium is found; CI makes it mandatory
+(RB_REQUIRE_BROWSER=1, see tests/conftest.py).
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import signal
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+import pytest
+from conftest import ROOT
+
+pytestmark = [pytest.mark.browser, pytest.mark.slow]
+
+EVIL = "<img src=x onerror=alert(1)>"
+CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+                 "--disable-component-update", "--disable-sync", "--no-first-run"]
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return int(s.getsockname()[1])
+
+
+@pytest.fixture(scope="module")
+def server(tmp_path_factory: pytest.TempPathFactory, chromium_path: str) -> Iterator[str]:
+    data = tmp_path_factory.mktemp("browser-data")
+    port = _free_port()
+    env = {**os.environ, "REALBASIS_DATA_DIR": str(data), "REALBASIS_WORKERS": "2"}
+    env.pop("REALBASIS_DATABASE_URL", None)
+    env.pop("REALBASIS_REDIS_URL", None)
+    log = open(data / "gunicorn.log", "wb")  # noqa: SIM115 - closed below
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "2",
+         "-b", f"127.0.0.1:{port}", "--timeout", "120", "dashboard.wsgi:server"],
+        cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
+    url = f"http://127.0.0.1:{port}/"
+    try:
+        deadline = time.monotonic() + 90
+        while True:
+            try:
+                with urllib.request.urlopen(url, timeout=5) as r:
+                    if r.status == 200:
+                        break
+            except OSError:
+                pass
+            if proc.poll() is not None or time.monotonic() > deadline:
+                log.flush()
+                pytest.fail("gunicorn did not start:\n"
+                            + (data / "gunicorn.log").read_text(errors="replace")[-3000:])
+            time.sleep(0.3)
+        yield url
+    finally:
+        os.killpg(proc.pid, signal.SIGTERM)
+        try:
+            proc.wait(20)
+        except subprocess.TimeoutExpired:
+            os.killpg(proc.pid, signal.SIGKILL)
+        log.close()
+
+
+@pytest.fixture(scope="module")
+def browser(chromium_path: str) -> Iterator[Any]:
+    from playwright.sync_api import sync_playwright
+
+    with sync_playwright() as p:
+        b = p.chromium.launch(executable_path=chromium_path, args=CHROMIUM_ARGS)
+        yield b
+        b.close()
+
+
+def _upload_file(folder: Path) -> Path:
+    """A wide monthly file: one money series, two price indexes, and a series whose name
+    is an HTML injection attempt. Nominal +3 % in 2024; the low index +1 %, the high +6 %."""
+    rows = [f"period,Widgets revenue (USD thousands),Low price index,High price index,{EVIL} (USD)"]
+    for p in pd.period_range("2022-01", "2024-12", freq="M"):
+        w = {2022: 90, 2023: 100, 2024: 103}[p.year]
+        lo = {2022: 98, 2023: 100, 2024: 101}[p.year]
+        hi = {2022: 97, 2023: 100, 2024: 106}[p.year]
+        rows.append(f"{p.year}-{p.month:02d},{w},{lo},{hi},{p.month}")
+    path = folder / "widgets.csv"
+    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    return path
+
+
+def _choose(page: Any, dropdown_id: str, values: list[str], *, multi: bool = False) -> None:
+    """Set a dcc.Dropdown to exactly ``values`` (option values equal to their label's
+    leading text) through its popover: clear a multi-select with its Select/Deselect All
+    buttons, then search each value and click it (the option list is virtualised)."""
+    page.locator(f"#{dropdown_id}").click()
+    content = page.locator(".dash-dropdown-content[data-state=open]")
+    content.wait_for()
+    if multi:
+        select_all = content.get_by_role("button", name="Select All", exact=True)
+        if select_all.count():
+            select_all.click()
+        content.get_by_role("button", name="Deselect All", exact=True).click()
+        content.locator("[role=option][aria-selected=true]").first.wait_for(state="detached")
+    search = content.locator("input.dash-dropdown-search")
+    for value in values:
+        search.fill(value)
+        option = content.locator(f"[role=option]:has(input[value='{value}'])")
+        option.first.click()
+        if not multi:
+            break
+    if content.count():
+        page.keyboard.press("Escape")
+    content.wait_for(state="detached")
+
+
+def _shot(page: Any, folder: Path, name: str) -> None:
+    page.wait_for_timeout(400)
+    page.screenshot(path=str(folder / f"dashboard-{name}.png"), full_page=True)
+
+
+def test_upload_deflate_and_compare_in_a_real_browser(server: str, browser: Any,
+                                                      tmp_path: Path, output_dir: Path):
+    page = browser.new_page(viewport={"width": 1300, "height": 1000})
+    problems: list[str] = []
+    dialogs: list[str] = []
+    page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}")
+            if m.type == "error" else None)
+    page.on("pageerror", lambda e: problems.append(f"page error: {e}"))
+    page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
+
+    page.goto(server)
+    page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+    assert "Demo" in page.inner_text("#rb-workspace-label")
+    page.wait_for_function("document.querySelector('#rt-title') && "
+                           "document.querySelector('#rt-title').innerText.includes('constant')")
+    for key in ("intake", "shelf", "real", "spread", "revisions"):
+        page.click(f"#rb-nav-{key}")
+        page.wait_for_selector(f"#rb-screen-{key}:not([hidden])")
+        _shot(page, output_dir, f"demo-{key}")
+
+    # --- intake: drop a file, see what was found, add it
+    page.click("#rb-nav-intake")
+    page.set_input_files("#in-upload input[type=file]", str(_upload_file(tmp_path)))
+    page.wait_for_selector("#in-series-table table", timeout=60_000)
+    table_text = page.inner_text("#in-series-table")
+    assert "Widgets revenue" in table_text and "Low price index" in table_text
+    assert EVIL in table_text, "the hostile series name is shown as text"
+    assert page.locator("img[src='x']").count() == 0
+    _shot(page, output_dir, "intake-file-read")
+    page.click("#in-add")
+    page.wait_for_function("document.querySelector('#in-added').innerText.includes('Added')",
+                           timeout=30_000)
+    page.wait_for_function("document.querySelector('#rb-workspace-label').innerText"
+                           ".includes('From widgets.csv')")
+
+    # --- real terms: choose the series, the deflator and the base
+    page.click("#rb-nav-real")
+    page.wait_for_selector("#rb-screen-real:not([hidden])")
+    _choose(page, "rt-series", ["Widgets revenue"])
+    _choose(page, "rt-deflator", ["Low price index"])
+    page.fill("#rt-base", "2023")
+    page.press("#rt-base", "Enter")
+    page.wait_for_function("document.querySelector('#rt-title').innerText.includes("
+                           "'constant 2023 dollars') && document.querySelector('#rt-title')"
+                           ".innerText.includes('Low price index')", timeout=30_000)
+    growth = page.inner_text("#rt-growth")
+    assert "+1.98 %" in growth  # (1.03 / 1.01) - 1, the exact split
+    _shot(page, output_dir, "real-terms-upload")
+    page.fill("#rt-base", "2024")
+    page.press("#rt-base", "Enter")
+    page.wait_for_function("document.querySelector('#rt-title').innerText.includes("
+                           "'constant 2024 dollars')", timeout=30_000)
+
+    # --- spread: one deflator, then two; the verdict changes
+    page.click("#rb-nav-spread")
+    page.wait_for_selector("#rb-screen-spread:not([hidden])")
+    _choose(page, "sp-series", ["Widgets revenue"])
+    _choose(page, "sp-deflators", ["Low price index"], multi=True)
+    page.wait_for_function("document.querySelector('#sp-verdict').innerText.includes("
+                           "'positive under the one deflator')", timeout=30_000)
+    _choose(page, "sp-deflators", ["Low price index", "High price index"], multi=True)
+    page.wait_for_function("document.querySelector('#sp-verdict').innerText.includes("
+                           "'The sign depends on the deflator')", timeout=30_000)
+    assert re.search(r"positive under 1 and negative under 1 of 2", page.inner_text("#sp-verdict"))
+    _shot(page, output_dir, "spread-upload")
+
+    # --- every screen of the new workspace
+    for key in ("intake", "shelf", "real", "spread", "revisions"):
+        page.click(f"#rb-nav-{key}")
+        page.wait_for_selector(f"#rb-screen-{key}:not([hidden])")
+        assert page.locator(f"#rb-screen-{key} .rb-cautions").count() == 1
+        _shot(page, output_dir, f"upload-{key}")
+
+    assert dialogs == [], f"a script ran: {dialogs}"
+    assert problems == [], "\n".join(problems)
+    page.close()
+
+
+def test_controls_are_reachable_by_keyboard(server: str, browser: Any):
+    page = browser.new_page(viewport={"width": 1300, "height": 900})
+    page.goto(server)
+    page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+    page.focus("#rb-nav-intake")
+    for _ in range(2):  # intake -> shelf -> real
+        page.keyboard.press("Tab")
+    page.keyboard.press("Enter")
+    page.wait_for_selector("#rb-screen-real:not([hidden])")
+    seen = []
+    for _ in range(6):
+        page.keyboard.press("Tab")
+        seen.append(page.evaluate("document.activeElement.id || "
+                                  "document.activeElement.closest('[id]').id"))
+    assert "rt-base" in seen
+    page.close()
