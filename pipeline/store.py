@@ -305,14 +305,16 @@ def series_from_dict(doc: Mapping[str, Any]) -> Series:
     )
 
 
-def _canonical(doc: Any) -> bytes:
-    return json.dumps(doc, sort_keys=True, separators=(",", ":"), ensure_ascii=False,
+def _canonical(doc: Any, *, sort: bool = True) -> bytes:
+    """Compact JSON; ``sort=False`` keeps mapping order (manifests keep the order in which
+    series, indexes and settings were added)."""
+    return json.dumps(doc, sort_keys=sort, separators=(",", ":"), ensure_ascii=False,
                       allow_nan=False).encode("utf-8")
 
 
 def _json_safe(value: Any, what: str) -> Any:
     try:
-        return json.loads(_canonical(value))
+        return json.loads(_canonical(value, sort=False))
     except (TypeError, ValueError) as err:
         raise fail(ST003, f"{what} cannot be stored as JSON",
                    expected="strings, numbers, booleans, lists and mappings with text keys",
@@ -887,7 +889,7 @@ class WorkspaceStore:
     def _insert_version(conn: Connection, workspace_id: str, version: int, name: str,
                         manifest: Mapping[str, Any], actor: str, action: str,
                         at: dt.datetime) -> None:
-        text = _canonical(manifest)
+        text = _canonical(manifest, sort=False)
         conn.execute(versions_table.insert().values(
             workspace_id=workspace_id, version=version, saved_at=at, actor=actor,
             action=str(action)[:200], name=name, manifest=text.decode("utf-8"),

@@ -366,3 +366,102 @@ def test_reviewer_is_read_only_against_a_real_gunicorn(tmp_path):
         proc.terminate()
         proc.wait(20)
         store.close()
+
+
+@pytest.mark.browser
+@pytest.mark.slow
+def test_reviewer_in_a_real_browser_sees_every_screen_and_changes_nothing(
+        tmp_path, chromium_path, output_dir):
+    """Chromium (Playwright) opens a reviewer link against gunicorn with two workers:
+    every screen loads without a refused request, the share screen shows the audit trail
+    but no link controls, the reviewer downloads the same workbook the editor gets, and
+    pressing a save button is refused by the server (403) with nothing stored."""
+    import os
+    import signal
+    import socket
+    import subprocess
+    import sys
+    import time
+    import urllib.request
+
+    from conftest import ROOT
+    from openpyxl import load_workbook
+    from playwright.sync_api import sync_playwright
+
+    from dashboard.data import DataAccess
+    from pipeline.settings import Settings
+    from pipeline.workbook import export_workspace
+
+    data_dir = tmp_path / "data"
+    data = DataAccess(Settings(data_dir=str(data_dir)))
+    ref = data.demo_ref()
+    store = data.store
+    token, _ = store.create_link(ref.id, label="browser test")
+    version = store.current_version(ref.id)
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    env = {**os.environ, "REALBASIS_DATA_DIR": str(data_dir), "PYTHONPATH": str(ROOT)}
+    env.pop("REALBASIS_DATABASE_URL", None)
+    env.pop("REALBASIS_REDIS_URL", None)
+    proc = subprocess.Popen([sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "2",
+                             "-b", f"127.0.0.1:{port}", "--timeout", "120",
+                             "dashboard.wsgi:server"], cwd=ROOT, env=env,
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
+                            start_new_session=True)
+    base = f"http://127.0.0.1:{port}"
+    args = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+            "--disable-component-update", "--disable-sync", "--no-first-run"]
+    try:
+        deadline = time.monotonic() + 90
+        while True:
+            try:
+                urllib.request.urlopen(base + "/_dash-layout", timeout=5).close()
+                break
+            except OSError:
+                assert time.monotonic() < deadline, "gunicorn did not start"
+                time.sleep(0.3)
+        with sync_playwright() as p:
+            browser = p.chromium.launch(executable_path=chromium_path, args=args)
+            page = browser.new_page(viewport={"width": 1300, "height": 1000},
+                                    accept_downloads=True)
+            refused: list[str] = []
+            page.on("response", lambda r: refused.append(f"{r.status} {r.url}")
+                    if r.status >= 400 else None)
+            page.goto(f"{base}/review/{token}")
+            page.wait_for_selector("#rb-reviewer-banner", timeout=60_000)
+            page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+            assert "Demo" in page.inner_text("#rb-workspace-label")
+            assert not page.is_visible("#rb-nav-intake")  # editor-only screen hidden
+            for key in ("shelf", "real", "spread", "revisions", "share"):
+                page.click(f"#rb-nav-{key}")
+                page.wait_for_selector(f"#rb-screen-{key}:not([hidden])")
+                page.wait_for_load_state("networkidle")
+            page.wait_for_selector("#sx-audit table", timeout=30_000)
+            assert "created workspace" in page.inner_text("#sx-audit")
+            assert page.locator("#sx-link-panel[hidden]").count() == 1
+            page.wait_for_timeout(500)
+            page.screenshot(path=str(output_dir / "share-reviewer.png"), full_page=True)
+            assert refused == [], f"plain viewing was refused: {refused}"
+
+            with page.expect_download(timeout=60_000) as dl:
+                page.click("#sx-dl-xlsx")
+            path = tmp_path / "reviewer.xlsx"
+            dl.value.save_as(path)
+
+            page.click("#rb-nav-real")
+            page.wait_for_selector("#rb-screen-real:not([hidden])")
+            page.wait_for_function("document.querySelector('#rt-title').innerText"
+                                   ".includes('constant')", timeout=60_000)
+            with page.expect_response(lambda r: "_dash-update-component" in r.url
+                                      and r.status == 403, timeout=30_000):
+                page.click("#rt-save")
+            browser.close()
+        assert store.current_version(ref.id) == version  # nothing was saved
+        mine = export_workspace(data.latest(ref.id), tmp_path / "editor.xlsx")
+        got = list(load_workbook(path)["Real terms"].iter_rows(values_only=True))
+        want = list(load_workbook(mine)["Real terms"].iter_rows(values_only=True))
+        assert got == want and len(got) > 100
+    finally:
+        os.killpg(proc.pid, signal.SIGTERM)
+        proc.wait(20)

@@ -112,7 +112,9 @@ def assert_same_series(a: Series, b: Series) -> None:
 
 def assert_same_workspace(a: Workspace, b: Workspace) -> None:
     assert (a.id, a.name, a.version) == (b.id, b.name, b.version)
-    assert set(a.series) == set(b.series)
+    assert list(a.series) == list(b.series)  # order kept (the order things were added)
+    assert list(a.indexes) == list(b.indexes)
+    assert list(a.settings) == list(b.settings)
     for k in a.series:
         assert_same_series(a.series[k], b.series[k])
     assert {k: set(v) for k, v in a.indexes.items()} == {k: set(v) for k, v in b.indexes.items()}
@@ -129,9 +131,9 @@ def filled(ws: Workspace, tag: str = "a") -> Workspace:
     older = cpi.with_values(cpi.values * 0.999, vintage="2024-02-15")
     return Workspace(
         id=ws.id, name=ws.name, version=ws.version,
-        series={spend.name: spend, bal.name: bal},
+        series={spend.name: spend, bal.name: bal, "a first-sorted name": bal},
         indexes={cpi.name: {"2024-03-15": cpi, "2024-02-15": older}},
-        settings={"base": "FY2025", "deflators": [cpi.name], "sa": {"method": "stl"},
+        settings={"zeta": 1, "base": "FY2025", "deflators": [cpi.name], "sa": {"method": "stl"},
                   "tag": tag},
         own_indexes={"fuel and parts": {"method": "fisher", "chained": True,
                                         "weights": {"fuel": 0.6, "parts": 0.4}}},
