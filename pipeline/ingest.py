@@ -603,18 +603,23 @@ class _Long:
     vintage_column: str | None = None
 
 
-def _period_share(col: pd.Series, fy_start: int | None) -> float:
-    sample = col[col.str.strip() != ""]
+def _period_share(col: pd.Series, fy_start: int | None, *, years_count: bool = True) -> float:
+    """Share of the (first 5,000 non-blank) cells that are period labels. With
+    ``years_count=False`` plain numbers like 2019 do not count (they may be amounts)."""
+    sample = col.iloc[:5000]
+    sample = sample[sample.str.strip() != ""]
     if len(sample) == 0:
         return 0.0
-    sample = sample.iloc[:2000]
     try:
         parsed = labels.parse_values(sample.tolist(), fy_start if fy_start and fy_start != 1 else 7)
     except RealbasisError as e:
         # slashed dates of unclear day/month order are periods all the same: the real
         # parse then raises PE106 with the column named
         return 1.0 if e.code == labels.PE106 else 0.0
-    return float((parsed.keys != "").mean())
+    ok = parsed.keys != ""
+    if not years_count:
+        ok &= parsed.kinds != labels.YEAR
+    return float(ok.mean())
 
 
 def _layout(t: _Table, fy_start: int | None, name: str) -> tuple[Layout, dict[str, int], bool]:
@@ -646,21 +651,27 @@ def _layout(t: _Table, fy_start: int | None, name: str) -> tuple[Layout, dict[st
                 roles[role] = pos
         unused = [t.header[i] for i in range(len(t.header)) if i not in roles.values()]
         return "long", {**roles, "_unused": unused}, False  # type: ignore[dict-item]
-    # wide: a period column, by name first, then by content (left to right)
-    candidates = ([period] if period is not None else []) + [
-        i for i in range(len(t.header)) if i != period]
-    for i in candidates:
-        if _period_share(t.cells[i], fy_start) >= 0.8:
-            roles = {"period": i}
-            for role, names in (("status", _STATUS_NAMES), ("vintage", _VINTAGE_NAMES)):
-                pos = find(names)
-                if pos is not None and pos != i:
-                    roles[role] = pos
-            return "wide", roles, False
-    # periods across the header row (one row per series)
+    def wide(i: int) -> tuple[Layout, dict[str, int], bool]:
+        roles = {"period": i}
+        for role, names in (("status", _STATUS_NAMES), ("vintage", _VINTAGE_NAMES)):
+            pos = find(names)
+            if pos is not None and pos != i:
+                roles[role] = pos
+        return "wide", roles, False
+
+    # wide: a period column found by its name, else the first column by its content,
+    # else periods across the header row (one row per series: budget tables), else any
+    # other column by content (plain numbers such as 2019 do not count there: amounts)
+    if period is not None and _period_share(t.cells[period], fy_start) >= 0.8:
+        return wide(period)
+    if _period_share(t.cells[0], fy_start) >= 0.8:
+        return wide(0)
     heads = pd.Series(t.header[1:], dtype=str)
     if len(heads) and _period_share(heads, fy_start) >= 0.8:
         return "wide", {"series": 0}, True
+    for i in range(1, len(t.header)):
+        if i != period and _period_share(t.cells[i], fy_start, years_count=False) >= 0.8:
+            return wide(i)
     raise fail(IN009, "no column of periods found",
                expected="a column of period labels (" + labels.ACCEPTED + "), or periods across the header row",
                found="columns " + ", ".join(repr(h) for h in t.header[:8]) + (" ..." if len(t.header) > 8 else ""),

@@ -409,3 +409,14 @@ def test_row_limit_is_not_fooled_by_blank_lines_or_titles():
     with pytest.raises(RealbasisError) as e:
         read_file(buf.getvalue(), filename="t.xlsx", settings=Settings(max_rows=1))
     assert e.value.code == "IN002"
+
+
+def test_budget_table_with_amounts_like_years_is_read_across():
+    # amounts 2100, 1500 would also parse as years: the header row of fiscal years wins
+    text = b"Program,FY2023,FY2024\nBus operations,2100,2200\nRail operations,1500,1600\n"
+    r = read_file(text, filename="b.csv", fy_start=7)
+    assert [s.name for s in r.series] == ["Bus operations", "Rail operations"]
+    assert r.get("Bus operations").values.tolist() == [2100.0, 2200.0]
+    # a period column that is not first is still found
+    r2 = read_file(b"Segment note,Month,Revenue\nx,2024-01,5\ny,2024-02,6\n", filename="m.csv")
+    assert r2.get("Revenue").values.tolist() == [5.0, 6.0]
