@@ -14,6 +14,7 @@ upload's hash and the interpretation choices.
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import fcntl
 import hashlib
 import os
@@ -27,13 +28,14 @@ from pathlib import Path
 from pipeline.errors import fail, register
 from pipeline.model import Workspace
 from pipeline.settings import Settings
-from pipeline.store import WorkspaceStore
+from pipeline.store import WorkspaceStore, require_read
 
 UI001 = register("UI001", "uploaded file is too large")
 UI002 = register("UI002", "upload could not be decoded")
 UI003 = register("UI003", "uploaded file has expired from the server")
 
 DEMO_NAME = "Demo: Harbourline Outfitters and Tallmere Transit (illustrative)"
+DEMO_COPY_NAME = "My copy of the demo (illustrative)"
 DEMO_DIR = Path(__file__).resolve().parent.parent / "demo_data"
 _HASH_RE = re.compile(r"^[0-9a-f]{64}$")
 CACHE_SIZE = 16
@@ -77,6 +79,7 @@ class DataAccess:
 
     def load(self, ref: WorkspaceRef) -> Workspace:
         """The workspace at ``ref.version`` (the latest when version is 0)."""
+        require_read(ref.id)  # a reviewer link opens its own workspace only, cached or not
         version = ref.version or self.store.current_version(ref.id)
         key = (ref.id, version)
         with self._lock:
@@ -92,7 +95,15 @@ class DataAccess:
         return self.load(WorkspaceRef(workspace_id, 0))
 
     def save(self, ws: Workspace, *, action: str, actor: str = "editor") -> Workspace:
-        """Save ``ws`` as the next version (refused with ST002 if someone saved since)."""
+        """Save ``ws`` as the next version (refused with ST002 if someone saved since).
+
+        The demo workspace is shared by everyone who opens the dashboard, so a change to
+        it is saved into a new workspace (a copy) instead; the returned workspace says
+        which."""
+        if ws.name == DEMO_NAME:
+            copy = self.store.create(DEMO_COPY_NAME, actor=actor)
+            ws = dataclasses.replace(ws, id=copy.id, name=copy.name, version=copy.version)
+            action = f"{action} (on a copy of the shared demo)"
         saved = self.store.save(ws, expected_version=ws.version, actor=actor, action=action)
         self._remember(saved)
         return saved

@@ -225,6 +225,12 @@ def check_serving(settings: Settings) -> None:
                        "127.0.0.1.")
 
 
+def require_read(workspace_id: str) -> None:
+    """Refuse reading another workspace than a reviewer link's own (``SH007``); for
+    caches in front of the store."""
+    _require_read(workspace_id)
+
+
 def _require_read(workspace_id: str) -> None:
     ctx = _ACCESS.get()
     if ctx.role == "reviewer" and ctx.workspace_id != workspace_id:

@@ -465,3 +465,21 @@ def test_reviewer_in_a_real_browser_sees_every_screen_and_changes_nothing(
     finally:
         os.killpg(proc.pid, signal.SIGTERM)
         proc.wait(20)
+
+
+def test_reviewer_cannot_read_another_workspace_even_from_a_cache(tmp_path):
+    app, store, ws = _app(tmp_path)
+    other = store.create("Someone else's workspace")
+    body = {"output": "rb-workspace-label.children",
+            "outputs": {"id": "rb-workspace-label", "property": "children"},
+            "inputs": [{"id": "rb-workspace", "property": "data",
+                        "value": {"id": other.id, "version": 1}}],
+            "changedPropIds": ["rb-workspace.data"], "state": []}
+    editor = app.server.test_client()
+    r = editor.post("/_dash-update-component", json=body)  # now cached in this process
+    assert r.status_code == 200 and "Someone else" in r.get_data(as_text=True)
+    token, _ = store.create_link(ws.id)
+    r = app.server.test_client().post("/_dash-update-component", json=body,
+                                      headers={"X-Realbasis-Review": token})
+    assert r.status_code == 403 and r.get_json()["code"] == "SH007"
+    assert "Someone else" not in r.get_data(as_text=True)
