@@ -483,3 +483,44 @@ def test_reviewer_cannot_read_another_workspace_even_from_a_cache(tmp_path):
                                       headers={"X-Realbasis-Review": token})
     assert r.status_code == 403 and r.get_json()["code"] == "SH007"
     assert "Someone else" not in r.get_data(as_text=True)
+
+
+def test_workspace_command_links_audit_and_export(tmp_path, capsys):
+    import numpy as np
+    import pandas as pd
+
+    from pipeline.cli import main
+    from pipeline.model import MONTHLY, Series, Workspace
+
+    db = f"sqlite:///{tmp_path / 'cli.sqlite'}"
+    store = WorkspaceStore(db)
+    ws = store.create("Command line (illustrative)")
+    idx = pd.period_range("2024-01", periods=24, freq="M")
+    rev = Series("Revenue", pd.Series(np.linspace(100, 120, 24), index=idx), MONTHLY)
+    cpi = Series("CPI", pd.Series(np.linspace(100, 103, 24), index=idx), MONTHLY, kind="index")
+    store.save(Workspace(ws.id, ws.name, ws.version, series={"Revenue": rev},
+                         indexes={"CPI": {"": cpi}}, settings={"base": "2024"}))
+    common = ["--database-url", db]
+    assert main(["workspace", "list", *common]) == 0
+    assert ws.id in capsys.readouterr().out
+    assert main(["workspace", "link", ws.id, "--label", "auditor", "--expires-days", "7",
+                 "--base-url", "https://realbasis.example.org/", *common]) == 0
+    out = capsys.readouterr().out
+    token = out.strip().splitlines()[-1].rsplit("/review/", 1)[1]
+    assert out.strip().splitlines()[-1].startswith("https://realbasis.example.org/review/")
+    link = store.resolve_token(token)
+    assert link is not None and link.label == "auditor"
+    assert main(["workspace", "revoke", link.id, *common]) == 0
+    assert store.resolve_token(token) is None
+    assert main(["workspace", "link", ws.id, "--expires-days", "0", *common]) == 2
+    assert "[SH005]" in capsys.readouterr().err
+    out_file = tmp_path / "ws.xlsx"
+    assert main(["workspace", "export", ws.id, "--out", str(out_file), *common]) == 0
+    assert out_file.exists()
+    assert main(["workspace", "audit", ws.id, *common]) == 0
+    audit = capsys.readouterr().out
+    assert "reviewer link" in audit and "revoked" in audit and "export ws.xlsx" in audit
+    assert main(["workspace", "verify", ws.id, *common]) == 0
+    assert main(["workspace", "show", "nope", *common]) == 2
+    assert "[ST001]" in capsys.readouterr().err
+    store.close()
