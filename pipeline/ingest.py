@@ -124,7 +124,8 @@ _FLOW_WORDS = re.compile(r"\b(revenue|revenues|sales|spending|spend|cost|costs|e
 _MONEY = re.compile(r"[$€£¥]|\b(USD|EUR|GBP|JPY|CAD|AUD|NZD|CHF|CNY|SEK|NOK|DKK|INR|dollars?|"
                     r"euros?|pounds?)\b", re.IGNORECASE)
 _UNIT_IN_HEADER = re.compile(r"^(?P<name>.*?)\s*[\(\[](?P<unit>[^\)\]]+)[\)\]]\s*$")
-_REFERENCE = re.compile(r"(?P<ref>[\w\- ]+?)\s*=\s*100\b")
+_REFERENCE = re.compile(r"(?:\b(?:index|idx|base|reference)\b[\s:,]*)?(?P<ref>[\w\- ]+?)\s*=\s*100\b",
+                        re.IGNORECASE)
 
 _CODES = "USD|EUR|GBP|JPY|CAD|AUD|NZD|CHF|CNY|SEK|NOK|DKK|INR|HKD|SGD|ZAR|MXN|BRL"
 _CURRENCY = re.compile(rf"^(?:(?:US|A|C|NZ|HK|S)?[$€£¥]|(?:{_CODES})\s*)|(?:\s*(?:{_CODES})|[$€£¥])$",
@@ -597,7 +598,7 @@ class _Long:
     vintage: pd.Series | None = None
     headers: Mapping[str, str] | None = None  # series name -> original header (wide)
     units: Mapping[str, str | None] | None = None
-    references: Mapping[str, str | None] | None = None
+    references: dict[str, str | None] | None = None
     series_column: str | None = None
     status_column: str | None = None
     vintage_column: str | None = None
@@ -679,7 +680,27 @@ def _layout(t: _Table, fy_start: int | None, name: str) -> tuple[Layout, dict[st
                file=name, sheet=t.sheet)
 
 
-def _wide(t: _Table, roles: dict[str, int], name: str) -> tuple[_Long, list[Problem]]:
+def _units_row(t: _Table, period: int) -> tuple[_Table, dict[str, str]]:
+    """A second header row of units (blank period cell, text that is no number under
+    the series columns, e.g. ``,USD thousands,index``) is taken as the units and removed."""
+    if len(t.cells) < 2:
+        return t, {}
+    first = t.cells.iloc[0]
+    if first.iloc[period].strip():
+        return t, {}
+    cells = {t.header[i]: str(first.iloc[i]).strip() for i in range(len(t.header)) if i != period}
+    filled = {h: v for h, v in cells.items() if v}
+    if not filled:
+        return t, {}
+    _, bad, _ = _parse_numbers(pd.Series(list(filled.values()), dtype=str), ".")
+    if not bad.all():
+        return t, {}
+    return (_Table(t.header, t.cells.iloc[1:], t.rows[1:], t.fmt, t.encoding, t.delimiter,
+                   t.sheet, t.sheets, t.skipped), filled)
+
+
+def _wide(t: _Table, roles: dict[str, int], name: str,
+          row_units: Mapping[str, str] | None = None) -> tuple[_Long, list[Problem]]:
     problems: list[Problem] = []
     p = roles["period"]
     skip = {p, roles.get("status", -1), roles.get("vintage", -1)}
@@ -719,8 +740,13 @@ def _wide(t: _Table, roles: dict[str, int], name: str) -> tuple[_Long, list[Prob
                                  dtype=str)
         long.vintage_column = t.header[roles["vintage"]]
     long.headers = dict(zip(names, (t.header[i] for i in value_cols), strict=True))
-    long.units = {nm: split[t.header[i]][1] for nm, i in zip(names, value_cols, strict=True)}
-    long.references = {nm: split[t.header[i]][2] for nm, i in zip(names, value_cols, strict=True)}
+    row_units = row_units or {}
+    long.units = {nm: row_units.get(t.header[i]) or split[t.header[i]][1]
+                  for nm, i in zip(names, value_cols, strict=True)}
+    long.references = {}
+    for nm, i in zip(names, value_cols, strict=True):
+        ref = _REFERENCE.search(row_units.get(t.header[i], ""))
+        long.references[nm] = ref.group("ref").strip() if ref else split[t.header[i]][2]
     return long, problems
 
 
@@ -1131,10 +1157,11 @@ def read_file(source: str | Path | bytes, *, filename: str | None = None, sheet:
         long, more = _transposed(table, name)
         problems += more
     else:
+        table, row_units = _units_row(table, roles["period"])
         # one period column shared by every series: mixed frequencies stop at once
         labels.parse_label_column(table.cells[roles["period"]], fy_start, file=name,
                                   column=table.header[roles["period"]], rows=table.rows)
-        long, more = _wide(table, roles, name)
+        long, more = _wide(table, roles, name, row_units)
         problems += more
     decimal = detect_decimal(long.value.astype(str), table.delimiter)
     series, cell_problems = _build(long, layout, table, name, fy_start, kinds, decimal)

@@ -420,3 +420,11 @@ def test_budget_table_with_amounts_like_years_is_read_across():
     # a period column that is not first is still found
     r2 = read_file(b"Segment note,Month,Revenue\nx,2024-01,5\ny,2024-02,6\n", filename="m.csv")
     assert r2.get("Revenue").values.tolist() == [5.0, 6.0]
+
+
+def test_units_row_under_the_header():
+    r = read_file(f("units_row.csv"))
+    assert r.rows == 2 and r.problems == ()
+    assert r.get("Revenue").unit == "USD thousands"
+    idx = r.get("Consumer index")
+    assert idx.unit == "index 2020=100" and idx.reference == "2020" and idx.kind == "index"
