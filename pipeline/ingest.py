@@ -1051,6 +1051,9 @@ def _build(long: _Long, layout: Layout, t: _Table, name: str, fy_start: int | No
                                         Location(file=name, sheet=sheet, series=gname), "warning"))
         header = (long.headers or {}).get(gname, gname)
         reference = (long.references or {}).get(gname)
+        if reference is None and unit:
+            ref = _REFERENCE.search(unit)
+            reference = ref.group("ref").strip() if ref else None
         finite = v[np.isfinite(v)]
         vmin = float(finite.min()) if len(finite) else np.nan
         vmax = float(finite.max()) if len(finite) else np.nan

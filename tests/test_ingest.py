@@ -86,6 +86,7 @@ def test_long_layout_with_unit_status_vintage():
     assert r.layout == "long" and r.problems == ()
     idx = r.get("Fixed-basket consumer index")
     assert idx.kind == "index" and idx.unit == "index" and idx.vintage == "2025-03-15"
+    assert idx.reference is None  # the unit 'index' names no reference period
     assert idx.status.tolist() == ["final", "preliminary", "projected"]
     assert idx.stretches() == {"preliminary": ("2024-02", "2024-02"),
                                "projected": ("2024-03", "2024-03")}
@@ -94,11 +95,12 @@ def test_long_layout_with_unit_status_vintage():
 
 
 def test_long_layout_several_vintages_of_one_index():
-    text = ("series,period,value,vintage\n"
-            "Idx,2024-01,100,2025-01-15\nIdx,2024-02,101,2025-01-15\n"
+    text = ("series,period,value,vintage,unit\n"
+            "Idx,2024-01,100,2025-01-15,index 2024-01=100\nIdx,2024-02,101,2025-01-15,\n"
             "Idx,2024-01,100,2025-04-15\nIdx,2024-02,101.3,2025-04-15\n")
     r = read_file(text.encode(), filename="v.csv")
     assert r.problems == ()
+    assert r.series[0].reference == "2024-01"
     assert sorted((s.name, s.vintage, s.values.iloc[1]) for s in r.series) == [
         ("Idx", "2025-01-15", 101.0), ("Idx", "2025-04-15", 101.3)]
 
