@@ -214,3 +214,11 @@ def test_slashed_dates_resolved_by_the_column():
     with pytest.raises(RealbasisError) as e:
         parse_label("30/2/2024")
     assert e.value.code == "PE101"
+
+
+def test_many_distinct_iso_dates_take_the_fast_path_and_stay_strict():
+    days = pd.date_range("1990-01-01", periods=5000, freq="D").strftime("%Y-%m-%d").tolist()
+    col = parse_label_column([*days, "2023-02-29", "1999-13-01"])
+    assert col.frequency == Frequency("M")
+    assert col.index[0] == pd.Period("1990-01", "M") and col.index[4999] == pd.Period("2003-09", "M")
+    assert col.bad == ((5000, "2023-02-29"), (5001, "1999-13-01"))
