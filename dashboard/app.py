@@ -16,15 +16,15 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
-from urllib.parse import parse_qs
+from urllib.parse import parse_qs, urlencode
 
-from dash import Dash, Input, Output, State, ctx, dcc, html, no_update
+from dash import Dash, Input, Output, ctx, dcc, html, no_update
 
 from pipeline.settings import Settings, load_settings
 from pipeline.store import WorkspaceStore
 
 from . import ids, jobs
-from .data import DataAccess, WorkspaceRef
+from .data import DEMO_NAME, DataAccess, WorkspaceRef
 from .screens import ScreenInfo, discover
 
 ASSETS = Path(__file__).resolve().parent / "assets"
@@ -50,14 +50,36 @@ def context(app: Dash) -> AppContext:
 
 
 def default_resolver(data: DataAccess) -> Callable[[str], WorkspaceRef]:
+    """``?ws=<id>`` when that workspace exists; otherwise the demo workspace, or with the
+    demo setting off the most recently changed other workspace (an empty one is started
+    when there is none)."""
+
     def resolve(search: str) -> WorkspaceRef:
         query = parse_qs((search or "").lstrip("?"))
         wanted = (query.get("ws") or [""])[0]
         if wanted and data.store.exists(wanted):
             return WorkspaceRef(wanted, data.store.current_version(wanted))
-        return data.demo_ref()
+        if data.settings.demo:
+            return data.demo_ref()
+        for info in data.store.list():  # most recently changed first
+            if info.name != DEMO_NAME:
+                return WorkspaceRef(info.id, info.version)
+        ws = data.create("My workspace")
+        return WorkspaceRef(ws.id, ws.version)
 
     return resolve
+
+
+def address_for(search: str, ref: WorkspaceRef | None) -> Any:
+    """The query string showing workspace ``ref`` (other parameters kept), or no_update
+    when it already does."""
+    if ref is None:
+        return no_update
+    query = parse_qs(search.lstrip("?"), keep_blank_values=True)
+    if (query.get("ws") or [""])[0] == ref.id:
+        return no_update
+    query["ws"] = [ref.id]
+    return "?" + urlencode(query, doseq=True)
 
 
 def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
@@ -92,16 +114,19 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
     rb = context(app)
 
     @app.callback(
-        Output(ids.WORKSPACE, "data"),
-        Input(ids.URL, "search"),
-        State(ids.WORKSPACE, "data"),
+        Output(ids.WORKSPACE, "data"), Output(ids.URL, "search"),
+        Input(ids.URL, "search"), Input(ids.WORKSPACE, "data"),
     )
-    def _resolve_workspace(search: str | None, current: Any) -> Any:
-        ref = rb.resolve_workspace(search or "")
+    def _workspace(search: str | None, current: Any) -> Any:
+        """The address picks the workspace; a workspace changed by a screen (a new one,
+        a new version) is written back into the address so a reload keeps it."""
         old = WorkspaceRef.from_dict(current)
+        if ctx.triggered_id == ids.WORKSPACE:
+            return no_update, address_for(search or "", old)
+        ref = rb.resolve_workspace(search or "")
         if old is not None and old.id == ref.id and old.version >= ref.version:
-            return no_update
-        return ref.as_dict()
+            return no_update, no_update
+        return ref.as_dict(), no_update
 
     @app.callback(Output(ids.WORKSPACE_LABEL, "children"), Input(ids.WORKSPACE, "data"))
     def _workspace_label(data: Any) -> Any:

@@ -81,6 +81,10 @@ RT_METHOD = "rt-method"
 RT_WARNINGS = "rt-warnings"
 RT_SAVE = "rt-save"
 RT_SAVED = "rt-saved"
+RT_SA_METHOD = "rt-sa-method"
+RT_SA_ALL = "rt-sa-all"
+RT_SA_PROGRESS = "rt-sa-progress"
+RT_SA_MESSAGE = "rt-sa-message"
 
 # Deflator spread
 SP_SERIES = "sp-series"

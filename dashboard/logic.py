@@ -846,3 +846,38 @@ def build_cost_index(ws: Workspace, name: str | None, components: Sequence[str],
                                                for c in components) or None)
     return _put_index(ws, out), [f"Added {title!r} ({COST_METHODS.get(method, method)}).",
                                  *ci.method_note(), *(w.message for w in ci.warnings)]
+
+
+# --------------------------------------------------------------------------- batch seasonal adjustment
+
+SA_METHODS = {"stl": "STL", "stl-robust": "STL, robust to outliers",
+              "classical": "classical decomposition (moving averages)",
+              "x13": "X-13ARIMA-SEATS (needs the external program)"}
+SA_SUFFIX = " (seasonally adjusted)"
+
+
+def adjust_all(ws: Workspace, method: str, progress: ProgressFn | None = None, *,
+               x13_path: str | None = None) -> tuple[Workspace, list[str]]:
+    """Seasonally adjust every monthly and quarterly money series of the workspace
+    (pipeline.seasonal.adjust_many) and add each result as a new series named
+    '<name> (seasonally adjusted)'. Annual series are never adjusted."""
+    from pipeline.seasonal import adjust_many
+
+    eligible = [s for name, s in ws.series.items()
+                if s.frequency.code in ("M", "Q") and not name.endswith(SA_SUFFIX)]
+    if not eligible:
+        raise fail(UI005, "no monthly or quarterly series to adjust",
+                   expected="monthly or quarterly money series",
+                   found=f"{len(ws.series):,} series, none monthly or quarterly",
+                   fix="Annual and fiscal-year data are never seasonally adjusted.")
+    adjs = adjust_many(eligible, method, progress=progress, x13_path=x13_path)  # type: ignore[arg-type]
+    money = dict(ws.series)
+    for a in adjs:
+        name = a.original.name + SA_SUFFIX
+        money[name] = dataclasses.replace(a.adjusted, name=name)
+    lines = [f"Added {len(adjs):,} seasonally adjusted series ({SA_METHODS.get(method, method)}); "
+             "the originals are kept.", *adjs[0].method_note()]
+    warned = sum(len(a.warnings) for a in adjs)
+    if warned:
+        lines.append(f"{warned:,} note(s) from the adjustment; see each series' result.")
+    return dataclasses.replace(ws, series=money), lines

@@ -123,6 +123,7 @@ def _choose(page: Any, dropdown_id: str, values: list[str], *, multi: bool = Fal
 
 
 def _shot(page: Any, folder: Path, name: str) -> None:
+    page.wait_for_load_state("networkidle")
     page.wait_for_timeout(400)
     page.screenshot(path=str(folder / f"dashboard-{name}.png"), full_page=True)
 
@@ -220,4 +221,25 @@ def test_controls_are_reachable_by_keyboard(server: str, browser: Any):
         seen.append(page.evaluate("document.activeElement.id || "
                                   "document.activeElement.closest('[id]').id"))
     assert "rt-base" in seen
+    page.close()
+
+
+def test_background_adjustment_of_every_series(server: str, browser: Any, output_dir: Path):
+    """A long job runs as a background callback (diskcache shared by both workers) with a
+    progress bar; the shared demo is not changed: the result goes to a copy."""
+    page = browser.new_page(viewport={"width": 1300, "height": 1000})
+    problems: list[str] = []
+    page.on("console", lambda m: problems.append(m.text) if m.type == "error" else None)
+    page.goto(server)
+    page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+    page.click("#rb-nav-real")
+    page.click("#rb-screen-real details summary")
+    page.click("#rt-sa-all")
+    page.wait_for_function("document.querySelector('#rt-sa-message').innerText.includes("
+                           "'seasonally adjusted series')", timeout=120_000)
+    page.wait_for_function("document.querySelector('#rb-workspace-label').innerText"
+                           ".includes('My copy of the demo')", timeout=30_000)
+    page.wait_for_function("window.location.search.includes('ws=')", timeout=30_000)
+    _shot(page, output_dir, "real-terms-adjusted-all")
+    assert problems == [], "\n".join(problems)
     page.close()

@@ -454,3 +454,55 @@ def test_secret_key_is_generated_once_and_shared(tmp_path: Path):
     s = Settings(data_dir=str(tmp_path))
     assert secret_key(s) == secret_key(s) and len(secret_key(s)) > 40
     assert secret_key(s.replace(secret_key="fixed")) == "fixed"
+
+
+def test_changes_to_the_shared_demo_go_to_a_copy(access: DataAccess):
+    ref = access.demo_ref()
+    demo = access.load(ref)
+    saved = access.save(real.save_choices(demo, "Footwear revenue", "Chained consumer index",
+                                          "2023", "auto", False), action="choices")
+    assert saved.id != ref.id and saved.name.startswith("My copy of the demo")
+    assert saved.settings["series"] == "Footwear revenue" and saved.series.keys() == demo.series.keys()
+    assert access.load(WorkspaceRef(ref.id, 0)).version == ref.version
+
+
+def test_batch_seasonal_adjustment_adds_adjusted_series(access: DataAccess, demo: Workspace):
+    ws = access.create("batch")
+    ws = access.save(dataclasses.replace(ws, series=demo.series, indexes=demo.indexes),
+                     action="setup")
+    steps: list[tuple[int, int]] = []
+    ref, message = real.adjust_all(access, WorkspaceRef(ws.id, ws.version), "stl",
+                                   lambda a, b: steps.append((a, b)))
+    assert ref is not None and steps[-1] == (4, 4)  # the four monthly Harbourline series
+    new = access.load(ref)
+    adjusted = [n for n in new.series if n.endswith("(seasonally adjusted)")]
+    assert len(adjusted) == 4 and "Bus operations (seasonally adjusted)" not in new.series
+    assert "STL" in str(message.to_plotly_json())
+    # fiscal-year series only: nothing to adjust, said plainly
+    only_fy = dataclasses.replace(demo, series={"Bus operations": demo.series["Bus operations"]})
+    with pytest.raises(RealbasisError) as err:
+        logic.adjust_all(only_fy, "stl")
+    assert "never seasonally adjusted" in str(err.value)
+
+
+def test_address_keeps_other_parameters():
+    from dashboard.app import address_for
+
+    assert address_for("?review=abc", WorkspaceRef("w9", 2)) == "?review=abc&ws=w9"
+    from dash import no_update
+
+    assert address_for("?ws=w9", WorkspaceRef("w9", 3)) is no_update
+
+
+def test_without_the_demo_the_latest_workspace_opens(tmp_path: Path):
+    from dashboard.app import default_resolver
+
+    data = DataAccess(Settings(data_dir=str(tmp_path), demo=False))
+    resolve = default_resolver(data)
+    first = resolve("")
+    assert data.load(first).name == "My workspace"
+    assert resolve("") == first  # not a new one each time
+    other = data.create("Budget FY2026")
+    assert resolve(f"?ws={other.id}").id == other.id
+    assert resolve("?ws=unknown").id in {first.id, other.id}
+    assert not any(w.name == DEMO_NAME for w in data.store.list())

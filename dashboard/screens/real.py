@@ -24,11 +24,12 @@ from ..components import (
     method_view,
     notice,
     problems_view,
+    progress_bar,
     screen,
     table,
     warnings_view,
 )
-from ..data import WorkspaceRef
+from ..data import DataAccess, WorkspaceRef
 from ..figures import empty_figure, real_terms_figure
 
 KEY = "real"
@@ -84,10 +85,23 @@ def layout() -> html.Div:
         html.H3(id=ids.RT_TITLE, className="rb-result-title"),
         dcc.Loading(dcc.Graph(id=ids.RT_FIGURE, figure=empty_figure("Loading…"),
                               config={"displaylogo": False, "responsive": True},
-                              className="rb-graph"), type="dot"),
+                              className="rb-graph", style={"height": "460px"}), type="dot"),
         html.Div(id=ids.RT_WARNINGS),
         html.Div(id=ids.RT_GROWTH),
         html.Div(id=ids.RT_METHOD),
+        html.Details([
+            html.Summary("Seasonally adjust every monthly and quarterly series (a background job)"),
+            html.Div([
+                field("Method", dcc.Dropdown(id=ids.RT_SA_METHOD, value="stl", clearable=False,
+                                             options=[{"label": w, "value": k}
+                                                      for k, w in logic.SA_METHODS.items()],
+                                             className="rb-dropdown"), ids.RT_SA_METHOD),
+                html.Div(html.Button("Adjust them all", id=ids.RT_SA_ALL, n_clicks=0,
+                                     type="button", className="rb-button"), className="rb-field"),
+            ], className="rb-controls"),
+            progress_bar(ids.RT_SA_PROGRESS),
+            html.Div(id=ids.RT_SA_MESSAGE, role="status"),
+        ], className="rb-details"),
         cautions_view(),
     )
 
@@ -165,6 +179,21 @@ def save_choices(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any
     return dataclasses.replace(ws, settings=settings)
 
 
+def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
+               progress: logic.ProgressFn | None = None) -> tuple[WorkspaceRef | None, Any]:
+    """Seasonally adjust every series of the workspace and save them as new series."""
+    try:
+        ws = data.load(ref)
+        new_ws, lines = logic.adjust_all(ws, method or "stl", progress,
+                                         x13_path=data.settings.x13_path)
+        saved = data.save(new_ws, action=f"seasonally adjusted all series ({method})")
+    except RealbasisError as err:
+        return None, problems_view(logic.error_dicts(err), title="Not adjusted")
+    return (WorkspaceRef(saved.id, saved.version),
+            html.Div([notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
+                      method_view(lines[1:], title="How they were adjusted")]))
+
+
 def register(app: Dash) -> None:
     from ..app import context
 
@@ -229,3 +258,23 @@ def register(app: Dash) -> None:
         except RealbasisError as err:
             return no_update, f" Not saved: {err.problems[0].message}"
         return WorkspaceRef(saved.id, saved.version).as_dict(), f" Saved as version {saved.version:,}."
+
+    @app.callback(
+        Output(ids.WORKSPACE, "data", allow_duplicate=True),
+        Output(ids.RT_SA_MESSAGE, "children"),
+        Input(ids.RT_SA_ALL, "n_clicks"),
+        State(ids.RT_SA_METHOD, "value"), State(ids.WORKSPACE, "data"),
+        background=True,
+        progress=[Output(ids.RT_SA_PROGRESS, "value"), Output(ids.RT_SA_PROGRESS, "max")],
+        running=[(Output(ids.RT_SA_PROGRESS, "style"), {"visibility": "visible"},
+                  {"visibility": "hidden"}),
+                 (Output(ids.RT_SA_ALL, "disabled"), True, False)],
+        prevent_initial_call=True,
+    )
+    def _adjust_all(set_progress: Any, n: Any, method: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if not n or r is None:
+            return no_update, no_update
+        new_ref, message = adjust_all(rb.data, r, method,
+                                      lambda done, total: set_progress((str(done), str(total))))
+        return (new_ref.as_dict() if new_ref else no_update), message

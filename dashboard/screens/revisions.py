@@ -65,7 +65,7 @@ def layout() -> html.Div:
         html.Div(id=ids.RV_SUMMARY, role="status"),
         dcc.Loading(dcc.Graph(id=ids.RV_FIGURE, figure=empty_figure("Loading…"),
                               config={"displaylogo": False, "responsive": True},
-                              className="rb-graph"), type="dot"),
+                              className="rb-graph", style={"height": "460px"}), type="dot"),
         html.Div(id=ids.RV_TABLE),
         html.Div(id=ids.RV_WARNINGS),
         html.Div(id=ids.RV_METHOD),

@@ -100,7 +100,7 @@ def layout() -> html.Div:
               ids.SH_INDEX),
         dcc.Loading(dcc.Graph(id=ids.SH_FIGURE, figure=empty_figure("Loading…"),
                               config={"displaylogo": False, "responsive": True},
-                              className="rb-graph"), type="dot"),
+                              className="rb-graph", style={"height": "460px"}), type="dot"),
         html.Div(id=ids.SH_MESSAGE, role="status"),
         html.Details([html.Summary("Rebase or project an index"), rebase_project],
                      className="rb-details", open=True),

@@ -72,7 +72,7 @@ def layout() -> html.Div:
         html.H3(id=ids.SP_TITLE, className="rb-result-title"),
         dcc.Loading(dcc.Graph(id=ids.SP_FIGURE, figure=empty_figure("Loading…"),
                               config={"displaylogo": False, "responsive": True},
-                              className="rb-graph"), type="dot"),
+                              className="rb-graph", style={"height": "460px"}), type="dot"),
         html.Div(id=ids.SP_GROWTH),
         html.Div(id=ids.SP_WARNINGS),
         html.Div(id=ids.SP_METHOD),
