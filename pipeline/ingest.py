@@ -310,7 +310,7 @@ def _read_text(data: bytes, name: str, settings: Settings) -> _Table:
         if m:
             raise fail(IN007, "a row has more cells than the header",
                        expected=f"{m.group(1)} cells per row (as in the header)",
-                       found=f"{m.group(3)} cells", row=int(m.group(2)) + skip,
+                       found=f"{m.group(3)} cells", row=int(m.group(2)),
                        fix="Remove the extra cells or quote cells that contain the delimiter.",
                        file=name) from None
         raise fail(IN007, "the text cannot be read as a table", expected="delimited rows",

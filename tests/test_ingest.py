@@ -430,3 +430,9 @@ def test_units_row_under_the_header():
     assert r.get("Revenue").unit == "USD thousands"
     idx = r.get("Consumer index")
     assert idx.unit == "index 2020=100" and idx.reference == "2020" and idx.kind == "index"
+
+
+def test_ragged_row_below_title_lines_is_located_on_its_file_line():
+    with pytest.raises(RealbasisError) as e:
+        read_file(b"Title line\n\nperiod,Revenue\n2024-01,1\n2024-02,1,3\n", filename="r.csv")
+    assert (e.value.code, e.value.problems[0].where.row) == ("IN007", 5)
