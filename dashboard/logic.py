@@ -242,8 +242,13 @@ def pick_index(ws: Workspace, name: str, vintage: str | None = None) -> Series:
 def series_options(ws: Workspace, *, with_total: bool = True) -> list[dict[str, str]]:
     opts = [{"label": f"{name} ({s.unit or 'unit not stated'}, {s.frequency.describe()})",
              "value": name} for name, s in ws.series.items()]
-    if with_total and len(ws.series) > 1 and total_groups(ws):
-        opts.append({"label": TOTAL_LABEL + " (same unit and frequency)", "value": TOTAL})
+    if with_total:
+        for (_, _, unit), names in total_groups(ws).items():
+            s = ws.series[names[0]]
+            opts.append({"label": f"Total of {len(names):,} series: {names[0]} + "
+                                  f"{len(names) - 1:,} more ({unit or 'unit not stated'}, "
+                                  f"{s.frequency.describe()})",
+                         "value": f"{TOTAL}|{names[0]}"})
     return opts
 
 
@@ -267,6 +272,8 @@ def total_groups(ws: Workspace) -> dict[tuple[str, str, str], list[str]]:
 def pick_series(ws: Workspace, key: str, group_of: str | None = None) -> Series:
     """A money series by name, or the total of all series that share the frequency,
     kind and unit of ``group_of`` (default: the largest such group)."""
+    if key.startswith(TOTAL + "|"):
+        key, group_of = TOTAL, key.split("|", 1)[1]
     if key != TOTAL:
         s = ws.series.get(key)
         if s is None:

@@ -188,7 +188,9 @@ def test_total_sums_series_and_keeps_the_worst_status(small: Workspace):
     assert total.values.iloc[0] == 101.0
     assert math.isnan(total.values.iloc[-1])  # a part is missing: the total is missing
     assert total.status is not None and total.status.iloc[-2] == "projected"
-    assert any(o["value"] == logic.TOTAL for o in logic.series_options(ws))
+    option = next(o for o in logic.series_options(ws) if o["value"].startswith(logic.TOTAL))
+    assert option["label"].startswith("Total of 2 series")
+    assert logic.pick_series(ws, option["value"]).values.iloc[0] == 101.0
 
 
 def test_series_are_cut_to_the_span_every_deflator_covers(small: Workspace):
@@ -278,6 +280,14 @@ def test_spread_verdict_changes_with_the_deflators(small: Workspace):
     assert reals["Index A"] == pytest.approx(1.03 / 1.02 - 1)
     assert reals["Index B"] == pytest.approx(1.03 / 1.05 - 1)
     assert {r["deflator"]: r["status"] for r in both.rows}["Index B"] == "preliminary"
+
+
+def test_totals_are_offered_per_group_of_like_series(demo: Workspace):
+    totals = [o for o in logic.series_options(demo) if o["value"].startswith(logic.TOTAL)]
+    assert len(totals) == 2  # Harbourline's monthly segments, Tallmere's fiscal-year programs
+    fy_total = next(o["value"] for o in totals if "fiscal" in o["label"])
+    sp = logic.spread(demo, fy_total, ["Government consumption deflator"], "FY2025")
+    assert sp.title.startswith("Total of 4 series in constant FY2025 dollars")
 
 
 def test_spread_screen_outputs(demo: Workspace):
