@@ -10,7 +10,7 @@ Sheets (in this order):
   used), the same rows as ``realbasis deflate`` prints (written by
   :func:`pipeline.export.write_data_sheet`).
 * **Real - <deflator>** — one sheet per deflator: period, then nominal, real and status
-  for every series.
+  (and the seasonally adjusted real value, when adjusted) for every series.
 * **Indexes used** — every deflator as used, rebased so the base period = 100, with its
   per-period status, vintage, source and reference.
 * **Status flags** — every real value resting on a preliminary, projected (or
@@ -165,10 +165,10 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
         raise fail(EX003, f"{len(table)} rows do not fit on one Excel sheet",
                    expected=f"at most {XLSX_MAX_ROWS - 1} rows", found=str(len(table)),
                    fix="Export CSV or JSON instead, or deflate fewer series at a time.")
-    wide = 1 + 3 * len(result.series_names)
+    wide = 1 + 4 * len(result.series_names)
     if wide > XLSX_MAX_COLUMNS:
         raise fail(EX101, f"{len(result.series_names)} series do not fit side by side on "
-                   "one Excel sheet", expected=f"at most {(XLSX_MAX_COLUMNS - 1) // 3} series",
+                   "one Excel sheet", expected=f"at most {(XLSX_MAX_COLUMNS - 1) // 4} series",
                    found=str(len(result.series_names)),
                    fix="Export CSV or JSON instead, or deflate fewer series at a time.")
     wb = Workbook(write_only=True)
@@ -177,7 +177,8 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
     _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
     write_data_sheet(wb, export_table(result), SHEET_DATA)
     for d, name in enumerate(result.deflator_names):
-        _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d)
+        _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d,
+              _adjusted_wide(table, name))
     _indexes(wb.create_sheet(SHEET_INDEXES), result)
     _flags(wb.create_sheet(SHEET_FLAGS), result, table)
     _method(wb.create_sheet(SHEET_METHOD), result, context)
@@ -247,27 +248,43 @@ def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
                            "values: see the sheet 'Status flags'.", font=_BOLD)])
 
 
-def _real(ws: Any, result: Any, d: int) -> None:
+def _adjusted_wide(table: Any, deflator: str) -> Any:
+    """Seasonally adjusted real values of one deflator, periods x series (or None)."""
+    if "real_sa" not in table.columns:
+        return None
+    part = table[table["deflator"] == deflator]
+    return part.pivot_table(index="period", columns="series", values="real_sa",
+                            aggfunc="first", sort=False)
+
+
+def _real(ws: Any, result: Any, d: int, adjusted: Any = None) -> None:
     name = result.deflator_names[d]
+    per = 3 if adjusted is None else 4
     ws.freeze_panes = "B4"
-    _widths(ws, {1: 11, **{c: 18 for c in range(2, 2 + 3 * len(result.series_names))}})
+    _widths(ws, {1: 11, **{c: 18 for c in range(2, 2 + per * len(result.series_names))}})
     _append(ws, [_Cell(f"Real values deflated by {name}, in {result.dollars_label}",
                        font=_BOLD)])
     _append(ws, [])
     header = ["period"]
     for s in result.series_names:
         header += [f"{s} (nominal)", f"{s} (real)", f"{s} status"]
+        if adjusted is not None:
+            header.append(f"{s} (real, seasonally adjusted)")
     _append(ws, header, font=_BOLD)
     real, status, nominal = result.real[d], result.status[d], result.nominal
     for t, label in enumerate(result.period_labels):
         row: list[Any] = [str(label)]
-        for j in range(len(result.series_names)):
+        for j, sname in enumerate(result.series_names):
             nom = float(nominal[t, j])
             if np.isnan(nom):
-                row += [None, None, None]
-            else:
-                row += [_Cell(nom, fmt=_MONEY), _Cell(float(real[t, j]), fmt=_MONEY),
-                        _flagged(_status_name(status[t, j]))]
+                row += [None] * per
+                continue
+            row += [_Cell(nom, fmt=_MONEY), _Cell(float(real[t, j]), fmt=_MONEY),
+                    _flagged(_status_name(status[t, j]))]
+            if adjusted is not None:
+                value = (adjusted.at[label, sname] if label in adjusted.index
+                         and sname in adjusted.columns else None)
+                row.append(_Cell(None if value is None else float(value), fmt=_MONEY))
         _append(ws, row)
 
 

@@ -270,3 +270,28 @@ def test_too_many_series_for_the_wide_sheets_is_a_coded_error(tmp_path):
         write_result(result, tmp_path / "wide.xlsx")
     assert err.value.code == "EX101"
     assert not (tmp_path / "wide.xlsx").exists()
+
+
+def test_seasonally_adjusted_export_carries_the_adjusted_values(tmp_path, capsys):
+    from conftest import DEMO
+
+    out = tmp_path / "sa.xlsx"
+    _cli(capsys, "deflate", DEMO / "harbourline_revenue.csv", "--index",
+         DEMO / "consumer_indexes.csv", "--base", "2024", "--sa", "stl", "--out", out)
+    wb = load_workbook(out)
+    header, rows = _sheet_rows(wb, "Real terms")
+    table = pd.DataFrame(rows, columns=header)
+    assert header[-2:] == ["nominal_sa", "real_sa"]
+    real_sheets = [t for t in wb.sheetnames if t.startswith("Real - ")]
+    assert real_sheets
+    rows = list(wb[real_sheets[0]].iter_rows(values_only=True))
+    wide = pd.DataFrame(rows[3:], columns=rows[2]).set_index("period")
+    deflator = rows[0][0].split(" deflated by ", 1)[1].split(", in ", 1)[0]
+    series = table["series"].iloc[0]
+    part = table[(table.deflator == deflator) & (table.series == series)].set_index("period")
+    np.testing.assert_allclose(
+        wide.loc[part.index, f"{series} (real, seasonally adjusted)"].to_numpy(float),
+        part["real_sa"].to_numpy(float), rtol=XLSX_RTOL)
+    method = [r for r in wb["Method"].iter_rows(values_only=True)]
+    start = [r[0] for r in method].index("Seasonal adjustment")
+    assert "Seasonal adjustment (stl)" in method[start][1]
