@@ -285,6 +285,12 @@ class AccessAwareMixin:
 # --------------------------------------------------------------------------- install
 
 
+WRITE_CONTROLS = ("IN_UPLOAD", "IN_ADD", "IN_KIND_APPLY", "IN_NEW_WORKSPACE", "RT_SAVE",
+                  "RT_SA_ALL", "SH_REBASE", "SH_PROJECT", "SH_LINK", "SH_COST_BUILD",
+                  "SX_LINK_CREATE", "SX_REVOKE")
+"""Names in dashboard.ids of controls that change something; disabled for reviewers."""
+
+
 def _reviewer_layout(layout: Callable[[], Any], editor_only: set[str]) -> Callable[[], Any]:
     """The shell as a reviewer sees it: a read-only banner, editor-only screens hidden."""
     from dash import html as dhtml
@@ -292,6 +298,7 @@ def _reviewer_layout(layout: Callable[[], Any], editor_only: set[str]) -> Callab
     from . import ids
 
     hidden_ids = {ids.nav_button(k) for k in editor_only}
+    write_ids = {getattr(ids, n) for n in WRITE_CONTROLS if hasattr(ids, n)}
 
     def build() -> Any:
         tree = layout()
@@ -300,8 +307,12 @@ def _reviewer_layout(layout: Callable[[], Any], editor_only: set[str]) -> Callab
             return tree
 
         def walk(node: Any) -> None:
-            if getattr(node, "id", None) in hidden_ids:
+            node_id = getattr(node, "id", None)
+            if node_id in hidden_ids:
                 node.style = {**(getattr(node, "style", None) or {}), "display": "none"}
+            elif node_id in write_ids:  # for looks: the server refuses these anyway
+                node.disabled = True
+                node.title = "Read-only reviewer link: changes are refused"
             children = getattr(node, "children", None)
             for child in children if isinstance(children, list | tuple) else [children]:
                 if hasattr(child, "to_plotly_json"):
