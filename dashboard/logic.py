@@ -195,6 +195,26 @@ def intake_view(intake: Any, filename: str) -> IntakeView:
                       problem_dicts(intake.problems), names, bool(names) and not errors, msg)
 
 
+def reading_note(intake: Any) -> list[str]:
+    """How the intake read the file, in words (format, encoding, delimiter, decimals)."""
+    lines = []
+    fmt = str(getattr(intake, "format", "") or "")
+    if fmt == "xlsx" or getattr(intake, "sheet", None):
+        lines.append(f"Read as a workbook, sheet {intake.sheet!r}.")
+    else:
+        enc = getattr(intake, "encoding", None) or "not stated"
+        d = str(getattr(intake, "delimiter", "") or "")
+        delim = {",": "comma", ";": "semicolon", "\t": "tab"}.get(d, d)
+        lines.append(f"Read as text: encoding {enc}, {delim}-separated.")
+    dec = getattr(intake, "decimal", ".")
+    lines.append("Decimal mark: " + ("comma (1.234,5)" if dec == "," else "point (1,234.5)") + ".")
+    lines.append(f"{int(getattr(intake, 'rows', 0) or 0):,} data rows; cells that are not "
+                 "numbers or not periods are listed as problems and left out.")
+    lines.append("Kinds were guessed from names, units and values unless corrected here; "
+                 "a price index is kept apart from money series and filed by vintage.")
+    return lines
+
+
 def add_intake(ws: Workspace, series: Sequence[Series]) -> tuple[Workspace, str]:
     """Put the series of an intake into a workspace: money series by name, price
     indexes by name and vintage. Returns the new workspace (unsaved) and a summary."""
@@ -353,6 +373,9 @@ def default_base(series: Series) -> str:
     values = series.values.dropna()
     if values.empty:
         return ""
+    final = series.status_or_final().reindex(values.index) == "final"
+    if final.any():  # proposed or projected amounts do not make a base
+        values = values[final.to_numpy()]
     f = series.frequency
     if f.code in ("A", "FY"):
         return f.label(values.index[-1])
@@ -365,6 +388,32 @@ def default_base(series: Series) -> str:
         return f"FY{year}"
     complete = (last.month == 12) if per == 12 else (last.quarter == 4)
     return str(last.year if complete else last.year - 1)
+
+
+def base_fits(series: Series, base: str | None) -> bool:
+    """Whether ``base`` is made of whole periods of the series (pipeline.periods)."""
+    from pipeline.periods import parse_span
+
+    if not (base or "").strip():
+        return True
+    try:
+        parse_span(base.strip(), series.frequency).periods_in(series.frequency)
+    except RealbasisError:
+        return False
+    return True
+
+
+def base_after_series_change(ws: Workspace, series_key: str | None, base: str | None
+                             ) -> str | None:
+    """The base to show once another series is chosen: the current one if it fits the
+    series' periods, else the series' default (None = leave the field as it is)."""
+    if not series_key:
+        return None
+    try:
+        s = pick_series(ws, series_key)
+    except RealbasisError:
+        return None
+    return None if base_fits(s, base) else default_base(s)
 
 
 def base_for(series: Series, requested: str | None) -> str:

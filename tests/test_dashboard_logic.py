@@ -516,3 +516,19 @@ def test_without_the_demo_the_latest_workspace_opens(tmp_path: Path):
     assert resolve(f"?ws={other.id}").id == other.id
     assert resolve("?ws=unknown").id in {first.id, other.id}
     assert not any(w.name == DEMO_NAME for w in data.store.list())
+
+
+def test_base_follows_the_series_when_it_does_not_fit(demo: Workspace):
+    # A calendar year is not whole fiscal years (July start): the fiscal series gets its
+    # own last actual (final) fiscal year, not a proposed out-year.
+    assert logic.base_after_series_change(demo, "Bus operations", "2024") == "FY2026"
+    assert logic.base_after_series_change(demo, "Bus operations", "FY2025") is None
+    assert logic.base_after_series_change(demo, "Apparel revenue", "2024") is None
+    assert logic.base_after_series_change(demo, "Apparel revenue", "nonsense") == "2025"
+
+
+def test_intake_says_how_the_file_was_read(access: DataAccess):
+    pending, _ = intake.receive(access, _data_url(b"period;Sales\n2024-01;1,5\n2024-02;2,5\n"),
+                                "semi.csv")
+    summary = str(intake.interpret(access, pending, 0, {})[0].to_plotly_json())
+    assert "semicolon-separated" in summary and "comma (1.234,5)" in summary

@@ -25,6 +25,7 @@ from ..components import (
     cautions_view,
     dropdown,
     field,
+    method_view,
     notice,
     problems_view,
     progress_bar,
@@ -151,7 +152,8 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
     tone = "ok" if view.can_add else ("error" if view.problems else "warn")
     layout_words = {"wide": "one column per series", "long": "long (series, period, value)",
                     "sdmx": "SDMX-CSV"}.get(view.layout, view.layout)
-    summary = notice([view.message, f"Layout: {layout_words}."], tone)
+    summary = html.Div([notice([view.message, f"Layout: {layout_words}."], tone),
+                        method_view(logic.reading_note(intake), title="How the file was read")])
     series_table = table(SERIES_COLUMNS, view.series, caption="Series found")
     problems = problems_view(view.problems)
     options = [{"label": n, "value": n} for n in view.names]

@@ -36,6 +36,20 @@ KEY = "shelf"
 TITLE = "Deflator shelf"
 ORDER = 20
 
+SHELF_RULES = (
+    "An index may be held in several vintages (as-of dates); the latest is used unless a "
+    "screen asks for another (Revisions).",
+    "Rebase: I'(t) = 100 × I(t) / mean of I over the new base period; percent changes do "
+    "not move.",
+    "Link: from the overlap on, I(t) = I_new(t) × I_old(o) / I_new(o); before it the older "
+    "segment.",
+    "Project: each projected year grows at the assumed annual rate; projected values are "
+    "flagged and drawn dashed wherever they are used.",
+    "Own cost index: component indexes blended with yearly spending weights (fixed weights, "
+    "annual chain, or chained Törnqvist).",
+    "Any value resting on a preliminary or projected value keeps that status.",
+)
+
 SHELF_COLUMNS = (
     Column("name", "Index"),
     Column("vintage", "Vintage (as of)"),
@@ -106,7 +120,7 @@ def layout() -> html.Div:
                      className="rb-details", open=True),
         html.Details([html.Summary("Link two index segments"), linking], className="rb-details"),
         html.Details([html.Summary("Build an own cost index"), cost], className="rb-details"),
-        html.Div(id=ids.SH_METHOD),
+        html.Div(method_view(SHELF_RULES, title="How the shelf works"), id=ids.SH_METHOD),
         cautions_view(),
     )
 
