@@ -474,8 +474,8 @@ def _sqlite_events(engine: Engine) -> None:
     def _connect(dbapi_conn: Any, _rec: Any) -> None:
         dbapi_conn.isolation_level = None  # we issue BEGIN ourselves
         cur = dbapi_conn.cursor()
-        cur.execute("PRAGMA journal_mode=WAL")
         cur.execute("PRAGMA busy_timeout=30000")
+        cur.execute("PRAGMA journal_mode=WAL")
         cur.execute("PRAGMA synchronous=FULL")
         cur.execute("PRAGMA foreign_keys=ON")
         cur.close()

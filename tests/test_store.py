@@ -417,3 +417,35 @@ def test_two_processes_saving_one_workspace_one_wins_other_is_told(store, store_
                                      settings={**now.settings, "by2": losers[0]}))
         assert again.version == base + 2
     assert store.verify(ws.id) == len(store.history(ws.id))
+
+
+_OPENER = textwrap.dedent(
+    """
+    import pathlib, sys, time
+    from pipeline.store import WorkspaceStore
+    url, go = sys.argv[1], pathlib.Path(sys.argv[2])
+    while not go.exists():
+        time.sleep(0.002)
+    store = WorkspaceStore(url)
+    ws = store.create(f"opened by {sys.argv[3]}")
+    print(store.schema_version(), flush=True)
+    """
+)
+
+
+@pytest.mark.slow
+def test_many_processes_opening_a_new_database_at_once(store_url, tmp_path):
+    """gunicorn starts several workers together: the schema is created once, no one fails."""
+    go = tmp_path / "go"
+    procs = [subprocess.Popen([sys.executable, "-c", _OPENER, store_url, str(go), str(i)],
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                              env=_env(), cwd=ROOT) for i in range(4)]
+    time.sleep(0.5)
+    go.touch()
+    for p in procs:
+        out, err = p.communicate(timeout=60)
+        assert p.returncode == 0, err
+        assert out.strip() == str(SCHEMA_VERSION)
+    store = WorkspaceStore(store_url)
+    assert sorted(w.name for w in store.list()) == [f"opened by {i}" for i in range(4)]
+    store.close()
