@@ -449,3 +449,27 @@ def test_many_processes_opening_a_new_database_at_once(store_url, tmp_path):
     store = WorkspaceStore(store_url)
     assert sorted(w.name for w in store.list()) == [f"opened by {i}" for i in range(4)]
     store.close()
+
+
+def test_damaged_data_is_detected_not_returned(store):
+    import zlib
+
+    from pipeline.store import blobs_table, versions_table
+
+    ws = store.save(filled(store.create("tamper")))
+    with store.engine.begin() as conn:
+        row = conn.execute(sa.select(blobs_table).limit(1)).first()
+        doc = json.loads(zlib.decompress(row.payload))
+        doc["values"][0] = 123456.0  # a silent change of one number
+        conn.execute(blobs_table.update().where(blobs_table.c.sha256 == row.sha256).values(
+            payload=zlib.compress(json.dumps(doc).encode())))
+    for action in (lambda: store.load(ws.id), lambda: store.verify(ws.id)):
+        with pytest.raises(RealbasisError) as err:
+            action()
+        assert err.value.code == "ST006"
+    with store.engine.begin() as conn:
+        conn.execute(versions_table.update().where(versions_table.c.version == 1)
+                     .values(manifest='{"series": {}}'))
+    with pytest.raises(RealbasisError) as err:
+        store.load(ws.id, version=1)
+    assert err.value.code == "ST006"
