@@ -69,16 +69,19 @@ def free_port() -> int:
         return int(s.getsockname()[1])
 
 
-def post(url: str, body: dict[str, Any]) -> float:
+def post(url: str, body: dict[str, Any], expect: str | None = None) -> float:
     data = json.dumps(body).encode()
     req = urllib.request.Request(url + "_dash-update-component", data=data,
                                  headers={"Content-Type": "application/json"})
     t0 = time.perf_counter()
     with urllib.request.urlopen(req, timeout=60) as r:
-        r.read()
+        text = r.read().decode()
         if r.status != 200:
             raise RuntimeError(f"status {r.status}")
-    return (time.perf_counter() - t0) * 1000
+    elapsed = (time.perf_counter() - t0) * 1000
+    if expect is not None and expect not in text:
+        raise RuntimeError(f"unexpected answer: {text[:300]}")
+    return elapsed
 
 
 def payload(deps: list[dict[str, Any]], output: str, values: dict[str, Any], changed: str
@@ -144,8 +147,10 @@ def main() -> None:
                 nav_values.update({f"{ids.nav_button(k)}.n_clicks": 1 for k in screens})
                 trivial.append(payload(deps, f"{ids.SCREEN}.data", nav_values,
                                        f"{ids.nav_button(key)}.n_clicks"))
-            for body in switch[:10] + trivial[:10]:  # warm both workers (cache, imports)
-                post(url, body)
+            for body in switch[:10]:  # warm both workers (cache, imports); check answers
+                post(url, body, expect="constant 2024 dollars")
+            for body in trivial[:10]:
+                post(url, body, expect="rb-screen-")
             base_ms = [post(url, b) for b in trivial[10:]]
             switch_ms = [post(url, b) for b in switch[10:]]
         finally:
