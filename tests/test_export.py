@@ -88,7 +88,8 @@ def test_workbook_from_the_command_line_equals_its_printed_table(tmp_path, capsy
         assert back[c].tolist() == printed[c].astype(str).tolist()
     for c in ("nominal", "deflator_index", "real"):
         # openpyxl writes numbers with 16 significant digits ("%.16g"), more than the 15
-        # Excel keeps (Microsoft, "Excel specifications and limits"); so equal to 1e-15.
+        # Excel keeps (Microsoft, "Excel specifications and limits", from memory); so
+        # equal to 1e-15.
         np.testing.assert_allclose(back[c].to_numpy(float), printed[c].to_numpy(float),
                                    rtol=XLSX_RTOL, atol=0)
 

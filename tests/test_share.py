@@ -1,10 +1,10 @@
 """Reviewer links: strong tokens, stored hashed, expiring, revocable; read-only for real.
 
 Token strength follows the OWASP Session Management Cheat Sheet ("session identifiers
-must have at least 64 bits of entropy"; we require the issue's 128 and issue 256) and the
-Python documentation of ``secrets.token_urlsafe`` ("32 bytes ... sufficient for typical
-use"); storing only a SHA-256 of a high-entropy token is common practice (the token is
-random, so no salt or slow hash is needed).
+must have at least 64 bits of entropy", quoted from memory; we require the issue's 128 and
+issue 256) and the Python documentation of ``secrets`` (32 bytes of randomness is the
+module's default for tokens, from memory); storing only a SHA-256 of a high-entropy token
+is common practice (the token is random, so no salt or slow hash is needed).
 """
 
 from __future__ import annotations
