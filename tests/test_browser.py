@@ -221,6 +221,11 @@ def test_controls_are_reachable_by_keyboard(server: str, browser: Any):
         seen.append(page.evaluate("document.activeElement.id || "
                                   "document.activeElement.closest('[id]').id"))
     assert "rt-base" in seen
+    # the file drop area takes the keyboard too (its file input is focusable)
+    page.click("#rb-nav-intake")
+    page.focus("#in-new-workspace")
+    page.keyboard.press("Tab")
+    assert page.evaluate("document.activeElement.closest('#in-upload') !== null")
     page.close()
 
 

@@ -126,6 +126,42 @@ def test_oversized_upload_gets_a_clear_message(client: Any, deps: list[dict[str,
     assert got["response"][ids.IN_PENDING]["data"] is None
 
 
+@pytest.mark.slow
+def test_serve_command_runs_the_dashboard(tmp_path: Path):
+    """`realbasis serve --workers 1` answers on the chosen port (then is stopped)."""
+    import os
+    import signal
+    import socket
+    import subprocess
+    import sys
+    import time
+    import urllib.request
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    proc = subprocess.Popen([sys.executable, "-m", "pipeline.cli", "serve", "--workers", "1",
+                             "--port", str(port), "--data-dir", str(tmp_path)],
+                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+                            start_new_session=True)
+    try:
+        deadline = time.monotonic() + 60
+        while True:
+            try:
+                with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=5) as r:
+                    assert r.status == 200 and b"realbasis" in r.read()
+                    break
+            except OSError:
+                assert proc.poll() is None, proc.stdout.read().decode() if proc.stdout else ""
+                assert time.monotonic() < deadline, "serve did not answer"
+                time.sleep(0.3)
+    finally:
+        os.killpg(proc.pid, signal.SIGTERM)
+        proc.wait(20)
+        if proc.stdout:
+            proc.stdout.close()
+
+
 def test_serve_command_refuses_zero_workers(capsys: pytest.CaptureFixture[str], tmp_path: Path):
     assert main(["serve", "--workers", "0", "--data-dir", str(tmp_path)]) == 2
     assert "CL501" in capsys.readouterr().err
