@@ -394,14 +394,23 @@ class AuditEvent:
     version: int | None
     detail: Mapping[str, Any] = field(default_factory=dict)
 
-    def describe(self) -> str:
-        """One line in words for the audit view and the workbook."""
+    def describe(self, limit: int | None = 240) -> str:
+        """One line in words for the audit view and the workbook; values longer than
+        ``limit`` characters are cut with an ellipsis (None: never)."""
         d = self.detail
+
+        def short(v: object) -> str:
+            if limit is not None and isinstance(v, str) and "\n" in v.strip():
+                lines = v.strip().splitlines()
+                return f"{lines[0][:limit]!r}… ({len(lines)} lines)"
+            text = repr(v)
+            return text if limit is None or len(text) <= limit else text[:limit] + "…"
+
         if self.event == "upload":
             return (f"uploaded {d.get('filename')} ({d.get('size')} bytes, "
                     f"sha256 {str(d.get('sha256'))[:12]}…)")
         if self.event == "settings":
-            return f"setting {d.get('key')!s}: {d.get('old')!r} -> {d.get('new')!r}"
+            return f"setting {d.get('key')!s}: {short(d.get('old'))} -> {short(d.get('new'))}"
         if self.event == "indexes":
             parts = []
             if d.get("added"):

@@ -404,7 +404,7 @@ def _audit(ws: Any, events: Sequence[Any]) -> None:
     _append(ws, ["time (UTC)", "who", "event", "version", "what"], font=_BOLD)
     for e in events:
         _append(ws, [e.at.isoformat(timespec="seconds"), e.actor, e.event,
-                     e.version if e.version is not None else "", e.describe()])
+                     e.version if e.version is not None else "", e.describe(limit=4000)])
 
 
 # --------------------------------------------------------------------------- workspaces

@@ -204,7 +204,7 @@ def layout() -> html.Div:
                         className="rb-button"),
             html.Button("Chart image (PNG)", id=ids.SX_DL_PNG, n_clicks=0, type="button",
                         className="rb-button"),
-        ], className="rb-actions"),
+        ], className="rb-actions", style={"display": "flex", "gap": "8px", "flexWrap": "wrap"}),
         html.Div(id=ids.SX_DL_STATUS, role="status", **{"aria-live": "polite"}),
         dcc.Download(id=ids.SX_DOWNLOAD),
         dcc.Download(id=ids.SX_DOWNLOAD_PNG),
@@ -262,9 +262,10 @@ def register(app: Dash) -> None:
             return no_update, no_update, no_update
         ws = rb.data.load(r)
         scope = html.Ul([html.Li(line) for line in scope_text(ws)])
-        audit = table(AUDIT_COLUMNS, audit_rows(rb.data.store.audit(ws.id)),
-                      caption="Uploads, settings changes, index vintages, exports and links",
-                      empty="Nothing recorded yet.")
+        audit = html.Div(table(AUDIT_COLUMNS, audit_rows(rb.data.store.audit(ws.id)),
+                               caption="Uploads, settings changes, index vintages, exports "
+                                       "and links", empty="Nothing recorded yet."),
+                         style={"overflowX": "auto", "overflowWrap": "break-word"})
         return scope, audit, current_access().read_only
 
     @app.callback(Output(ids.SX_LINKS, "children"), Output(ids.SX_REVOKE_ID, "options"),
