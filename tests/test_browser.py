@@ -194,6 +194,16 @@ def test_upload_deflate_and_compare_in_a_real_browser(server: str, browser: Any,
     assert re.search(r"positive under 1 and negative under 1 of 2", page.inner_text("#sp-verdict"))
     _shot(page, output_dir, "spread-upload")
 
+    # --- shelf: rebase an index; a new one joins the shelf, the original stays
+    page.click("#rb-nav-shelf")
+    page.wait_for_selector("#rb-screen-shelf:not([hidden])")
+    _choose(page, "sh-target", ["Low price index"])
+    page.fill("#sh-rebase-base", "2024")
+    page.click("#sh-rebase")
+    page.wait_for_function("document.querySelector('#sh-table').innerText.includes("
+                           "'Low price index (2024=100)')", timeout=30_000)
+    assert "Saved as version" in page.inner_text("#sh-message")
+
     # --- every screen of the new workspace
     for key in ("intake", "shelf", "real", "spread", "revisions"):
         page.click(f"#rb-nav-{key}")
