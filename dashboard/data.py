@@ -30,8 +30,6 @@ from pipeline.model import Workspace
 from pipeline.settings import Settings
 from pipeline.store import WorkspaceStore, require_read
 
-UI001 = register("UI001", "uploaded file is too large")
-UI002 = register("UI002", "upload could not be decoded")
 UI003 = register("UI003", "uploaded file has expired from the server")
 
 DEMO_NAME = "Demo: Harbourline Outfitters and Tallmere Transit (illustrative)"

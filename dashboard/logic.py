@@ -15,7 +15,7 @@ import dataclasses
 import io
 import math
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 import pandas as pd
@@ -23,15 +23,12 @@ import pandas as pd
 from pipeline.errors import Problem, RealbasisError, fail, register
 from pipeline.model import KINDS, Frequency, Series, Workspace
 
-from .components import fmt_number
-
 UI001 = register("UI001", "uploaded file is too large")
 UI002 = register("UI002", "upload could not be decoded")
 UI004 = register("UI004", "series cannot be totalled")
 UI005 = register("UI005", "nothing chosen to compute")
 
 TOTAL = "__total__"
-TOTAL_LABEL = "Total of all series"
 ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm")
 
 
@@ -420,10 +417,6 @@ def base_for(series: Series, requested: str | None) -> str:
     return (requested or "").strip() or default_base(series)
 
 
-def number(value: float | None, decimals: int = 1) -> str:
-    return fmt_number(value, decimals)
-
-
 def isfinite(x: object) -> bool:
     try:
         return math.isfinite(float(x))  # type: ignore[arg-type]
@@ -434,12 +427,6 @@ def isfinite(x: object) -> bool:
 # Shared by views that run a long computation with a progress callback.
 ProgressFn = Callable[[int, int], None]
 
-
-@dataclass(frozen=True)
-class Failure:
-    """A computation refused by the engine: its problems, for the views."""
-
-    problems: list[dict[str, Any]] = field(default_factory=list)
 
 
 # --------------------------------------------------------------------------- real terms
