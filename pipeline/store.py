@@ -829,7 +829,8 @@ class WorkspaceStore:
                 label=info.label, created_at=now, created_by=actor, expires_at=expires_at))
             self._audit(conn, workspace_id, actor, "link-create", None,
                         {"link_id": info.id, "label": info.label,
-                         "expires_at": expires_at.isoformat() if expires_at else None}, now)
+                         "expires_at": expires_at.isoformat(timespec="seconds") if expires_at
+                         else None}, now)
         return token, info
 
     def list_links(self, workspace_id: str) -> list[LinkInfo]:

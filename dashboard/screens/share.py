@@ -254,19 +254,25 @@ def register(app: Dash) -> None:
 
     rb = context(app)
 
-    @app.callback(Output(ids.SX_SCOPE, "children"), Output(ids.SX_AUDIT, "children"),
-                  Output(ids.SX_LINK_PANEL, "hidden"), Input(ids.WORKSPACE, "data"))
+    @app.callback(Output(ids.SX_SCOPE, "children"), Output(ids.SX_LINK_PANEL, "hidden"),
+                  Input(ids.WORKSPACE, "data"))
     def _overview(ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
-            return no_update, no_update, no_update
-        ws = rb.data.load(r)
-        scope = html.Ul([html.Li(line) for line in scope_text(ws)])
-        audit = html.Div(table(AUDIT_COLUMNS, audit_rows(rb.data.store.audit(ws.id)),
-                               caption="Uploads, settings changes, index vintages, exports "
-                                       "and links", empty="Nothing recorded yet."),
-                         style={"overflowX": "auto", "overflowWrap": "break-word"})
-        return scope, audit, current_access().read_only
+            return no_update, no_update
+        scope = html.Ul([html.Li(line) for line in scope_text(rb.data.load(r))])
+        return scope, current_access().read_only
+
+    @app.callback(Output(ids.SX_AUDIT, "children"), Input(ids.WORKSPACE, "data"),
+                  Input(ids.SX_LINKS, "children"), Input(ids.SX_DL_STATUS, "children"))
+    def _audit(ref: Any, _links: Any, _status: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update
+        return html.Div(table(AUDIT_COLUMNS, audit_rows(rb.data.store.audit(r.id)),
+                              caption="Uploads, settings changes, index vintages, exports "
+                                      "and links", empty="Nothing recorded yet."),
+                        style={"overflowX": "auto", "overflowWrap": "break-word"})
 
     @app.callback(Output(ids.SX_LINKS, "children"), Output(ids.SX_REVOKE_ID, "options"),
                   Output(ids.SX_LINK_NEW, "children"),
