@@ -61,7 +61,13 @@ ROLE_HEADER = "X-Realbasis-Access"
 LOOPBACK_ADDRS = frozenset({"127.0.0.1", "::1", "::ffff:127.0.0.1"})
 _FORWARD_HEADERS = ("X-Forwarded-For", "Forwarded", "X-Real-Ip")
 _SAFE_METHODS = frozenset({"GET", "HEAD", "OPTIONS"})
-_ANONYMOUS = AccessContext("reviewer", None, "anonymous")
+ANONYMOUS = "anonymous"
+
+
+def _anonymous() -> AccessContext:
+    """Read-only, no workspace: for the sign-in pages and refused requests (a fresh
+    object each time, since a context records its own refusals)."""
+    return AccessContext("reviewer", None, ANONYMOUS)
 
 
 def _digest(text: str) -> str:
@@ -161,15 +167,15 @@ class Gate:
         if req.method not in _SAFE_METHODS and req.headers.get("Origin"):
             origin = urlsplit(req.headers["Origin"]).netloc
             if origin and origin != req.host:
-                flask.g.rb_access = set_access(_ANONYMOUS)
+                flask.g.rb_access = set_access(_anonymous())
                 return _refusal(SH006, "cross-site request refused",
                                 "Use the dashboard from its own address.")
         if req.path.startswith(self.open_paths):
-            flask.g.rb_access = set_access(_ANONYMOUS)
+            flask.g.rb_access = set_access(_anonymous())
             return None
         result = self.classify()
         if isinstance(result, flask.Response):
-            flask.g.rb_access = set_access(_ANONYMOUS)
+            flask.g.rb_access = set_access(_anonymous())
             return result
         flask.g.rb_access = set_access(result)
         if result.read_only:
@@ -185,7 +191,7 @@ class Gate:
                                "Ask the workspace's editor to make the change.")
             refused.headers[ROLE_HEADER] = ctx.role
             return refused
-        response.headers[ROLE_HEADER] = "anonymous" if ctx is _ANONYMOUS else ctx.role
+        response.headers[ROLE_HEADER] = ANONYMOUS if ctx.actor == ANONYMOUS else ctx.role
         if ctx.read_only:
             response.headers["Cache-Control"] = "no-store"
         return response
@@ -258,7 +264,7 @@ def with_access(fn: Callable[..., Any]) -> Callable[..., Any]:
             info = {}
         ctx = AccessContext(info["role"], info.get("workspace_id"), info.get("actor", ""),
                             link_id=info.get("link_id")) if info.get("role") in (
-            "editor", "reviewer") else _ANONYMOUS
+            "editor", "reviewer") else _anonymous()
         token = set_access(ctx)
         try:
             return fn(*args, **kwargs)
