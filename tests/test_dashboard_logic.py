@@ -532,3 +532,20 @@ def test_intake_says_how_the_file_was_read(access: DataAccess):
                                 "semi.csv")
     summary = str(intake.interpret(access, pending, 0, {})[0].to_plotly_json())
     assert "semicolon-separated" in summary and "comma (1.234,5)" in summary
+
+
+def test_spread_band_runs_from_the_lowest_to_the_highest_real_value():
+    table = pd.DataFrame({
+        "series": "S", "deflator": ["A", "A", "B", "B", "C", "C"],
+        "period": ["2024", "2025"] * 3, "nominal": [100.0, 110.0] * 3,
+        "real": [100.0, 104.0, 100.0, 99.0, 100.0, 107.0],
+        "status": ["final", "final", "final", "preliminary", "final", "final"]})
+    fig = figures.spread_figure(table, title="", unit="USD")
+    low, high = fig.data[0], fig.data[1]
+    assert list(low.y) == [100.0, 99.0] and list(high.y) == [100.0, 107.0]
+    assert high.fill == "tonexty"
+    # each deflator has its own colour AND dash pattern (not colour alone)
+    lines = [t for t in fig.data if t.name in ("A", "B", "C")]
+    assert len({t.line.dash for t in lines}) == 3 and len({t.line.color for t in lines}) == 3
+    # the worst status of a period across deflators is shaded
+    assert [(s.x0, s.x1) for s in fig.layout.shapes] == [(0.5, 1.5)]
