@@ -26,6 +26,7 @@ def screen_container(key: str) -> str:
 # Intake
 IN_UPLOAD = "in-upload"
 IN_FY_START = "in-fy-start"
+IN_SHEET = "in-sheet"
 IN_KIND_SERIES = "in-kind-series"
 IN_KIND_VALUE = "in-kind-value"
 IN_KINDS = "in-kinds"               # dcc.Store {series name: kind} corrections

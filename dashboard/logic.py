@@ -124,11 +124,12 @@ def kind_options() -> list[dict[str, str]]:
 
 
 def read_upload(data: bytes, filename: str, *, fy_start: int | None,
-                kinds: Mapping[str, str] | None, settings: Any = None) -> Any:
+                kinds: Mapping[str, str] | None, settings: Any = None,
+                sheet: str | None = None) -> Any:
     """Read a file through the intake (pipeline.ingest.read_file)."""
     from pipeline.ingest import read_file
 
-    return read_file(data, filename=filename, fy_start=fy_start or None,
+    return read_file(data, filename=filename, sheet=sheet or None, fy_start=fy_start or None,
                      kinds=dict(kinds or {}) or None, settings=settings)
 
 

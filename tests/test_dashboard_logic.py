@@ -97,10 +97,10 @@ def test_receive_keeps_the_file_and_interpret_lists_series(access: DataAccess):
     pending, _status = intake.receive(access, _data_url(csv), "sales.csv")
     assert pending is not None and pending["filename"] == "sales.csv"
     steps: list[tuple[int, int]] = []
-    _summary, _series_table, problems, _preview, options, disabled = intake.interpret(
+    _summary, _series_table, problems, _preview, options, disabled, sheets = intake.interpret(
         access, pending, 0, {}, lambda a, b: steps.append((a, b)))
     assert steps[-1] == (4, 4)
-    assert options == [{"label": "Sales", "value": "Sales"}]
+    assert options == [{"label": "Sales", "value": "Sales"}] and sheets == []
     # the bad cell is reported with its location, and blocks adding the file
     text = str(problems.to_plotly_json())
     assert "row 4" in text and "oops" in text
@@ -549,3 +549,28 @@ def test_spread_band_runs_from_the_lowest_to_the_highest_real_value():
     assert len({t.line.dash for t in lines}) == 3 and len({t.line.color for t in lines}) == 3
     # the worst status of a period across deflators is shaded
     assert [(s.x0, s.x1) for s in fig.layout.shapes] == [(0.5, 1.5)]
+
+
+def test_workbook_sheet_can_be_chosen(access: DataAccess, tmp_path: Path):
+    import io
+
+    from openpyxl import Workbook
+
+    wb = Workbook()
+    first = wb.active
+    first.title = "Notes"
+    first.append(["This sheet has no table"])
+    data = wb.create_sheet("Revenue")
+    data.append(["period", "Stores revenue (USD)"])
+    for m in range(1, 13):
+        data.append([f"2024-{m:02d}", 100 + m])
+    buf = io.BytesIO()
+    wb.save(buf)
+    contents = ("data:application/vnd.openxmlformats-officedocument.spreadsheetml.sheet;base64,"
+                + base64.b64encode(buf.getvalue()).decode())
+    access2 = DataAccess(Settings(data_dir=str(tmp_path / "x")))
+    pending, _ = intake.receive(access2, contents, "book.xlsx")
+    out = intake.interpret(access2, pending, 0, {}, sheet="Revenue")
+    assert out[4] == [{"label": "Stores revenue", "value": "Stores revenue"}]
+    assert {"label": "Revenue", "value": "Revenue"} in out[6]
+    assert "sheet 'Revenue'" in str(out[0].to_plotly_json())

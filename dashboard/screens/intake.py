@@ -80,6 +80,10 @@ def layout() -> html.Div:
         field("Fiscal year", dcc.Dropdown(id=ids.IN_FY_START, options=logic.month_options(),
                                           value=0, clearable=False, className="rb-dropdown"),
               ids.IN_FY_START, hint="Needed when labels like FY2025 appear."),
+        field("Sheet", dcc.Dropdown(id=ids.IN_SHEET, options=[], value=None, clearable=True,
+                                    placeholder="First sheet with data",
+                                    className="rb-dropdown"), ids.IN_SHEET,
+              hint="Workbooks only."),
         field("Series to correct", dropdown(ids.IN_KIND_SERIES, placeholder="Choose a series"),
               ids.IN_KIND_SERIES),
         field("Is a", dcc.Dropdown(id=ids.IN_KIND_VALUE, options=logic.kind_options(),
@@ -129,24 +133,26 @@ def receive(data: DataAccess, contents: str | None, filename: str | None
 
 
 def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | None,
-              kinds: dict[str, str] | None, progress: logic.ProgressFn | None = None
-              ) -> tuple[Any, Any, Any, Any, list[dict[str, str]], bool]:
+              kinds: dict[str, str] | None, progress: logic.ProgressFn | None = None,
+              sheet: str | None = None
+              ) -> tuple[Any, Any, Any, Any, list[dict[str, str]], bool, list[dict[str, str]]]:
     """Read the kept file with the user's choices: summary, series table, problems,
-    preview, the series names (for corrections) and whether it can be added."""
+    preview, the series names (for corrections), whether it can be added, and the
+    workbook's sheets."""
     step = progress or (lambda done, total: None)
     if not pending:
-        return None, None, None, None, [], True
+        return None, None, None, None, [], True, []
     step(1, 4)
     try:
         raw, name = data.upload(pending["upload"])
         step(2, 4)
         intake = logic.read_upload(raw, name, fy_start=fy_start, kinds=kinds,
-                                   settings=data.settings)
+                                   settings=data.settings, sheet=sheet)
     except RealbasisError as err:
         step(4, 4)
         return (notice(f"{pending.get('filename', 'The file')} could not be read.", "error"),
                 None, problems_view(logic.error_dicts(err), title="The file cannot be read"),
-                _preview(pending, data), [], True)
+                _preview(pending, data), [], True, [])
     step(3, 4)
     view = logic.intake_view(intake, name)
     tone = "ok" if view.can_add else ("error" if view.problems else "warn")
@@ -157,8 +163,10 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
     series_table = table(SERIES_COLUMNS, view.series, caption="Series found")
     problems = problems_view(view.problems)
     options = [{"label": n, "value": n} for n in view.names]
+    sheets = [{"label": str(n), "value": str(n)} for n in getattr(intake, "sheets", ()) or ()]
     step(4, 4)
-    return summary, series_table, problems, _preview(pending, data), options, not view.can_add
+    return (summary, series_table, problems, _preview(pending, data), options,
+            not view.can_add, sheets)
 
 
 def _preview(pending: dict[str, str], data: DataAccess) -> Any:
@@ -180,15 +188,15 @@ def apply_kind(kinds: dict[str, str] | None, series: str | None, kind: str | Non
 
 
 def add(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str] | None,
-        fy_start: int | None, kinds: dict[str, str] | None, actor: str = "editor"
-        ) -> tuple[WorkspaceRef | None, Any]:
+        fy_start: int | None, kinds: dict[str, str] | None, actor: str = "editor",
+        sheet: str | None = None) -> tuple[WorkspaceRef | None, Any]:
     """Add the kept file's series to the workspace (a new one when it is the demo)."""
     if not pending:
         return None, notice("Drop a file first.", "warn")
     try:
         raw, name = data.upload(pending["upload"])
         intake = logic.read_upload(raw, name, fy_start=fy_start, kinds=kinds,
-                                   settings=data.settings)
+                                   settings=data.settings, sheet=sheet)
         intake.raise_for_errors()
         ws = data.load(ref)
         note = ""
@@ -262,28 +270,30 @@ def register(app: Dash) -> None:
         return f"?ws={ws.id}", notice(f"Started workspace {ws.name!r}.", "ok")
 
     @app.callback(Output(ids.IN_PENDING, "data"), Output(ids.IN_STATUS, "children"),
-                  Output(ids.IN_KINDS, "data"),
+                  Output(ids.IN_KINDS, "data"), Output(ids.IN_SHEET, "value"),
                   Input(ids.IN_UPLOAD, "contents"), State(ids.IN_UPLOAD, "filename"),
                   prevent_initial_call=True)
     def _receive(contents: Any, filename: Any) -> Any:
         pending, status = receive(rb.data, contents, filename)
-        return pending, status, {}
+        return pending, status, {}, None
 
     @app.callback(
         Output(ids.IN_SUMMARY, "children"), Output(ids.IN_SERIES_TABLE, "children"),
         Output(ids.IN_PROBLEMS, "children"), Output(ids.IN_PREVIEW, "children"),
         Output(ids.IN_KIND_SERIES, "options"), Output(ids.IN_ADD, "disabled"),
+        Output(ids.IN_SHEET, "options"),
         Input(ids.IN_PENDING, "data"), Input(ids.IN_FY_START, "value"),
-        Input(ids.IN_KINDS, "data"),
+        Input(ids.IN_KINDS, "data"), Input(ids.IN_SHEET, "value"),
         background=True,
         progress=[Output(ids.IN_PROGRESS, "value"), Output(ids.IN_PROGRESS, "max")],
         running=[(Output(ids.IN_PROGRESS, "style"), {"visibility": "visible"},
                   {"visibility": "hidden"})],
         prevent_initial_call=True,
     )
-    def _interpret(set_progress: Any, pending: Any, fy_start: Any, kinds: Any) -> Any:
+    def _interpret(set_progress: Any, pending: Any, fy_start: Any, kinds: Any,
+                   sheet: Any) -> Any:
         return interpret(rb.data, pending, fy_start, kinds,
-                         lambda done, total: set_progress((str(done), str(total))))
+                         lambda done, total: set_progress((str(done), str(total))), sheet)
 
     @app.callback(Output(ids.IN_KINDS, "data", allow_duplicate=True),
                   Input(ids.IN_KIND_APPLY, "n_clicks"), State(ids.IN_KIND_SERIES, "value"),
@@ -297,12 +307,13 @@ def register(app: Dash) -> None:
                   Output(ids.IN_ADDED, "children"),
                   Input(ids.IN_ADD, "n_clicks"), State(ids.IN_PENDING, "data"),
                   State(ids.IN_FY_START, "value"), State(ids.IN_KINDS, "data"),
+                  State(ids.IN_SHEET, "value"),
                   State(ids.WORKSPACE, "data"), prevent_initial_call=True)
-    def _add(n: Any, pending: Any, fy_start: Any, kinds: Any, ref: Any) -> Any:
+    def _add(n: Any, pending: Any, fy_start: Any, kinds: Any, sheet: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if not n or r is None:
             return no_update, no_update, no_update
-        new_ref, message = add(rb.data, r, pending, fy_start, kinds)
+        new_ref, message = add(rb.data, r, pending, fy_start, kinds, sheet=sheet)
         if new_ref is None:
             return no_update, no_update, message
         return f"?ws={new_ref.id}", new_ref.as_dict(), message
