@@ -574,3 +574,16 @@ def test_workbook_sheet_can_be_chosen(access: DataAccess, tmp_path: Path):
     assert out[4] == [{"label": "Stores revenue", "value": "Stores revenue"}]
     assert {"label": "Revenue", "value": "Revenue"} in out[6]
     assert "sheet 'Revenue'" in str(out[0].to_plotly_json())
+
+
+def test_fiscal_labels_without_a_start_month_say_where_to_choose_it(tmp_path: Path,
+                                                                    demo_dir: Path):
+    data = DataAccess(Settings(data_dir=str(tmp_path)))
+    raw = (demo_dir / "tallmere_program_spending.csv").read_bytes()
+    pending, _ = intake.receive(data, "data:text/csv;base64," + base64.b64encode(raw).decode(),
+                                "tallmere.csv")
+    out = intake.interpret(data, pending, 0, {})
+    assert "PE102" in str(out[2].to_plotly_json())
+    assert "Choose the month the fiscal year starts in" in str(out[0].to_plotly_json())
+    ok = intake.interpret(data, pending, 7, {})
+    assert ok[5] is False and len(ok[4]) == 4  # four programs, nothing blocks adding

@@ -150,7 +150,11 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
                                    settings=data.settings, sheet=sheet)
     except RealbasisError as err:
         step(4, 4)
-        return (notice(f"{pending.get('filename', 'The file')} could not be read.", "error"),
+        lines = [f"{pending.get('filename', 'The file')} could not be read."]
+        if "PE102" in err.codes:
+            lines.append("Choose the month the fiscal year starts in under 'How the file is "
+                         "read' below; the file is then read again.")
+        return (notice(lines, "error"),
                 None, problems_view(logic.error_dicts(err), title="The file cannot be read"),
                 _preview(pending, data), [], True, [])
     step(3, 4)
