@@ -38,6 +38,8 @@ def _free_port() -> int:
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory: pytest.TempPathFactory, chromium_path: str) -> Iterator[str]:
+    """The address of a gunicorn server; on teardown its log must hold no traceback
+    (a server-side error is a failure even when the page looked fine)."""
     data = tmp_path_factory.mktemp("browser-data")
     port = _free_port()
     env = {**os.environ, "REALBASIS_DATA_DIR": str(data), "REALBASIS_WORKERS": "2"}
@@ -64,6 +66,9 @@ def server(tmp_path_factory: pytest.TempPathFactory, chromium_path: str) -> Iter
                             + (data / "gunicorn.log").read_text(errors="replace")[-3000:])
             time.sleep(0.3)
         yield url
+        log.flush()
+        text = (data / "gunicorn.log").read_text(errors="replace")
+        assert "Traceback" not in text, text[-4000:]
     finally:
         os.killpg(proc.pid, signal.SIGTERM)
         try:
