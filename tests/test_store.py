@@ -473,3 +473,110 @@ def test_damaged_data_is_detected_not_returned(store):
     with pytest.raises(RealbasisError) as err:
         store.load(ws.id, version=1)
     assert err.value.code == "ST006"
+
+
+def _save_body(ws_id: str, base: str, output: str) -> dict:
+    """The Real terms screen's "Save these choices" callback, as the browser sends it
+    (``output``: the callback's output key from /_dash-dependencies)."""
+    return {"output": output,
+            "outputs": [{"id": "rb-workspace", "property": "data"},
+                        {"id": "rt-saved", "property": "children"}],
+            "inputs": [{"id": "rt-save", "property": "n_clicks", "value": 1}],
+            "state": [{"id": "rt-series", "property": "value", "value": None},
+                      {"id": "rt-deflator", "property": "value", "value": None},
+                      {"id": "rt-base", "property": "value", "value": base},
+                      {"id": "rt-freq", "property": "value", "value": "auto"},
+                      {"id": "rt-sa", "property": "value", "value": []},
+                      {"id": "rb-workspace", "property": "data",
+                       "value": {"id": ws_id, "version": 0}}],
+            "changedPropIds": ["rt-save.n_clicks"]}
+
+
+@pytest.mark.slow
+def test_gunicorn_worker_killed_during_saves_loses_no_acknowledged_save(tmp_path):
+    """The dashboard under gunicorn saves in a loop; its worker gets SIGKILL mid-stream.
+    Every save the server acknowledged is in the store, intact, with the value sent."""
+    import re
+    import socket
+    import threading
+
+    import requests
+
+    data = tmp_path / "data"
+    store = WorkspaceStore(f"sqlite:///{data / 'realbasis.sqlite'}")
+    ws = store.create("Saved under fire (illustrative)")
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    env = {**_env(), "REALBASIS_DATA_DIR": str(data), "REALBASIS_DEMO": "0"}
+    env.pop("REALBASIS_DATABASE_URL", None)
+    env.pop("REALBASIS_REDIS_URL", None)
+    master = subprocess.Popen([sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "1",
+                               "-b", f"127.0.0.1:{port}", "dashboard.wsgi:server"], cwd=ROOT,
+                              env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    url = f"http://127.0.0.1:{port}/_dash-update-component"
+    acked: dict[int, str] = {}
+    stop = threading.Event()
+
+    def worker_pids() -> list[int]:
+        out = subprocess.run(["ps", "-o", "pid=", "--ppid", str(master.pid)],
+                             capture_output=True, text=True).stdout
+        return [int(p) for p in out.split()]
+
+    def client(output: str) -> None:
+        i = 0
+        while not stop.is_set():
+            i += 1
+            base = f"base-{i}"
+            try:
+                r = requests.post(url, json=_save_body(ws.id, base, output), timeout=10)
+            except requests.RequestException:
+                time.sleep(0.05)
+                continue
+            if r.status_code == 200:
+                m = re.search(r"Saved as version ([\d,]+)", r.text)
+                if m:
+                    acked[int(m.group(1).replace(",", ""))] = base
+
+    try:
+        deadline = time.monotonic() + 90
+        while not worker_pids() or not _up(port):
+            assert time.monotonic() < deadline, "gunicorn did not start"
+            time.sleep(0.3)
+        deps = requests.get(f"http://127.0.0.1:{port}/_dash-dependencies", timeout=30).json()
+        output = next(d["output"] for d in deps
+                      if any(i["id"] == "rt-save" for i in d["inputs"]))
+        thread = threading.Thread(target=client, args=(output,), daemon=True)
+        thread.start()
+        while len(acked) < 15:
+            assert time.monotonic() < deadline, f"only {len(acked)} saves acknowledged"
+            time.sleep(0.05)
+        [victim] = worker_pids()
+        os.kill(victim, signal.SIGKILL)  # the server process, in the middle of its saves
+        before = len(acked)
+        while len(acked) < before + 10:  # the master starts a new worker; saves go on
+            assert time.monotonic() < deadline + 60, "no saves after the kill"
+            time.sleep(0.05)
+        stop.set()
+        thread.join(15)
+        assert victim not in worker_pids()
+    finally:
+        stop.set()
+        master.terminate()
+        master.wait(20)
+    current = store.current_version(ws.id)
+    assert store.verify(ws.id) == current  # every version present and intact
+    assert max(acked) <= current
+    for version, base in acked.items():  # every acknowledged save, with what was sent
+        assert store.load(ws.id, version).settings["base"] == base
+    store.close()
+
+
+def _up(port: int) -> bool:
+    import socket
+
+    try:
+        with socket.create_connection(("127.0.0.1", port), 1):
+            return True
+    except OSError:
+        return False
