@@ -109,8 +109,9 @@ class OperatorCache:
 
     A pure cache: an operator depends only on its key (statsmodels' STL is
     deterministic), so holding it changes no result, only the time taken. Each process
-    (each gunicorn worker) has its own. An n x n operator pair takes 32 n^2 bytes with the stacked copy
-    (plus their stacked copy: 1.8 MB for 240 months); ``maxsize`` bounds the total.
+    (each gunicorn worker) has its own. An operator for n periods takes 32 n^2 bytes
+    (seasonal, trend and their stacked copy: 1.8 MB for 240 months); ``maxsize`` bounds
+    the total.
     """
 
     def __init__(self, maxsize: int = OPERATOR_CACHE_SIZE) -> None:
