@@ -261,7 +261,7 @@ def read_prices(source: str | Path | bytes, *, filename: str | None = None,
     """Read a long price file (CSV or XLSX: ``period, item, price`` and ``quantity`` or
     ``expenditure``; column names in any case) into a :class:`PriceTable`.
 
-    The file is read by the intake's reader (:mod:`pipeline.ingest`: encodings,
+    The file is read by the intake's reader (:func:`pipeline.ingest.read_table`: encodings,
     delimiters, title lines, workbooks, size limits, number formats) and the period labels
     by :mod:`pipeline.labels`; errors name the file row and column.
     """
@@ -269,12 +269,8 @@ def read_prices(source: str | Path | bytes, *, filename: str | None = None,
     from .settings import load_settings
 
     settings = settings or load_settings()
-    data, name = ingest._read_bytes(source, filename, settings)
-    if data.startswith(b"PK\x03\x04") or name.lower().endswith((".xlsx", ".xlsm")):
-        raw = ingest._read_xlsx(data, name, sheet, settings)
-    else:
-        raw = ingest._read_text(data, name, settings)
-    table, _ = ingest._finish_table(raw, name, settings)
+    table = ingest.read_table(source, filename=filename, sheet=sheet, settings=settings)
+    name = table.file
     header = {h.strip().casefold(): i for i, h in enumerate(table.header)}
     need = ["period", "item", "price"]
     missing = [c for c in need if c not in header]

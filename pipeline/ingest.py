@@ -26,6 +26,7 @@ Structural problems (the file cannot be read as a table of series at all) raise
 
 from __future__ import annotations
 
+import csv
 import io
 import re
 import zipfile
@@ -123,7 +124,11 @@ _FLOW_WORDS = re.compile(r"\b(revenue|revenues|sales|spending|spend|cost|costs|e
                          r"budget|purchases|fares?|rent|paid)\b", re.IGNORECASE)
 _MONEY = re.compile(r"[$€£¥]|\b(USD|EUR|GBP|JPY|CAD|AUD|NZD|CHF|CNY|SEK|NOK|DKK|INR|dollars?|"
                     r"euros?|pounds?)\b", re.IGNORECASE)
-_UNIT_IN_HEADER = re.compile(r"^(?P<name>.*?)\s*[\(\[](?P<unit>[^\)\]]+)[\)\]]\s*$")
+_UNIT_IN_HEADER = re.compile(r"^(?P<name>.*?)(?P<space>\s*)(?:\((?P<u1>[^()\[\]]+)\)|\[(?P<u2>[^()\[\]]+)\])\s*$")
+# what a unit in a header's trailing brackets may hold: words, numbers, currency signs and
+# a few joiners ("USD thousands", "$m", "2020=100", "% of GDP", "index, 2015=100",
+# "USD/month"); quotes, brackets, semicolons or a formula mark mean it is not a unit
+_UNIT_TEXT = re.compile(r"[\w\s$€£¥%.,/=:+\-&'*^#°·]{1,60}")
 _REFERENCE = re.compile(r"(?:\b(?:index|idx|base|reference)\b[\s:,]*)?(?P<ref>[\w\- ]+?)\s*=\s*100\b",
                         re.IGNORECASE)
 
@@ -252,29 +257,84 @@ def _decode(data: bytes, name: str) -> tuple[str, str]:
                fix="Save the file as 'CSV UTF-8' or as an .xlsx workbook.", file=name)
 
 
+def _records(text: str, sep: str, limit: int | None = None) -> tuple[list[int], list[int]]:
+    """Quote-aware split of ``text`` into records (RFC 4180: a field that starts with a
+    double quote runs to the closing quote; inside it delimiters, line breaks and doubled
+    quotes ``""`` are data; a quote inside an unquoted field is an ordinary character, as
+    in ``pandas.read_csv``). Returns per record the number of delimiters outside quotes
+    (-1 for a blank line) and the 1-based line where the record starts. Stops after
+    ``limit`` records; an unreadable rest (e.g. a field over the csv module's size limit)
+    ends the lists early."""
+    counts: list[int] = []
+    starts: list[int] = []
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=sep, quotechar='"',
+                        doublequote=True, skipinitialspace=False, strict=False)
+    line = 0
+    try:
+        for record in reader:
+            starts.append(line + 1)
+            blank = len(record) == 0 or (len(record) == 1 and not record[0].strip())
+            counts.append(-1 if blank else len(record) - 1)
+            line = reader.line_num
+            if limit is not None and len(counts) >= limit:
+                break
+    except csv.Error:
+        pass
+    return counts, starts
+
+
+def _head(text: str) -> str:
+    """The first 200,000 characters, cut after the last complete line."""
+    if len(text) <= 200_000:
+        return text
+    head = text[:200_000]
+    cut = max(head.rfind("\n"), head.rfind("\r"))
+    return head[: cut + 1] if cut > 0 else head
+
+
 def _sniff(text: str) -> tuple[str, int]:
-    """(delimiter, number of title lines above the header)."""
-    lines = text[:200_000].splitlines()[:60]
-    nonblank = [(i, ln) for i, ln in enumerate(lines) if ln.strip()]
-    head = nonblank[0][1] if nonblank else ""
+    """(delimiter, number of records above the header: title lines and blank lines).
+
+    Delimiters are counted outside quoted fields, record by record (a quoted field may
+    hold the delimiter, doubled quotes and line breaks), over the first 60 records; the
+    delimiter is the one whose count is the same on most records, and the header is the
+    first record with that count."""
+    head = _head(text)
+    per_sep = {sep: _records(head, sep, 60)[0] for sep in ("\t", ";", ",")}
     best, best_score = ",", -1.0
-    for sep in ("\t", ";", ","):
-        counts = [ln.count(sep) for _, ln in nonblank]
+    for sep, all_counts in per_sep.items():
+        counts = [c for c in all_counts if c >= 0]
         if not counts or max(counts) == 0:
             continue
         mode = max(set(counts), key=counts.count)
-        score = counts.count(mode) + (0.5 if head.count(sep) > 0 else 0) + (0.1 if mode > 0 else 0)
+        score = counts.count(mode) + (0.5 if counts[0] > 0 else 0) + (0.1 if mode > 0 else 0)
         if mode > 0 and score > best_score:
             best, best_score = sep, score
-    counts = [(i, ln.count(best)) for i, ln in nonblank]
-    if not counts:
+    nonblank = [(i, c) for i, c in enumerate(per_sep[best]) if c >= 0]
+    if not nonblank:
         return best, 0
-    values = [c for _, c in counts]
+    values = [c for _, c in nonblank]
     mode = max(set(values), key=values.count)
     if mode == 0:
         return best, 0
-    first = next(i for i, c in counts if c == mode)
+    first = next(i for i, c in nonblank if c == mode)
     return best, first
+
+
+def _record_lines(data: bytes, text: str, sep: str) -> np.ndarray | None:
+    """1-based file line where each record starts, when some quoted field spans lines;
+    None when every record is one line (no quote character, or every line break has an
+    even number of quotes before it). Quote parity is only the cheap trigger; the lines
+    themselves come from the quote-aware :func:`_records`."""
+    if b'"' not in data:
+        return None
+    raw = np.frombuffer(data, dtype=np.uint8)
+    quotes = np.flatnonzero(raw == 34)
+    before = np.searchsorted(quotes, np.flatnonzero(raw == 10))  # quotes before each line break
+    if not (before % 2).any():
+        return None
+    _, starts = _records(text, sep)
+    return np.asarray(starts, dtype=np.int64) if starts else None
 
 
 def _read_text(data: bytes, name: str, settings: Settings) -> _Table:
@@ -292,6 +352,15 @@ def _read_text(data: bytes, name: str, settings: Settings) -> _Table:
     length = ends - starts
     blank_lines = int((length == 0).sum() + ((length == 1) & (raw[np.minimum(starts, len(raw) - 1)] == 13)).sum())
     nrows = settings.max_rows + 2 + _MAX_TITLE_ROWS + blank_lines
+    # file line of each record (only differs from the record number when a quoted field
+    # holds a line break)
+    lines = _record_lines(raw.tobytes() if encoding == "utf-16" else data, text, sep)
+
+    def line_of(record: int) -> int:  # 0-based record number -> 1-based file line
+        if lines is not None and 0 <= record < len(lines):
+            return int(lines[record])
+        return record + 1
+
     try:
         # the C reader decodes bytes itself (faster than a Python text buffer)
         buf = (io.BytesIO(data) if encoding in ("utf-8", "utf-8-sig", "cp1252")
@@ -310,14 +379,17 @@ def _read_text(data: bytes, name: str, settings: Settings) -> _Table:
         if m:
             raise fail(IN007, "a row has more cells than the header",
                        expected=f"{m.group(1)} cells per row (as in the header)",
-                       found=f"{m.group(3)} cells", row=int(m.group(2)),
+                       found=f"{m.group(3)} cells", row=line_of(int(m.group(2)) - 1),
                        fix="Remove the extra cells or quote cells that contain the delimiter.",
                        file=name) from None
         raise fail(IN007, "the text cannot be read as a table", expected="delimited rows",
                    found=msg.splitlines()[0][:200] if msg else type(e).__name__,
                    fix="Save the data as a plain CSV with one header row.", file=name) from None
-    return _Table([], df, np.arange(len(df)) + 1 + skip, "csv", encoding,
-                  {"\t": "tab", ";": "semicolon", ",": "comma"}[sep], skipped=skip)
+    rows = np.arange(len(df)) + 1 + skip
+    if lines is not None and len(lines) >= skip + len(df):
+        rows = lines[skip: skip + len(df)]
+    return _Table([], df, rows, "csv", encoding,
+                  {"\t": "tab", ";": "semicolon", ",": "comma"}[sep], skipped=line_of(skip) - 1)
 
 
 def _xlsx_cell(v: object) -> str:
@@ -571,11 +643,19 @@ def _norm(h: str) -> str:
 
 def _split_header(h: str) -> tuple[str, str | None, str | None]:
     """'Revenue (USD thousands)' -> ('Revenue', 'USD thousands', None);
-    'Price index (2020=100)' -> ('Price index', 'index, 2020=100', '2020')."""
+    'Price index (2020=100)' -> ('Price index', '2020=100', '2020').
+
+    Only a trailing ``(...)`` or ``[...]`` group that looks like a unit is split off;
+    any other header (``=HYPERLINK("x","y")``, ``Sales (north (new))``) is a name and
+    is kept whole."""
     m = _UNIT_IN_HEADER.match(h)
     if not m or not m.group("name").strip():
         return h, None, None
-    name, unit = m.group("name").strip(), m.group("unit").strip()
+    name, unit = m.group("name").strip(), (m.group("u1") or m.group("u2")).strip()
+    if not _UNIT_TEXT.fullmatch(unit) or not re.search(r"[^\W_]|[$€£¥%]", unit):
+        return h, None, None  # not unit-like: the header is a name, kept whole
+    if name[0] in "=+-@" and not m.group("space") and (name[-1].isalnum() or name[-1] == "_"):
+        return h, None, None  # NAME(...) after a formula mark: a function call, not a unit
     ref = _REFERENCE.search(unit)
     if ref:
         return name, unit, ref.group("ref").strip()
@@ -1109,6 +1189,70 @@ def _sort_key(p: Problem) -> tuple[int, int]:
     return (0 if p.severity == "error" else 1, p.where.row or 0)
 
 
+@dataclass(frozen=True)
+class Table:
+    """A file read as a plain table of text cells (what :func:`read_table` returns).
+
+    ``header`` holds the column names (stripped; a blank name with data under it becomes
+    ``column N``); ``cells`` is a DataFrame of ``str`` cells with columns ``0..n-1`` in
+    header order, one row per data row (blank rows and title lines removed); ``rows`` is
+    the 1-based file row of each data row (for a workbook: the sheet row). ``format`` is
+    'csv' or 'xlsx'; ``encoding`` and ``delimiter`` ('comma', 'semicolon', 'tab') say how
+    a text file was read; ``sheet``/``sheets`` name the sheet read and all sheets of a
+    workbook; ``skipped`` counts lines above the header; ``file`` is the name used in
+    messages (``filename``, else the path's name, else 'upload'). ``warnings`` carries IN026
+    (lines skipped) and IN028 (blank column name)."""
+
+    header: tuple[str, ...]
+    cells: pd.DataFrame
+    rows: np.ndarray
+    format: str
+    encoding: str | None = None
+    delimiter: str | None = None
+    sheet: str | None = None
+    sheets: tuple[str, ...] = ()
+    skipped: int = 0
+    file: str = ""
+    warnings: tuple[Problem, ...] = ()
+
+
+def _read_table(source: str | Path | bytes, filename: str | None, sheet: str | None,
+                settings: Settings) -> tuple[_Table, list[Problem], str]:
+    data, name = _read_bytes(source, filename, settings)
+    if data.startswith(b"PK\x03\x04") or name.lower().endswith((".xlsx", ".xlsm")):
+        raw = _read_xlsx(data, name, sheet, settings)
+    elif data.startswith(b"\xd0\xcf\x11\xe0"):
+        raise fail(IN005, "old-style .xls workbooks are not read", expected="CSV or .xlsx",
+                   found="an .xls (BIFF) workbook", fix="Save the workbook as .xlsx or CSV.", file=name)
+    else:
+        if sheet is not None:
+            raise fail(IN008, "a sheet was named but the file is not a workbook",
+                       expected="an .xlsx workbook when --sheet is given", found="a text file",
+                       fix="Leave out the sheet name for CSV files.", file=name)
+        raw = _read_text(data, name, settings)
+    table, problems = _finish_table(raw, name, settings)
+    return table, problems, name
+
+
+def read_table(source: str | Path | bytes, *, filename: str | None = None,
+               sheet: str | None = None, settings: Settings | None = None) -> Table:
+    """Read a CSV or XLSX file as a plain table of text cells, without looking for series.
+
+    The first stage of :func:`read_file`, for other readers of tabular files (e.g. price
+    files in :mod:`pipeline.indexnum`): the same size and row limits (IN001, IN002),
+    encodings, delimiter sniffing with RFC 4180 quoting (quoted fields may hold the
+    delimiter, doubled quotes and line breaks), title lines, workbook sheets and coded
+    errors (IN003-IN008, IN017, IN027). ``source`` is a path or the file's bytes (then
+    ``filename`` names it in messages, and an ``.xlsx`` name like the zip signature marks
+    a workbook); ``sheet`` picks a workbook sheet (an error for a text file). Cells stay
+    text: use :func:`detect_decimal` and :func:`parse_numbers` for numbers and
+    :mod:`pipeline.labels` for periods."""
+    settings = settings or load_settings()
+    t, problems, name = _read_table(source, filename, sheet, settings)
+    return Table(tuple(t.header), t.cells, t.rows, t.fmt, t.encoding, t.delimiter, t.sheet,
+                 t.sheets, t.skipped, name, tuple(problems))
+
+
 def read_file(source: str | Path | bytes, *, filename: str | None = None, sheet: str | None = None,
               fy_start: int | None = None, kinds: Mapping[str, Kind] | None = None,
               settings: Settings | None = None) -> Intake:
@@ -1131,19 +1275,7 @@ def read_file(source: str | Path | bytes, *, filename: str | None = None, sheet:
                        expected="flow, stock or index", found=repr(v),
                        fix="Give flow (amounts over a period), stock (balances at a date) or index.",
                        series=k)
-    data, name = _read_bytes(source, filename, settings)
-    if data.startswith(b"PK\x03\x04") or name.lower().endswith((".xlsx", ".xlsm")):
-        raw = _read_xlsx(data, name, sheet, settings)
-    elif data.startswith(b"\xd0\xcf\x11\xe0"):
-        raise fail(IN005, "old-style .xls workbooks are not read", expected="CSV or .xlsx",
-                   found="an .xls (BIFF) workbook", fix="Save the workbook as .xlsx or CSV.", file=name)
-    else:
-        if sheet is not None:
-            raise fail(IN008, "a sheet was named but the file is not a workbook",
-                       expected="an .xlsx workbook when --sheet is given", found="a text file",
-                       fix="Leave out the sheet name for CSV files.", file=name)
-        raw = _read_text(data, name, settings)
-    table, problems = _finish_table(raw, name, settings)
+    table, problems, name = _read_table(source, filename, sheet, settings)
     layout, roles, transposed = _layout(table, fy_start, name)
     if layout == "sdmx":
         long = _sdmx(table, roles)
@@ -1174,4 +1306,5 @@ def read_file(source: str | Path | bytes, *, filename: str | None = None, sheet:
                   table.fmt, table.encoding, table.delimiter, decimal, len(table.cells))
 
 
-__all__ = ["FORMATS", "Intake", "detect_decimal", "list_sheets", "parse_numbers", "read_file"]
+__all__ = ["FORMATS", "Intake", "Table", "detect_decimal", "list_sheets", "parse_numbers", "read_file",
+           "read_table"]

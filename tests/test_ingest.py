@@ -14,7 +14,15 @@ from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
 from pipeline.errors import RealbasisError
-from pipeline.ingest import Intake, detect_decimal, list_sheets, parse_numbers, read_file
+from pipeline.ingest import (
+    Intake,
+    Table,
+    detect_decimal,
+    list_sheets,
+    parse_numbers,
+    read_file,
+    read_table,
+)
 from pipeline.model import Frequency
 from pipeline.settings import Settings
 
@@ -436,3 +444,140 @@ def test_ragged_row_below_title_lines_is_located_on_its_file_line():
     with pytest.raises(RealbasisError) as e:
         read_file(b"Title line\n\nperiod,Revenue\n2024-01,1\n2024-02,1,3\n", filename="r.csv")
     assert (e.value.code, e.value.problems[0].where.row) == ("IN007", 5)
+
+
+# --- quoted fields (RFC 4180) and header cells that are names --------------------------
+# RFC 4180 ("Common Format and MIME Type for CSV Files", section 2, rules 5-7): a field
+# in double quotes may hold the delimiter, line breaks, and quotes written twice ("").
+# The same quoting is honoured for semicolon and tab files (common practice).
+
+def test_long_csv_with_quoted_commas_in_series_names():
+    r = read_file(f("quoted_long.csv"))
+    assert (r.layout, r.delimiter, r.rows, r.problems) == ("long", "comma", 6, ())
+    idx = r.get("Producer index, apparel and outdoor goods")
+    assert idx.unit == "index 2015=100" and idx.kind == "index" and idx.reference == "2015"
+    assert idx.values.tolist() == [101.2, 101.9, 102.4]
+    assert idx.status.tolist() == ["final", "final", "preliminary"]
+    sales = r.get('Harbourline "Coastal" store, sales')  # "" is one quote
+    assert sales.values.tolist() == [1250.5, 1310.0, 1402.25]
+
+
+def test_semicolon_and_tab_files_with_quoted_delimiters():
+    s = read_file(f("quoted_semicolon.csv"))
+    assert (s.delimiter, s.decimal, s.rows, s.problems) == ("semicolon", ",", 3, ())
+    assert s.get("Fares; buses").unit == "EUR"
+    assert s.get("Fares; buses").values.tolist() == [1234.5, 1300.0, 1350.25]
+    assert s.get('Fares "rail"').values.tolist() == [2.5, 3.5, 4.0]
+    t = read_file(f("quoted_tab.csv"))
+    assert (t.delimiter, t.rows, t.problems) == ("tab", 3, ())
+    assert t.get("Revenue\tnet").unit == "USD"
+    assert t.get("Revenue\tnet").values.tolist() == [100.0, 110.0, 120.0]
+    assert t.get("Cost").values.tolist() == [1.0, 2.0, 3.0]
+
+
+def test_quoted_line_breaks_keep_records_whole_and_rows_on_file_lines():
+    r = read_file(f("quoted_line_break.csv"))
+    assert r.rows == 3
+    fare = r.get("Fare revenue")
+    assert fare.unit == "USD thousands" and fare.values.tolist() == [10.0, 11.0, 12.0]
+    cost = r.get('Operating cost, "all modes"')
+    assert cost.unit == "USD thousands" and np.isnan(cost.values.iloc[1])
+    # the title line is skipped; 'oops' sits on file line 7 (header and the first data row
+    # each span two or three lines)
+    assert [(p.code, p.where.row) for p in r.problems] == [("IN011", 7), ("IN026", 1)]
+    assert r.problems[0].where.column == 'Operating cost, "all modes"\n(USD thousands)'
+
+
+def test_ragged_row_after_a_multi_line_record_is_located_on_its_file_line():
+    # lines: 1-2 header (a quoted line break), 3 first data row, 4 the ragged row
+    text = b'period,"Revenue\n(USD)"\n2024-01,1\n2024-02,1,3\n'
+    with pytest.raises(RealbasisError) as e:
+        read_file(text, filename="r.csv")
+    assert (e.value.code, e.value.problems[0].where.row) == ("IN007", 4)
+
+
+def test_formula_like_headers_are_names_kept_whole_and_the_header_row_is_found():
+    # quoted header cells holding commas once made a data row look like the header
+    # (IN017 on '5' twice); =HYPERLINK(...) is a name, not 'name (unit)'
+    r = read_file(f("formula_headers.csv"))
+    assert r.problems == () and r.rows == 3
+    a = '=HYPERLINK("https://example.org/a","Revenue, north")'
+    b = '=HYPERLINK("https://example.org/b","Revenue, south")'
+    assert [s.name for s in r.series] == [a, b]
+    assert r.get(a).unit is None and r.get(a).values.tolist() == [5.0, 6.0, 7.0]
+    one = read_file(b'period,"=HYPERLINK(""x"",""y"")",Cost\n2024-01,1,2\n2024-02,3,4\n',
+                    filename="h.csv")
+    assert [(s.name, s.unit) for s in one.series] == [('=HYPERLINK("x","y")', None), ("Cost", None)]
+
+
+@pytest.mark.parametrize(
+    ("header", "name", "unit"),
+    [
+        ("Revenue (USD thousands)", "Revenue", "USD thousands"),
+        ("Spending [$m]", "Spending", "$m"),
+        ("Share (% of sales)", "Share", "% of sales"),
+        ("Fares (USD/trip)", "Fares", "USD/trip"),
+        ('=HYPERLINK("x","y")', '=HYPERLINK("x","y")', None),
+        ("=SUM(A1,B1)", "=SUM(A1,B1)", None),
+        ("@lookup(cost)", "@lookup(cost)", None),
+        ("Sales (north (new))", "Sales (north (new))", None),
+        ('Cost ("all")', 'Cost ("all")', None),
+        ("Cost (; x)", "Cost (; x)", None),
+    ],
+)
+def test_only_a_unit_like_trailing_bracket_group_is_a_unit(header, name, unit):
+    text = f'period,"{header.replace(chr(34), chr(34) * 2)}"\n2024-01,1\n2024-02,2\n'
+    s = read_file(text.encode(), filename="u.csv").series[0]
+    assert (s.name, s.unit) == (name, unit)
+
+
+def test_read_table_public_reader():
+    t = read_table(f("quoted_line_break.csv"))
+    assert isinstance(t, Table)
+    assert t.header == ("period", "Fare revenue\n(USD thousands)",
+                        'Operating cost, "all modes"\n(USD thousands)')
+    assert t.cells[1].tolist() == ["10\n", "11", "12"]
+    assert t.rows.tolist() == [5, 7, 8] and t.skipped == 1
+    assert (t.format, t.delimiter, t.encoding, t.file) == ("csv", "comma", "utf-8",
+                                                           "quoted_line_break.csv")
+    assert [p.code for p in t.warnings] == ["IN026"]
+    w = read_table(f("workbook.xlsx"), sheet="Annual")
+    assert (w.format, w.sheet, w.sheets) == ("xlsx", "Annual", ("About", "Monthly", "Annual"))
+    with pytest.raises(RealbasisError) as e:
+        read_table(f("long.csv"), settings=Settings(max_rows=3))
+    assert e.value.code == "IN002"
+    with pytest.raises(RealbasisError) as e:
+        read_table(f("long.csv"), settings=Settings(max_upload_bytes=50))
+    assert e.value.code == "IN001"
+    with pytest.raises(RealbasisError) as e:
+        read_table(f("duplicate_columns.csv"))
+    assert e.value.code == "IN017"
+
+
+@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.sampled_from([",", ";", "\t"]), st.integers(1, 3), st.data())
+def test_rfc4180_quoted_fields_round_trip(sep, width, data):
+    # cells written by the standard library's csv writer (quotes only where needed,
+    # quotes doubled) come back exactly, on the file lines where their records start
+    import csv
+
+    alphabet = "ab Z9.-\"\n" + sep
+    cell = st.text(alphabet=alphabet, max_size=6)
+    head = data.draw(st.lists(cell.map(lambda c: "h" + c.strip()), min_size=width, max_size=width,
+                              unique_by=str.casefold))
+    body = data.draw(st.lists(st.lists(cell, min_size=width, max_size=width), min_size=1,
+                              max_size=5))
+    rows = [["period", *head]] + [[f"2024-{i + 1:02d}", *r] for i, r in enumerate(body)]
+    buf = io.StringIO()
+    csv.writer(buf, delimiter=sep, lineterminator="\n").writerows(rows)
+    lines, line = [], 1
+    for r in rows:
+        lines.append(line)
+        one = io.StringIO()
+        csv.writer(one, delimiter=sep, lineterminator="\n").writerow(r)
+        line += one.getvalue().count("\n")
+    t = read_table(buf.getvalue().encode(), filename="rt.csv")
+    assert t.delimiter == {",": "comma", ";": "semicolon", "\t": "tab"}[sep]
+    assert list(t.header) == [h.strip() for h in rows[0]]
+    assert t.cells.values.tolist() == rows[1:]
+    assert t.rows.tolist() == lines[1:]
