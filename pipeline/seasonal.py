@@ -245,6 +245,44 @@ class _Prepared:
     warnings: tuple[Problem, ...]
     x13_path: str | None
 
+    @property
+    def name(self) -> str:
+        return self.series.name
+
+    @property
+    def start(self) -> pd.Timestamp:
+        return self.index[0].to_timestamp(how="start")
+
+    def task(self) -> _Task:
+        return _Task(self.name, self.method, self.period, self.model, self.z, self.levels,
+                     self.params, self.x13_path, self.start)
+
+
+@dataclass(frozen=True)
+class _Task:
+    """What a pool worker needs to decompose one series: plain arrays, no pandas objects
+    (small to pickle)."""
+
+    name: str
+    method: str
+    period: int
+    model: str
+    z: np.ndarray
+    levels: np.ndarray
+    params: Mapping[str, Any]
+    x13_path: str | None
+    start: pd.Timestamp
+
+
+@dataclass(frozen=True)
+class _Decomposed:
+    """Components on the model scale, diagnostics, and X-13's messages (from a worker)."""
+
+    seasonal: np.ndarray
+    trend: np.ndarray
+    remainder: np.ndarray
+    diagnostics: Diagnostics
+
 
 def _loc(series: Series, period: str | None = None) -> Location:
     return Location(series=series.name, period=period)
@@ -444,14 +482,14 @@ def _prepare(series: Series, method: str, *, model: str, interpolate: bool,
 # ----------------------------------------------------------------------------- methods
 
 
-def _param_error(prep: _Prepared, err: Exception) -> RealbasisError:
+def _param_error(prep: _Task, err: Exception) -> RealbasisError:
     return fail(SA009, f"{prep.method} refused its parameters: {err}",
                 expected="valid parameters for the method (see statsmodels' documentation)",
                 found=", ".join(f"{k}={v}" for k, v in prep.params.items()),
-                fix="Correct the parameter values.", where=_loc(prep.series))
+                fix="Correct the parameter values.", where=Location(series=prep.name))
 
 
-def _stl(prep: _Prepared) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _stl(prep: _Task) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     from statsmodels.tsa.seasonal import STL
 
     init = {k: v for k, v in prep.params.items() if k not in _STL_FIT}
@@ -464,7 +502,7 @@ def _stl(prep: _Prepared) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return (np.asarray(res.seasonal), np.asarray(res.trend), np.asarray(res.resid))
 
 
-def _classical(prep: _Prepared) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _classical(prep: _Task) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     from statsmodels.tsa.seasonal import seasonal_decompose
 
     kw = {"two_sided": True, "extrapolate_trend": "period", **prep.params}
@@ -486,13 +524,12 @@ _X13_STAT_RE = {
 }
 
 
-def _x13(prep: _Prepared) -> tuple[np.ndarray, np.ndarray, np.ndarray, tuple[str, ...],
+def _x13(prep: _Task) -> tuple[np.ndarray, np.ndarray, np.ndarray, tuple[str, ...],
                                    dict[str, float]]:
     from statsmodels.tools.sm_exceptions import X13Error
     from statsmodels.tsa.x13 import x13_arima_analysis
 
-    start = prep.index[0].to_timestamp(how="start")
-    dates = pd.date_range(start, periods=len(prep.index),
+    dates = pd.date_range(prep.start, periods=len(prep.z),
                           freq="MS" if prep.period == 12 else "QS")
     endog = pd.Series(prep.levels, index=dates)
     messages: list[str] = []
@@ -508,7 +545,8 @@ def _x13(prep: _Prepared) -> tuple[np.ndarray, np.ndarray, np.ndarray, tuple[str
             failure = fail(SA008, "X-13ARIMA-SEATS could not adjust the series",
                            expected="a successful X-13 run", found=str(err).strip()[:2000],
                            fix="Check the series (length, outliers, values), try other X-13 "
-                               "options, or choose method stl.", where=_loc(prep.series))
+                               "options, or choose method stl.",
+                           where=Location(series=prep.name))
         except (ValueError, TypeError) as err:
             failure = _param_error(prep, err)
         if failure is not None:
@@ -554,15 +592,8 @@ def _diagnose(z: np.ndarray, seasonal: np.ndarray, remainder: np.ndarray,
 
 
 def _finish(prep: _Prepared, seasonal: np.ndarray, trend: np.ndarray, remainder: np.ndarray,
-            *, diag: Diagnostics | None = None, x13_messages: tuple[str, ...] = (),
-            x13_stats: Mapping[str, float] | None = None) -> Adjustment:
-    if diag is None:
-        strength, resid, raw = _diagnose(prep.z[None, :], seasonal[None, :],
-                                         remainder[None, :], prep.period)
-        diag = Diagnostics(float(strength[0]), float(resid.statistic[0]),
-                           float(resid.pvalue[0]), float(raw.statistic[0]),
-                           float(raw.pvalue[0]), (resid.df_num, resid.df_den),
-                           x13_messages=x13_messages, x13_stats=dict(x13_stats or {}))
+            *, diag: Diagnostics) -> Adjustment:
+    """The Adjustment (pandas objects, warnings) from model-scale components."""
     adj_z = prep.z - seasonal
     if prep.model == "multiplicative":
         adj = np.exp(adj_z)
@@ -604,21 +635,40 @@ def _finish(prep: _Prepared, seasonal: np.ndarray, trend: np.ndarray, remainder:
     )
 
 
-def _run_prepared(prep: _Prepared) -> Adjustment:
-    if prep.method in ("stl", "stl-robust"):
-        return _finish(prep, *_stl(prep))
-    if prep.method == "classical":
-        return _finish(prep, *_classical(prep))
-    s, t, r, messages, stats = _x13(prep)
-    return _finish(prep, s, t, r, x13_messages=messages, x13_stats=stats)
+def _diagnostics_of(z: np.ndarray, seasonal: np.ndarray, remainder: np.ndarray, period: int,
+                    x13_messages: tuple[str, ...] = (),
+                    x13_stats: Mapping[str, float] | None = None) -> Diagnostics:
+    strength, resid, raw = _diagnose(z[None, :], seasonal[None, :], remainder[None, :], period)
+    return Diagnostics(float(strength[0]), float(resid.statistic[0]), float(resid.pvalue[0]),
+                       float(raw.statistic[0]), float(raw.pvalue[0]),
+                       (resid.df_num, resid.df_den), x13_messages=x13_messages,
+                       x13_stats=dict(x13_stats or {}))
 
 
-def _run_in_worker(prep: _Prepared) -> Adjustment | tuple[Problem, ...]:
+def _decompose(task: _Task) -> _Decomposed:
+    """The method's components and the diagnostics for one series (runs in a worker)."""
+    messages: tuple[str, ...] = ()
+    stats: dict[str, float] = {}
+    if task.method in ("stl", "stl-robust"):
+        s, t, r = _stl(task)
+    elif task.method == "classical":
+        s, t, r = _classical(task)
+    else:
+        s, t, r, messages, stats = _x13(task)
+    return _Decomposed(s, t, r, _diagnostics_of(task.z, s, r, task.period, messages, stats))
+
+
+def _decompose_in_worker(task: _Task) -> _Decomposed | tuple[Problem, ...]:
     """Pool entry point: errors come back as problems (RealbasisError does not pickle)."""
     try:
-        return _run_prepared(prep)
+        return _decompose(task)
     except RealbasisError as err:
         return err.problems
+
+
+def _run_prepared(prep: _Prepared) -> Adjustment:
+    d = _decompose(prep.task())
+    return _finish(prep, d.seasonal, d.trend, d.remainder, diag=d.diagnostics)
 
 
 # ----------------------------------------------------------------------------- public API
@@ -709,10 +759,12 @@ def adjust_many(series: Sequence[Series], method: Method = "stl", *, model: Mode
             out[i] = _run_prepared(p)
             tick(1)
     else:
-        results = run_pool(_run_in_worker, preps, max_workers=max_workers, progress=progress)
+        results = run_pool(_decompose_in_worker, [p.task() for p in preps],
+                           max_workers=max_workers, progress=progress)
         for i, r in enumerate(results):
-            if isinstance(r, Adjustment):
-                out[i] = r
+            if isinstance(r, _Decomposed):
+                out[i] = _finish(preps[i], r.seasonal, r.trend, r.remainder,
+                                 diag=r.diagnostics)
             else:
                 problems.extend(r)
         if problems:
