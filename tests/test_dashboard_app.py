@@ -156,7 +156,8 @@ def test_serve_command_runs_the_dashboard(tmp_path: Path):
                 assert time.monotonic() < deadline, "serve did not answer"
                 time.sleep(0.3)
     finally:
-        os.killpg(proc.pid, signal.SIGTERM)
+        if proc.poll() is None:
+            os.killpg(proc.pid, signal.SIGTERM)
         proc.wait(20)
         if proc.stdout:
             proc.stdout.close()
