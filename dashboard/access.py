@@ -298,10 +298,12 @@ WRITE_CONTROLS = ("IN_UPLOAD", "IN_ADD", "IN_KIND_APPLY", "IN_NEW_WORKSPACE", "R
 
 
 def _reviewer_layout(layout: Callable[[], Any], editor_only: set[str]) -> Callable[[], Any]:
-    """The shell as a reviewer sees it: a read-only banner, editor-only screens hidden."""
+    """The shell as a reviewer sees it: a read-only banner, editor-only screens and parts
+    of screens (class EDITOR_ONLY_CLASS) hidden."""
     from dash import html as dhtml
 
     from . import ids
+    from .components import EDITOR_ONLY_CLASS
 
     hidden_ids = {ids.nav_button(k) for k in editor_only}
     write_ids = {getattr(ids, n) for n in WRITE_CONTROLS if hasattr(ids, n)}
@@ -314,8 +316,11 @@ def _reviewer_layout(layout: Callable[[], Any], editor_only: set[str]) -> Callab
 
         def walk(node: Any) -> None:
             node_id = getattr(node, "id", None)
-            if node_id in hidden_ids:
+            classes = str(getattr(node, "className", None) or "").split()
+            if node_id in hidden_ids or EDITOR_ONLY_CLASS in classes:
                 node.style = {**(getattr(node, "style", None) or {}), "display": "none"}
+                if EDITOR_ONLY_CLASS in classes:
+                    node.hidden = True
             elif node_id in write_ids:  # for looks: the server refuses these anyway
                 node.disabled = True
                 node.title = "Read-only reviewer link: changes are refused"

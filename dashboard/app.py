@@ -155,6 +155,28 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
                 + [chosen])
 
 
+def too_large_response(settings: Settings) -> Any:
+    """A request cut off for its size (Flask's MAX_CONTENT_LENGTH, before any callback
+    ran). To Dash's callback route: a normal answer changing no output that puts the
+    UI001 message (naming the limit) on the intake's status line, so the user is told;
+    elsewhere a plain 413. The browser normally refuses such a file before sending it
+    (assets/upload-limit.js)."""
+    import flask
+    from plotly.io.json import to_json_plotly
+
+    from .components import problems_view
+    from .logic import error_dicts, too_large
+
+    err = too_large(None, settings.max_upload_bytes)
+    if not flask.request.path.endswith("_dash-update-component"):
+        p = err.problems[0]
+        return flask.Response(f"[{p.code}] {p.message}. {p.fix}\n", status=413,
+                              mimetype="text/plain")
+    view = problems_view(error_dicts(err), title="File refused")
+    body = {"multi": True, "response": {}, "sideUpdate": {ids.IN_STATUS: {"children": view}}}
+    return flask.Response(to_json_plotly(body), status=200, mimetype="application/json")
+
+
 def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None = None) -> Dash:
     """A new Dash app. ``settings`` default: :func:`pipeline.settings.load_settings`."""
     settings = settings or load_settings()
@@ -174,6 +196,7 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
     # upload limit are cut off by Flask; files up to twice the limit still reach the
     # intake, which refuses them with a clear message (UI001).
     server.config["MAX_CONTENT_LENGTH"] = int(settings.max_upload_bytes * 8 / 3) + 1_000_000
+    server.register_error_handler(413, lambda _err: too_large_response(settings))
     rb = AppContext(settings, data, screens)
     rb.resolve_workspace = default_resolver(data)
     server.extensions["realbasis"] = rb

@@ -18,6 +18,10 @@ from pipeline.model import CAUTIONS
 
 ColumnKind = Literal["text", "number", "percent", "index"]
 
+EDITOR_ONLY_CLASS = "rb-editor-only"
+"""CSS class of the parts of a screen a reviewer does not get (dashboard/access.py hides
+them in a reviewer's page): upload and correction controls and the like."""
+
 
 @dataclass(frozen=True)
 class Column:
@@ -79,7 +83,7 @@ def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
     head = html.Thead(html.Tr([html.Th(c.label, scope="col",
                                        className=f"rb-{c.kind}") for c in columns]))
     body = html.Tbody([
-        html.Tr([html.Td(format_cell(r.get(c.key), c), className=f"rb-{c.kind}")
+        html.Tr([html.Td(format_cell(r.get(c.key), c), className=f"rb-{c.kind} rb-col-{c.key}")
                  for c in columns])
         for r in rows
     ])

@@ -25,6 +25,7 @@ def screen_container(key: str) -> str:
 
 # Intake
 IN_UPLOAD = "in-upload"
+IN_UPLOAD_BOX = "in-upload-box"     # carries the size limit for assets/upload-limit.js
 IN_FY_START = "in-fy-start"
 IN_SHEET = "in-sheet"
 IN_KIND_SERIES = "in-kind-series"
@@ -45,6 +46,9 @@ IN_PROBLEMS = "in-problems"
 IN_WORKSPACE_LIST = "in-workspace-list"
 IN_NEW_WORKSPACE = "in-new-workspace"
 IN_REREAD = "in-reread"
+IN_ADDED_AT = "in-added-at"       # dcc.Store: the workspace version the "Added" message names
+IN_WS_SERIES = "in-ws-series"       # series held in the workspace (editors and reviewers)
+IN_UPLOADS = "in-uploads"           # files added, from the audit trail
 
 # Deflator shelf
 SH_TABLE = "sh-table"

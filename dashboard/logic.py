@@ -63,13 +63,7 @@ def decode_upload(contents: str | None, filename: str | None, max_bytes: int) ->
     header, payload = contents.split(",", 1)
     estimated = len(payload) * 3 // 4 - payload[-2:].count("=")
     if estimated > max_bytes:
-        raise fail(UI001, f"the file is {_size(estimated)}; the largest accepted is "
-                          f"{_size(max_bytes)}",
-                   expected=f"at most {max_bytes:,} bytes",
-                   found=f"{estimated:,} bytes",
-                   fix="Split the file, drop columns you do not need, or ask the "
-                       "administrator to raise REALBASIS_MAX_UPLOAD_BYTES.",
-                   file=filename)
+        raise too_large(estimated, max_bytes, filename)
     if ";base64" not in header:
         raise fail(UI002, "the upload is not base64-encoded", expected="a data URL with base64",
                    found=header[:60], fix="Drop the file again.", file=filename)
@@ -79,6 +73,25 @@ def decode_upload(contents: str | None, filename: str | None, max_bytes: int) ->
         raise fail(UI002, "the upload could not be decoded", expected="base64 data",
                    found="invalid characters", fix="Drop the file again.",
                    file=filename) from None
+
+
+def too_large(found: int | None, max_bytes: int, filename: str | None = None
+              ) -> RealbasisError:
+    """UI001 for a file over the upload limit, naming the limit (``found`` None: the
+    request was cut off before its size could be read from the file)."""
+    what = (f"the file is {_size(found)}; the largest accepted is {_size(max_bytes)}"
+            if found is not None else
+            f"the upload is far larger than the largest file accepted ({_size(max_bytes)})")
+    return fail(UI001, what, expected=f"at most {max_bytes:,} bytes ({_size(max_bytes)})",
+                found=f"{found:,} bytes" if found is not None else "a larger request",
+                fix="Split the file, drop columns you do not need, or ask the "
+                    "administrator to raise REALBASIS_MAX_UPLOAD_BYTES.",
+                file=filename)
+
+
+def size_text(n: int) -> str:
+    """A byte count in words (kB and MB of 1,024), as the messages state limits."""
+    return _size(n)
 
 
 def _size(n: int) -> str:
@@ -449,6 +462,7 @@ class Computed:
     series_name: str
     deflator_name: str
     vintage: str
+    left_out: str | None = None    # periods of the series the deflator does not reach
 
 
 def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
@@ -463,9 +477,9 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
     seasonally adjust nominal and real (after deflation) through pipeline.seasonal."""
     from pipeline.deflate import deflate
 
-    s = pick_series(ws, series_key)
+    original = pick_series(ws, series_key)
     d = pick_index(ws, deflator, vintage)
-    s, cut = trim_to_cover(s, [d])
+    s, cut = trim_to_cover(original, [d])
     base_text = base_for(s, base)
     res = deflate([s], [d], base_text, to=parse_frequency(to, s, [d]))
     nominal = res.nominal_series(s.name)
@@ -493,7 +507,45 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
     })
     return Computed(frame, nominal, real, res.frequency, res.base_label, res.dollars_label,
                     s.unit or "unit not stated", tuple(method), tuple(warnings), s.name,
-                    d.name, d.vintage or "")
+                    d.name, d.vintage or "",
+                    left_out_text(ws, original, s, d) if cut else None)
+
+
+def _covers(index: Series, s: Series) -> bool:
+    """Whether ``index`` has values from the first to the last value of ``s``."""
+    iv, sv = index.values.dropna(), s.values.dropna()
+    return (not iv.empty and not sv.empty and iv.index[0].start_time <= sv.index[0].start_time
+            and iv.index[-1].end_time >= sv.index[-1].end_time)
+
+
+def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Series
+                  ) -> str | None:
+    """Which periods of the series are not shown because the deflator does not reach
+    them (e.g. a budget's projected out-years), and which deflators of the workspace
+    would show them. None when nothing was left out."""
+    values = original.values.dropna()
+    kept_index = kept.values.dropna().index
+    dropped = values.index.difference(kept_index)
+    if dropped.empty:
+        return None
+    label = original.frequency.label
+    spans = []
+    for part in (dropped[dropped < kept_index[0]], dropped[dropped > kept_index[-1]]):
+        if len(part):
+            spans.append(label(part[0]) if len(part) == 1 else f"{label(part[0])}–{label(part[-1])}")
+    status = (original.status.reindex(dropped).astype(str)
+              if original.status is not None else pd.Series([], dtype=str))
+    what = " (projected values)" if (status == "projected").all() and len(status) else ""
+    ends = deflator.values.dropna()
+    text = (f"{' and '.join(spans)}{what} of {original.name} are not shown: {deflator.name} "
+            f"runs only from {deflator.frequency.label(ends.index[0])} to "
+            f"{deflator.frequency.label(ends.index[-1])}.")
+    covering = [name for name in sorted(ws.indexes)
+                if name != deflator.name and _covers(pick_index(ws, name), original)]
+    if covering:
+        return (text + " To see them in real terms choose a deflator that reaches them ("
+                + ", ".join(covering[:3]) + ") or project this one on the Deflator shelf.")
+    return text + " To see them in real terms project the index on the Deflator shelf."
 
 
 def trim_to_cover(s: Series, deflators: Sequence[Series]) -> tuple[Series, str | None]:

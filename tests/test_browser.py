@@ -26,6 +26,7 @@ from conftest import ROOT
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
 EVIL = "<img src=x onerror=alert(1)>"
+UPLOAD_LIMIT = 200_000  # small, so a file over it is quick to make (195.3 kB)
 CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync", "--no-first-run"]
 
@@ -42,7 +43,8 @@ def server(tmp_path_factory: pytest.TempPathFactory, chromium_path: str) -> Iter
     (a server-side error is a failure even when the page looked fine)."""
     data = tmp_path_factory.mktemp("browser-data")
     port = _free_port()
-    env = {**os.environ, "REALBASIS_DATA_DIR": str(data), "REALBASIS_WORKERS": "2"}
+    env = {**os.environ, "REALBASIS_DATA_DIR": str(data), "REALBASIS_WORKERS": "2",
+           "REALBASIS_MAX_UPLOAD_BYTES": str(UPLOAD_LIMIT)}
     env.pop("REALBASIS_DATABASE_URL", None)
     env.pop("REALBASIS_REDIS_URL", None)
     log = open(data / "gunicorn.log", "wb")  # noqa: SIM115 - closed below
@@ -161,12 +163,22 @@ def test_upload_deflate_and_compare_in_a_real_browser(server: str, browser: Any,
     assert "Widgets revenue" in table_text and "Low price index" in table_text
     assert EVIL in table_text, "the hostile series name is shown as text"
     assert page.locator("img[src='x']").count() == 0
+    # once read, the "Received ... Reading it…" line gives way to the outcome
+    page.wait_for_function("document.querySelector('#in-status').innerText.trim() === ''",
+                           timeout=30_000)
+    assert "series found in widgets.csv" in page.inner_text("#in-summary")
     _shot(page, output_dir, "intake-file-read")
     page.click("#in-add")
     page.wait_for_function("document.querySelector('#in-added').innerText.includes('Added')",
                            timeout=30_000)
     page.wait_for_function("document.querySelector('#rb-workspace-label').innerText"
                            ".includes('From widgets.csv')")
+    assert "version 2" in page.inner_text("#rb-workspace-label")
+    assert "now at version 2" in page.inner_text("#in-added")
+    # the workspace's own list shows what was added, and the upload from the audit trail
+    page.wait_for_function("document.querySelector('#in-uploads').innerText"
+                           ".includes('widgets.csv')", timeout=30_000)
+    assert "Widgets revenue" in page.inner_text("#in-ws-series")
 
     # --- real terms: choose the series, the deflator and the base
     page.click("#rb-nav-real")
@@ -207,7 +219,13 @@ def test_upload_deflate_and_compare_in_a_real_browser(server: str, browser: Any,
     page.click("#sh-rebase")
     page.wait_for_function("document.querySelector('#sh-table').innerText.includes("
                            "'Low price index (2024=100)')", timeout=30_000)
-    assert "Saved as version" in page.inner_text("#sh-message")
+    assert "Saved as version 3" in page.inner_text("#sh-message")
+    # back on the intake, the "Added" message agrees with the header (version 3 now)
+    page.click("#rb-nav-intake")
+    page.wait_for_function("document.querySelector('#in-added').innerText"
+                           ".includes('now at version 3')", timeout=30_000)
+    assert "version 3" in page.inner_text("#rb-workspace-label")
+    assert "added as version 2" in page.inner_text("#in-added")
 
     # --- every screen of the new workspace
     for key in ("intake", "shelf", "real", "spread", "revisions"):
@@ -262,4 +280,69 @@ def test_background_adjustment_of_every_series(server: str, browser: Any, output
     page.wait_for_function("window.location.search.includes('ws=')", timeout=30_000)
     _shot(page, output_dir, "real-terms-adjusted-all")
     assert problems == [], "\n".join(problems)
+    page.close()
+
+
+def test_a_file_over_the_limit_is_refused_before_it_is_sent(server: str, browser: Any,
+                                                           tmp_path: Path, output_dir: Path):
+    """A file bigger than the upload limit never leaves the browser (Flask would cut the
+    request off before any callback could answer): the user is told at once, with the
+    limit named; a file under the limit still goes through."""
+    page = browser.new_page(viewport={"width": 1300, "height": 1000})
+    posts: list[int] = []
+    page.on("request", lambda r: posts.append(len(r.post_data_buffer or b""))
+            if r.method == "POST" else None)
+    page.goto(server)
+    page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+    big = tmp_path / "big.csv"
+    big.write_text("period,Sales (USD)\n" + "2024-01,1\n" * 30_000, encoding="utf-8")
+    assert big.stat().st_size > UPLOAD_LIMIT
+    page.set_input_files("#in-upload input[type=file]", str(big))
+    page.wait_for_function("document.querySelector('#in-status').innerText.includes('UI001')",
+                           timeout=30_000)
+    status = page.inner_text("#in-status")
+    assert "big.csv" in status and "195.3 kB" in status and "Nothing was sent" in status
+    page.wait_for_load_state("networkidle")
+    assert max(posts, default=0) < UPLOAD_LIMIT, "the big file was sent"
+    _shot(page, output_dir, "intake-file-too-big")
+    page.set_input_files("#in-upload input[type=file]", str(_upload_file(tmp_path)))
+    page.wait_for_selector("#in-series-table table", timeout=60_000)
+    page.wait_for_function("document.querySelector('#in-status').innerText.trim() === ''",
+                           timeout=30_000)
+    page.close()
+
+
+def test_fiscal_budget_in_real_terms_and_whole_labels(server: str, browser: Any,
+                                                      output_dir: Path):
+    """Tallmere's July–June budget: constant FY dollars in the title; the consumer index
+    stops before the out-years and the screen says so; a deflator that reaches FY2030
+    shows them dashed. Chosen options are shown whole, never cut off."""
+    page = browser.new_page(viewport={"width": 1300, "height": 1000})
+    page.goto(server + "#real")
+    page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+    page.click("#rb-nav-real")
+    page.wait_for_function("document.querySelector('#rt-title').innerText.includes('constant')",
+                           timeout=60_000)
+    _choose(page, "rt-series", ["Rail operations"])
+    _choose(page, "rt-deflator", ["Chained consumer index"])
+    page.wait_for_function("document.querySelector('#rt-title').innerText.includes("
+                           "'Rail operations in constant FY2026 dollars')", timeout=30_000)
+    page.wait_for_function("document.querySelector('#rt-warnings').innerText.includes("
+                           "'FY2027–FY2030 (projected values) of Rail operations are not shown')",
+                           timeout=30_000)
+    _choose(page, "rt-deflator", ["Government consumption deflator"])
+    page.wait_for_function("document.querySelector('#rt-title').innerText.includes("
+                           "'Government consumption deflator')", timeout=30_000)
+    page.wait_for_function(
+        "(() => { const g = document.querySelector('#rt-figure .js-plotly-plot');"
+        " return g && g.data.some(t => t.name.endsWith('(projected)') && t.line.dash === 'dash'"
+        " && t.x.includes('FY2030')); })()", timeout=30_000)
+    assert "FY2026 dollars" in page.inner_text("#rt-title")
+    _shot(page, output_dir, "real-terms-fiscal-budget")
+    cut = page.evaluate("Array.from(document.querySelectorAll('#rb-screen-real "
+                        ".dash-dropdown-value')).filter(e => e.scrollWidth > e.clientWidth + 1)"
+                        ".map(e => e.innerText)")
+    assert cut == [], f"labels cut off: {cut}"
+    assert "Rail operations (USD thousands, fiscal years starting July)" in \
+        page.inner_text("#rt-series")
     page.close()

@@ -166,3 +166,28 @@ def test_serve_command_runs_the_dashboard(tmp_path: Path):
 def test_serve_command_refuses_zero_workers(capsys: pytest.CaptureFixture[str], tmp_path: Path):
     assert main(["serve", "--workers", "0", "--data-dir", str(tmp_path)]) == 2
     assert "CL501" in capsys.readouterr().err
+
+
+def test_request_cut_off_for_its_size_still_tells_the_user(app: Any, client: Any):
+    """A file far over the limit makes a request Flask cuts off (MAX_CONTENT_LENGTH)
+    before any callback runs; the answer must still carry the UI001 message naming the
+    limit, in a form Dash's renderer applies (a side update of the intake's status)."""
+    limit = app.server.config["MAX_CONTENT_LENGTH"]
+    body = b'{"output": "in-pending.data", "inputs": [{"id": "in-upload", "value": "' \
+        + b"A" * (limit + 10) + b'"}]}'
+    r = client.post("/_dash-update-component", data=body, content_type="application/json")
+    assert r.status_code == 200
+    got = json.loads(r.data)
+    assert got["multi"] is True and got["response"] == {}  # no output changed
+    status = json.dumps(got["sideUpdate"][ids.IN_STATUS]["children"])
+    assert "UI001" in status and "9.8 kB" in status and "File refused" in status
+
+
+def test_intake_knows_the_upload_limit(client: Any):
+    layout = json.dumps(json.loads(client.get("/_dash-layout").get_data(as_text=True)))
+    assert '"data-max-bytes": "10000"' in layout and '"data-limit-text": "9.8 kB"' in layout
+    r = client.get("/assets/upload-limit.js")
+    try:
+        assert r.status_code == 200 and b"data-max-bytes" in r.get_data()
+    finally:
+        r.close()

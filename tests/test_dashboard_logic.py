@@ -587,3 +587,92 @@ def test_fiscal_labels_without_a_start_month_say_where_to_choose_it(tmp_path: Pa
     assert "Choose the month the fiscal year starts in" in str(out[0].to_plotly_json())
     ok = intake.interpret(data, pending, 7, {})
     assert ok[5] is False and len(ok[4]) == 4  # four programs, nothing blocks adding
+
+
+# --------------------------------------------------------------------------- polish (H9)
+
+
+def test_reading_clears_the_received_banner_but_keeps_a_refusal(access: DataAccess):
+    csv = b"period,Sales (USD thousands)\n2024-01,10\n2024-02,11\n"
+    pending, status = intake.receive(access, _data_url(csv), "sales.csv")
+    assert "Reading it" in str(status.to_plotly_json())
+    # once read, the "Received ... Reading it…" line goes: the summary is the outcome
+    assert intake.status_after_reading(pending) is None
+    # a refused file leaves no pending upload: its message must stay
+    refused, message = intake.receive(access, _data_url(b"y" * 3000), "big.csv")
+    assert refused is None and "UI001" in str(message.to_plotly_json())
+    assert intake.status_after_reading(refused) is intake.no_update
+
+
+def test_added_message_follows_the_workspace_version(access: DataAccess):
+    ws = access.create("mine")
+    pending, _ = intake.receive(access, _data_url(b"period,Sales (USD)\n2024-01,1\n2024-02,2\n"),
+                                "s.csv")
+    new_ref, message, summary = intake.add_with_summary(
+        access, WorkspaceRef(ws.id, ws.version), pending, 0, {})
+    assert new_ref is not None and new_ref.version == 2
+    assert "now at version 2" in str(message.to_plotly_json())
+    added_at = {**new_ref.as_dict(), "summary": summary}
+    # the header shows the same version: nothing to restate
+    assert intake.confirmation_after_change(added_at, new_ref) is intake.no_update
+    # another screen saves version 3: the message must not go on saying "version 2" alone
+    later = access.save(access.load(new_ref), action="rebase")
+    text = str(intake.confirmation_after_change(
+        added_at, WorkspaceRef(later.id, later.version)).to_plotly_json())
+    assert "now at version 3" in text and "added as version 2" in text and summary in text
+    # another workspace opened: the confirmation is about a workspace no longer shown
+    other = access.create("other")
+    assert intake.confirmation_after_change(added_at, WorkspaceRef(other.id, 1)) is None
+
+
+def test_workspace_contents_lists_series_and_the_files_added(access: DataAccess):
+    ws = access.create("mine")
+    csv = b"period,Sales (USD thousands),Price index\n2024-01,1,100\n2024-02,2,101\n"
+    pending, _ = intake.receive(access, _data_url(csv), "sales.csv")
+    new_ref, _ = intake.add(access, WorkspaceRef(ws.id, ws.version), pending, 0,
+                            {"Price index": "index"})
+    assert new_ref is not None
+    series, uploads = intake.workspace_contents(access, new_ref)
+    text = str(series.to_plotly_json())
+    for word in ("Sales", "Price index", "USD thousands", "monthly", "2024-01 – 2024-02",
+                 "all final", "flow", "index"):
+        assert word in text, word
+    up = str(uploads.to_plotly_json())
+    assert "sales.csv" in up and f"{len(csv):,}" in up and "editor" in up
+    rows = intake.upload_rows(access.store.audit(new_ref.id))
+    assert [(r["filename"], r["version"]) for r in rows] == [("sales.csv", "2")]
+    # an empty workspace says so
+    empty = access.create("empty")
+    series, uploads = intake.workspace_contents(access, WorkspaceRef(empty.id, 1))
+    assert "no series yet" in str(series.to_plotly_json())
+    assert "No file has been added" in str(uploads.to_plotly_json())
+
+
+def test_upload_limit_message_names_the_limit():
+    err = logic.too_large(None, 50 * 1024 * 1024)
+    p = err.problems[0]
+    assert p.code == "UI001" and "50.0 MB" in p.message and "52,428,800" in p.expected
+    assert "REALBASIS_MAX_UPLOAD_BYTES" in p.fix
+
+
+def test_real_terms_say_which_out_years_the_deflator_does_not_reach(demo: Workspace):
+    """Tallmere's budget runs to FY2030 (FY2027 on projected); the monthly consumer index
+    ends 2026-09, so those years cannot be deflated by it (common practice: no real value
+    without an index value). The screen says so and names deflators that do reach them."""
+    c = logic.compute_real(demo, "Rail operations", "Chained consumer index", None)
+    assert c.dollars_label == "constant FY2026 dollars"
+    assert c.left_out is not None
+    assert c.left_out.startswith("FY2027–FY2030 (projected values) of Rail operations")
+    assert "Government consumption deflator" in c.left_out
+    assert "Chained consumer index" not in c.left_out.split("(", 2)[2]  # not offered itself
+    shown = real.outputs(demo, "Rail operations", "Chained consumer index", None, "auto", False)
+    assert "FY2027–FY2030" in str(shown[2].to_plotly_json())
+    # a deflator that reaches FY2030: nothing left out, the out-years are projected
+    g = logic.compute_real(demo, "Rail operations", "Government consumption deflator", None)
+    assert g.left_out is None
+    assert list(g.frame["period"])[-4:] == ["FY2027", "FY2028", "FY2029", "FY2030"]
+    assert set(g.frame["status"].iloc[-4:]) == {"projected"}
+    fig = real.outputs(demo, "Rail operations", "Government consumption deflator", None,
+                       "auto", False)[1]
+    dashed = [t for t in fig.data if t.name.endswith("(projected)")]
+    assert dashed and all(t.line.dash == "dash" for t in dashed)

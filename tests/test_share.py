@@ -432,7 +432,21 @@ def test_reviewer_in_a_real_browser_sees_every_screen_and_changes_nothing(
             page.wait_for_selector("#rb-reviewer-banner", timeout=60_000)
             page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
             assert "Demo" in page.inner_text("#rb-workspace-label")
-            assert not page.is_visible("#rb-nav-intake")  # editor-only screen hidden
+            # the intake is shown read-only: what the workspace holds, no upload, no
+            # workspace choice, no corrections, no adding
+            page.click("#rb-nav-intake")
+            page.wait_for_selector("#in-ws-series table", timeout=30_000)
+            held = page.inner_text("#in-ws-series")
+            for word in ("Rail operations", "fiscal years starting July", "USD thousands",
+                         "FY2016 – FY2030", "projected FY2027–FY2030", "Chained consumer index"):
+                assert word in held, word
+            assert "No file has been added" in page.inner_text("#in-uploads")
+            for hidden in ("#in-upload", "#in-add", "#in-kind-apply", "#in-new-workspace",
+                           "#in-fy-start", "#in-workspace-list"):
+                assert not page.is_visible(hidden), hidden
+            assert page.locator("#in-upload input[type=file]").count() == 0 or \
+                not page.is_visible("#in-upload")
+            page.screenshot(path=str(output_dir / "intake-reviewer.png"), full_page=True)
             for key in ("shelf", "real", "spread", "revisions", "share"):
                 page.click(f"#rb-nav-{key}")
                 page.wait_for_selector(f"#rb-screen-{key}:not([hidden])")
@@ -529,3 +543,52 @@ def test_workspace_command_links_audit_and_export(tmp_path, capsys):
     assert main(["workspace", "show", "nope", *common]) == 2
     assert "[ST001]" in capsys.readouterr().err
     store.close()
+
+
+def test_reviewer_gets_the_intake_screen_read_only(tmp_path):
+    """Every screen is shown to a reviewer; on the intake the upload, workspace choice,
+    corrections and adding are left hidden, and what the workspace holds is shown."""
+    import json
+
+    from dashboard import ids
+
+    app, store, ws = _app(tmp_path)
+    token, _ = store.create_link(ws.id, label="auditor")
+
+    def find(node, wanted):
+        if isinstance(node, dict):
+            props = node.get("props", {})
+            if props.get("id") == wanted or wanted in str(props.get("className", "")).split():
+                return props
+            for v in [*props.values(), *node.values()]:
+                got = find(v, wanted)
+                if got is not None:
+                    return got
+        elif isinstance(node, list):
+            for v in node:
+                got = find(v, wanted)
+                if got is not None:
+                    return got
+        return None
+
+    editor = json.loads(app.server.test_client().get("/_dash-layout").get_data(as_text=True))
+    assert not find(editor, "rb-editor-only").get("hidden")
+    reviewer = app.server.test_client()
+    reviewer.get(f"/review/{token}")
+    layout = json.loads(reviewer.get("/_dash-layout").get_data(as_text=True))
+    part = find(layout, "rb-editor-only")
+    assert part["hidden"] is True and part["style"]["display"] == "none"
+    assert find(part, ids.IN_UPLOAD) is not None and find(part, ids.IN_ADD) is not None
+    nav = find(layout, ids.nav_button("intake"))
+    assert (nav.get("style") or {}).get("display") != "none"  # the screen itself is shown
+    assert find(layout, ids.IN_WS_SERIES) is not None and find(layout, ids.IN_UPLOADS) is not None
+    # and its contents callback answers the reviewer (reading is allowed)
+    body = {"output": f"..{ids.IN_WS_SERIES}.children...{ids.IN_UPLOADS}.children..",
+            "outputs": [{"id": ids.IN_WS_SERIES, "property": "children"},
+                        {"id": ids.IN_UPLOADS, "property": "children"}],
+            "inputs": [{"id": ids.WORKSPACE, "property": "data",
+                        "value": {"id": ws.id, "version": 1}}],
+            "changedPropIds": [f"{ids.WORKSPACE}.data"], "state": []}
+    r = reviewer.post("/_dash-update-component", json=body)
+    assert r.status_code == 200, r.get_data(as_text=True)[:300]
+    assert "holds no series yet" in r.get_data(as_text=True)

@@ -18,9 +18,11 @@ from dash import Dash, Input, Output, State, dcc, html, no_update
 
 from pipeline.errors import RealbasisError
 from pipeline.model import Workspace
+from pipeline.settings import Settings
 
 from .. import ids, logic
 from ..components import (
+    EDITOR_ONLY_CLASS,
     Column,
     cautions_view,
     dropdown,
@@ -37,7 +39,9 @@ from ..data import DEMO_NAME, DataAccess, WorkspaceRef
 KEY = "intake"
 TITLE = "Data intake"
 ORDER = 10
-EDITOR_ONLY = True
+# Reviewers see this screen too, read-only: the part marked EDITOR_ONLY_CLASS (workspace
+# choice, upload, corrections, adding) is hidden in their page by dashboard/access.py, and
+# what the workspace holds (series, files added) is shown to everyone.
 
 SERIES_COLUMNS = (
     Column("name", "Series"),
@@ -49,6 +53,15 @@ SERIES_COLUMNS = (
     Column("missing", "Missing", "number", 0),
     Column("status", "Status"),
     Column("vintage", "Vintage"),
+)
+
+UPLOAD_COLUMNS = (
+    Column("at", "When (UTC)"),
+    Column("filename", "File"),
+    Column("size", "Bytes", "number", 0),
+    Column("version", "Added as version"),
+    Column("actor", "By"),
+    Column("sha256", "SHA-256 (first 12)"),
 )
 
 
@@ -76,6 +89,13 @@ def layout() -> html.Div:
                        "(unit, status, vintage optional)."),
         ]),
     )
+    limit = upload_limit()
+    # assets/upload-limit.js reads these and refuses a bigger file in the browser, before
+    # anything is sent (the server checks again: UI001, and answers an oversized request
+    # with the same message, see dashboard.app).
+    upload = html.Div(upload, id=ids.IN_UPLOAD_BOX, className="rb-upload-box", **{
+        "data-max-bytes": str(limit), "data-limit-text": logic.size_text(limit),
+        "data-status-id": ids.IN_STATUS})
     interpretation = html.Div([
         field("Fiscal year", dcc.Dropdown(id=ids.IN_FY_START, options=logic.month_options(),
                                           value=0, clearable=False, className="rb-dropdown"),
@@ -96,10 +116,23 @@ def layout() -> html.Div:
         "Data intake",
         "Drop nominal series and price indexes. Every series found is listed with its "
         "frequency, kind and unit, and every problem with where it is.",
+        html.Div([*_editor_part(workspace, upload, interpretation)], className=EDITOR_ONLY_CLASS),
+        html.H3("In this workspace"),
+        html.Div(id=ids.IN_WS_SERIES),
+        html.H3("Files added"),
+        html.Div(id=ids.IN_UPLOADS),
+        cautions_view(),
+    )
+
+
+def _editor_part(workspace: Any, upload: Any, interpretation: Any) -> list[Any]:
+    """Choosing a workspace, dropping a file, correcting and adding it (editors only)."""
+    return [
         workspace,
         upload,
         dcc.Store(id=ids.IN_PENDING),
         dcc.Store(id=ids.IN_KINDS, data={}),
+        dcc.Store(id=ids.IN_ADDED_AT),
         html.Div(id=ids.IN_STATUS, role="status"),
         progress_bar(ids.IN_PROGRESS),
         html.Div(id=ids.IN_SUMMARY, role="status"),
@@ -112,8 +145,18 @@ def layout() -> html.Div:
         html.Div([html.Button("Add these series to the workspace", id=ids.IN_ADD, n_clicks=0,
                               type="button", disabled=True, className="rb-button rb-primary"),
                   html.Div(id=ids.IN_ADDED, role="status")], className="rb-actions"),
-        cautions_view(),
-    )
+    ]
+
+
+def upload_limit() -> int:
+    """The upload limit of the app serving this page (Settings.max_upload_bytes)."""
+    import flask
+
+    if flask.has_app_context():
+        rb = flask.current_app.extensions.get("realbasis")
+        if rb is not None:
+            return int(rb.settings.max_upload_bytes)
+    return int(Settings().max_upload_bytes)
 
 
 # --------------------------------------------------------------------------- bodies
@@ -182,6 +225,67 @@ def _preview(pending: dict[str, str], data: DataAccess) -> Any:
     return table([Column(c, c) for c in columns], rows)
 
 
+def status_after_reading(pending: dict[str, str] | None) -> Any:
+    """The "Received ... Reading it…" line, once reading is done: cleared (the outcome is
+    in the summary below it). A refused file (no pending upload) keeps its message."""
+    return None if pending else no_update
+
+
+def workspace_contents(data: DataAccess, ref: WorkspaceRef | None) -> tuple[Any, Any]:
+    """What the workspace holds, read-only (reviewers see this): every series and index
+    vintage with kind, frequency, unit, periods and status, and the files added to it
+    from the audit trail."""
+    if ref is None:
+        return None, None
+    try:
+        ws = data.load(ref)
+        events = data.store.audit(ref.id)
+    except RealbasisError as err:
+        return problems_view(logic.error_dicts(err), title="Cannot show the workspace"), None
+    held = [*ws.series.values(),
+            *(s for name in sorted(ws.indexes) for _, s in sorted(ws.indexes[name].items()))]
+    series = table(SERIES_COLUMNS, logic.series_rows(held),
+                   caption=f"Series and price indexes in {ws.name!r} (version {ws.version:,})",
+                   empty="This workspace holds no series yet.")
+    return series, table(UPLOAD_COLUMNS, upload_rows(events),
+                         empty="No file has been added to this workspace through the intake "
+                               "(the demo is built from the illustrative files in demo_data/).")
+
+
+def upload_rows(events: Any) -> list[dict[str, Any]]:
+    """The audit trail's uploads, oldest first, each with the version its save made
+    (the save recorded just before the upload, named "added <file>")."""
+    rows: list[dict[str, Any]] = []
+    last_added: dict[str, int] = {}
+    for e in events:
+        if e.event == "save" and str(e.detail.get("action", "")).startswith("added ") \
+                and e.version is not None:
+            last_added[str(e.detail["action"])[6:]] = int(e.version)
+        elif e.event == "upload":
+            name = str(e.detail.get("filename", ""))
+            version = last_added.pop(name, None)
+            rows.append({"at": e.at.strftime("%Y-%m-%d %H:%M"), "filename": name,
+                         "size": e.detail.get("size"), "actor": e.actor,
+                         "version": f"{version:,}" if version is not None else "–",
+                         "sha256": str(e.detail.get("sha256", ""))[:12]})
+    return rows
+
+
+def confirmation_after_change(added_at: dict[str, Any] | None, current: WorkspaceRef | None
+                              ) -> Any:
+    """The "Added ..." confirmation once the workspace has moved on (another screen saved
+    a new version): restated so it agrees with the version in the header, or cleared
+    when another workspace is open."""
+    added = WorkspaceRef.from_dict(added_at)
+    if added is None or current is None or added == current:
+        return no_update
+    if added.id != current.id:
+        return None
+    return notice([f"{(added_at or {}).get('summary', '')} They were added as version "
+                   f"{added.version:,}; the workspace has changed since and is now at version "
+                   f"{current.version:,}.".strip()], "ok")
+
+
 def apply_kind(kinds: dict[str, str] | None, series: str | None, kind: str | None
                ) -> dict[str, str] | Any:
     if not series or kind not in ("flow", "stock", "index"):
@@ -195,8 +299,16 @@ def add(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str] | None,
         fy_start: int | None, kinds: dict[str, str] | None, actor: str = "editor",
         sheet: str | None = None) -> tuple[WorkspaceRef | None, Any]:
     """Add the kept file's series to the workspace (a new one when it is the demo)."""
+    new_ref, message, _summary = add_with_summary(data, ref, pending, fy_start, kinds, actor,
+                                                  sheet)
+    return new_ref, message
+
+
+def add_with_summary(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str] | None,
+                     fy_start: int | None, kinds: dict[str, str] | None, actor: str = "editor",
+                     sheet: str | None = None) -> tuple[WorkspaceRef | None, Any, str]:
     if not pending:
-        return None, notice("Drop a file first.", "warn")
+        return None, notice("Drop a file first.", "warn"), ""
     try:
         raw, name = data.upload(pending["upload"])
         intake = logic.read_upload(raw, name, fy_start=fy_start, kinds=kinds,
@@ -211,12 +323,12 @@ def add(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str] | None,
         data.store.record_upload(saved.id, name, len(raw), hashlib.sha256(raw).hexdigest(),
                                  actor=actor)
     except RealbasisError as err:
-        return None, problems_view(logic.error_dicts(err), title="Not added")
+        return None, problems_view(logic.error_dicts(err), title="Not added"), ""
     text = [f"{summary} Workspace {saved.name!r} is now at version {saved.version:,}."]
     if note:
         text.append(note)
     text.append("Open Real terms or Deflator spread to use them.")
-    return WorkspaceRef(saved.id, saved.version), notice(text, "ok")
+    return WorkspaceRef(saved.id, saved.version), notice(text, "ok"), summary
 
 
 def start_from_demo(data: DataAccess, demo: Workspace, filename: str, actor: str
@@ -262,16 +374,17 @@ def register(app: Dash) -> None:
 
     @app.callback(Output(ids.URL, "search", allow_duplicate=True),
                   Output(ids.IN_ADDED, "children", allow_duplicate=True),
+                  Output(ids.IN_ADDED_AT, "data", allow_duplicate=True),
                   Input(ids.IN_NEW_WORKSPACE, "n_clicks"), State(ids.IN_NEW_NAME, "value"),
                   prevent_initial_call=True)
     def _new(n: Any, name: Any) -> Any:
         if not n:
-            return no_update, no_update
+            return no_update, no_update, no_update
         try:
             ws = rb.data.create((name or "").strip() or "Untitled workspace")
         except RealbasisError as err:
-            return no_update, problems_view(logic.error_dicts(err), title="Not created")
-        return f"?ws={ws.id}", notice(f"Started workspace {ws.name!r}.", "ok")
+            return no_update, problems_view(logic.error_dicts(err), title="Not created"), None
+        return f"?ws={ws.id}", notice(f"Started workspace {ws.name!r}.", "ok"), None
 
     @app.callback(Output(ids.IN_PENDING, "data"), Output(ids.IN_STATUS, "children"),
                   Output(ids.IN_KINDS, "data"), Output(ids.IN_SHEET, "value"),
@@ -281,11 +394,22 @@ def register(app: Dash) -> None:
         pending, status = receive(rb.data, contents, filename)
         return pending, status, {}, None
 
+    @app.callback(Output(ids.IN_WS_SERIES, "children"), Output(ids.IN_UPLOADS, "children"),
+                  Input(ids.WORKSPACE, "data"))
+    def _contents(ref: Any) -> Any:
+        return workspace_contents(rb.data, WorkspaceRef.from_dict(ref))
+
+    @app.callback(Output(ids.IN_ADDED, "children", allow_duplicate=True),
+                  Input(ids.WORKSPACE, "data"), State(ids.IN_ADDED_AT, "data"),
+                  prevent_initial_call=True)
+    def _confirmation(ref: Any, added_at: Any) -> Any:
+        return confirmation_after_change(added_at, WorkspaceRef.from_dict(ref))
+
     @app.callback(
         Output(ids.IN_SUMMARY, "children"), Output(ids.IN_SERIES_TABLE, "children"),
         Output(ids.IN_PROBLEMS, "children"), Output(ids.IN_PREVIEW, "children"),
         Output(ids.IN_KIND_SERIES, "options"), Output(ids.IN_ADD, "disabled"),
-        Output(ids.IN_SHEET, "options"),
+        Output(ids.IN_SHEET, "options"), Output(ids.IN_STATUS, "children", allow_duplicate=True),
         Input(ids.IN_PENDING, "data"), Input(ids.IN_FY_START, "value"),
         Input(ids.IN_KINDS, "data"), Input(ids.IN_SHEET, "value"),
         background=True,
@@ -296,8 +420,9 @@ def register(app: Dash) -> None:
     )
     def _interpret(set_progress: Any, pending: Any, fy_start: Any, kinds: Any,
                    sheet: Any) -> Any:
-        return interpret(rb.data, pending, fy_start, kinds,
-                         lambda done, total: set_progress((str(done), str(total))), sheet)
+        return (*interpret(rb.data, pending, fy_start, kinds,
+                           lambda done, total: set_progress((str(done), str(total))), sheet),
+                status_after_reading(pending))
 
     @app.callback(Output(ids.IN_KINDS, "data", allow_duplicate=True),
                   Input(ids.IN_KIND_APPLY, "n_clicks"), State(ids.IN_KIND_SERIES, "value"),
@@ -308,7 +433,7 @@ def register(app: Dash) -> None:
 
     @app.callback(Output(ids.URL, "search", allow_duplicate=True),
                   Output(ids.WORKSPACE, "data", allow_duplicate=True),
-                  Output(ids.IN_ADDED, "children"),
+                  Output(ids.IN_ADDED, "children"), Output(ids.IN_ADDED_AT, "data"),
                   Input(ids.IN_ADD, "n_clicks"), State(ids.IN_PENDING, "data"),
                   State(ids.IN_FY_START, "value"), State(ids.IN_KINDS, "data"),
                   State(ids.IN_SHEET, "value"),
@@ -316,8 +441,10 @@ def register(app: Dash) -> None:
     def _add(n: Any, pending: Any, fy_start: Any, kinds: Any, sheet: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if not n or r is None:
-            return no_update, no_update, no_update
-        new_ref, message = add(rb.data, r, pending, fy_start, kinds, sheet=sheet)
+            return no_update, no_update, no_update, no_update
+        new_ref, message, summary = add_with_summary(rb.data, r, pending, fy_start, kinds,
+                                                     sheet=sheet)
         if new_ref is None:
-            return no_update, no_update, message
-        return f"?ws={new_ref.id}", new_ref.as_dict(), message
+            return no_update, no_update, message, None
+        return (f"?ws={new_ref.id}", new_ref.as_dict(), message,
+                {**new_ref.as_dict(), "summary": summary})

@@ -153,7 +153,7 @@ def outputs(ws: Workspace, series: str | None, deflator: str | None, base: str |
               caption="Latest periods"),
     ], className="rb-tables")
     status_note = _status_note(c.frame)
-    warn = html.Div([notice(status_note, "warn"),
+    warn = html.Div([notice(c.left_out, "warn"), notice(status_note, "warn"),
                      warnings_view(logic.problem_dicts(c.warnings))])
     vintage = f" Index vintage: {c.vintage}." if c.vintage else ""
     return (title, fig, warn, growth,

@@ -93,7 +93,7 @@ def layout() -> html.Div:
         field("Name", dcc.Input(id=ids.SH_COST_NAME, type="text", value="Own cost index",
                                 className="rb-input", maxLength=120), ids.SH_COST_NAME),
         field("Component indexes", dropdown(ids.SH_COST_COMPONENTS, multi=True),
-              ids.SH_COST_COMPONENTS),
+              ids.SH_COST_COMPONENTS, wide=True),
         field("Blend", dcc.Dropdown(id=ids.SH_COST_METHOD, value="tornqvist", clearable=False,
                                     options=[{"label": w, "value": k}
                                              for k, w in logic.COST_METHODS.items()],

@@ -49,7 +49,7 @@ def layout() -> html.Div:
         field("Series", dropdown(ids.SP_SERIES, placeholder="Choose a series"), ids.SP_SERIES),
         field("Deflators to compare", dropdown(ids.SP_DEFLATORS, multi=True,
                                                placeholder="Choose price indexes"),
-              ids.SP_DEFLATORS),
+              ids.SP_DEFLATORS, wide=True),
         field("Base period", dcc.Input(id=ids.SP_BASE, type="text", debounce=True,
                                        placeholder="e.g. 2024, FY2025", className="rb-input"),
               ids.SP_BASE),
