@@ -114,8 +114,9 @@ def layout() -> html.Div:
     ], className="rb-controls")
     return screen(
         "Data intake",
-        "Drop nominal series and price indexes. Every series found is listed with its "
-        "frequency, kind and unit, and every problem with where it is.",
+        "The series and price indexes this workspace holds, and the files added to it. "
+        "Editors drop new files here: every series found is listed with its frequency, "
+        "kind and unit, and every problem with where it is.",
         html.Div([*_editor_part(workspace, upload, interpretation)], className=EDITOR_ONLY_CLASS),
         html.H3("In this workspace"),
         html.Div(id=ids.IN_WS_SERIES),
@@ -247,9 +248,10 @@ def workspace_contents(data: DataAccess, ref: WorkspaceRef | None) -> tuple[Any,
     series = table(SERIES_COLUMNS, logic.series_rows(held),
                    caption=f"Series and price indexes in {ws.name!r} (version {ws.version:,})",
                    empty="This workspace holds no series yet.")
-    return series, table(UPLOAD_COLUMNS, upload_rows(events),
-                         empty="No file has been added to this workspace through the intake "
-                               "(the demo is built from the illustrative files in demo_data/).")
+    none = "No file has been added to this workspace through the intake" + (
+        " (the demo workspace was built from illustrative files shipped with the program)."
+        if ws.name == DEMO_NAME else ".")
+    return series, table(UPLOAD_COLUMNS, upload_rows(events), empty=none)
 
 
 def upload_rows(events: Any) -> list[dict[str, Any]]:

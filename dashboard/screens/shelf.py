@@ -66,13 +66,16 @@ def _button(label: str, id_: str) -> html.Button:
 
 
 def layout() -> html.Div:
-    rebase_project = html.Div([
+    # one row per action, so it is clear which inputs each button uses
+    rebase_project = html.Div([html.Div([
         field("Index to work on", dropdown(ids.SH_TARGET, placeholder="Choose an index"),
-              ids.SH_TARGET),
+              ids.SH_TARGET, wide=True),
+    ], className="rb-controls"), html.Div([
         field("New base period", dcc.Input(id=ids.SH_REBASE_BASE, type="text",
                                            placeholder="e.g. 2024 or FY2025",
                                            className="rb-input"), ids.SH_REBASE_BASE),
         html.Div(_button("Rebase", ids.SH_REBASE), className="rb-field"),
+    ], className="rb-controls"), html.Div([
         field("Assumed rate (% a year)", dcc.Input(id=ids.SH_PROJECT_RATE, type="number",
                                                    step=0.1, placeholder="e.g. 2.5",
                                                    className="rb-input"), ids.SH_PROJECT_RATE),
@@ -80,7 +83,7 @@ def layout() -> html.Div:
                                          placeholder="e.g. 2030 or FY2030",
                                          className="rb-input"), ids.SH_PROJECT_UNTIL),
         html.Div(_button("Project", ids.SH_PROJECT), className="rb-field"),
-    ], className="rb-controls")
+    ], className="rb-controls")])
     linking = html.Div([
         field("Older segment", dropdown(ids.SH_LINK_OLD), ids.SH_LINK_OLD),
         field("Newer segment", dropdown(ids.SH_LINK_NEW), ids.SH_LINK_NEW),
