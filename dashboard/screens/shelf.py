@@ -85,8 +85,10 @@ def layout() -> html.Div:
         html.Div(_button("Project", ids.SH_PROJECT), className="rb-field"),
     ], className="rb-controls")])
     linking = html.Div([
-        field("Older segment", dropdown(ids.SH_LINK_OLD), ids.SH_LINK_OLD),
-        field("Newer segment", dropdown(ids.SH_LINK_NEW), ids.SH_LINK_NEW),
+        field("Older segment", dropdown(ids.SH_LINK_OLD, placeholder="Choose an index"),
+              ids.SH_LINK_OLD),
+        field("Newer segment", dropdown(ids.SH_LINK_NEW, placeholder="Choose an index"),
+              ids.SH_LINK_NEW),
         field("Overlap", dcc.Input(id=ids.SH_LINK_OVERLAP, type="text",
                                    placeholder="empty = latest common period",
                                    className="rb-input"), ids.SH_LINK_OVERLAP),
@@ -95,7 +97,8 @@ def layout() -> html.Div:
     cost = html.Div([
         field("Name", dcc.Input(id=ids.SH_COST_NAME, type="text", value="Own cost index",
                                 className="rb-input", maxLength=120), ids.SH_COST_NAME),
-        field("Component indexes", dropdown(ids.SH_COST_COMPONENTS, multi=True),
+        field("Component indexes", dropdown(ids.SH_COST_COMPONENTS, multi=True,
+                                            placeholder="Choose two or more indexes"),
               ids.SH_COST_COMPONENTS, wide=True),
         field("Blend", dcc.Dropdown(id=ids.SH_COST_METHOD, value="tornqvist", clearable=False,
                                     options=[{"label": w, "value": k}
