@@ -445,7 +445,7 @@ def _block(
             index_used.append(np.broadcast_to(dv[:, None], (n_t, n_s)))
             status.append(_with_series_status(rank_w, s_out, n_t, n_s))
             interp.append(np.broadcast_to(di[:, None], (n_t, n_s)))
-            agg_words = f"deflated at {work.describe()}"
+            agg_words = f"deflated period by period ({work.describe()})"
         else:
             g_r = aggregate_wide(r_w, idx_w, work, out_freq, flow_rule)
             rp = periods.get_indexer(relabel_to(g_r.index, periods))
@@ -469,7 +469,7 @@ def _block(
             index_used.append(implicit)
             status.append(_with_series_status(st_k, s_out, n_t, n_s))
             interp.append(np.broadcast_to(ip_k[:, None], (n_t, n_s)))
-            agg_words = (f"deflated at {work.describe()}, then "
+            agg_words = (f"deflated period by period ({work.describe()}), then "
                          f"{'summed' if flow_rule == 'sum' else 'taken at the last sub-period'}"
                          f" to {out_freq.describe()}; its deflator_index there is the "
                          "implicit deflator 100 x nominal / real")
