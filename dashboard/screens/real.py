@@ -31,6 +31,7 @@ from ..components import (
 )
 from ..data import DataAccess, WorkspaceRef
 from ..figures import empty_figure, real_terms_figure
+from ._shared import register_base_follows_series
 
 KEY = "real"
 TITLE = "Real terms"
@@ -199,15 +200,7 @@ def register(app: Dash) -> None:
 
     rb = context(app)
 
-    @app.callback(Output(ids.RT_BASE, "value", allow_duplicate=True),
-                  Input(ids.RT_SERIES, "value"), State(ids.RT_BASE, "value"), State(ids.WORKSPACE, "data"),
-                  prevent_initial_call=True)
-    def _base_fits(series: Any, base: Any, ref: Any) -> Any:
-        r = WorkspaceRef.from_dict(ref)
-        if r is None:
-            return no_update
-        new = logic.base_after_series_change(rb.data.load(r), series, base)
-        return no_update if new is None else new
+    register_base_follows_series(app, rb, ids.RT_SERIES, ids.RT_BASE)
 
     @app.callback(
         Output(ids.RT_SERIES, "options"), Output(ids.RT_SERIES, "value"),

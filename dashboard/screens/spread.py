@@ -29,6 +29,7 @@ from ..components import (
 )
 from ..data import WorkspaceRef
 from ..figures import empty_figure, spread_figure
+from ._shared import register_base_follows_series
 from .real import choose
 
 KEY = "spread"
@@ -108,15 +109,7 @@ def register(app: Dash) -> None:
 
     rb = context(app)
 
-    @app.callback(Output(ids.SP_BASE, "value", allow_duplicate=True),
-                  Input(ids.SP_SERIES, "value"), State(ids.SP_BASE, "value"), State(ids.WORKSPACE, "data"),
-                  prevent_initial_call=True)
-    def _base_fits(series: Any, base: Any, ref: Any) -> Any:
-        r = WorkspaceRef.from_dict(ref)
-        if r is None:
-            return no_update
-        new = logic.base_after_series_change(rb.data.load(r), series, base)
-        return no_update if new is None else new
+    register_base_follows_series(app, rb, ids.SP_SERIES, ids.SP_BASE)
 
     @app.callback(
         Output(ids.SP_SERIES, "options"), Output(ids.SP_SERIES, "value"),

@@ -1,0 +1,26 @@
+"""Callbacks that several screens register in the same shape (not a screen itself: the
+leading underscore keeps it out of screen discovery)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from dash import Dash, Input, Output, State, no_update
+
+from .. import ids, logic
+from ..data import WorkspaceRef
+
+
+def register_base_follows_series(app: Dash, rb: Any, series_id: str, base_id: str) -> None:
+    """When another series is chosen, keep the base if it is made of whole periods of that
+    series, else put the series' default base in the field (logic.base_after_series_change)."""
+
+    @app.callback(Output(base_id, "value", allow_duplicate=True),
+                  Input(series_id, "value"), State(base_id, "value"), State(ids.WORKSPACE, "data"),
+                  prevent_initial_call=True)
+    def _base_fits(series: Any, base: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update
+        new = logic.base_after_series_change(rb.data.load(r), series, base)
+        return no_update if new is None else new
