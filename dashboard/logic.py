@@ -841,8 +841,17 @@ def shelf_rows(ws: Workspace) -> list[dict[str, Any]]:
     return rows
 
 
+def index_label(ws: Workspace, name: str) -> str:
+    """The index's name, with the vintage used when several vintages are held."""
+    vins = ws.indexes.get(name) or {}
+    if len(vins) > 1:
+        return f"{name} (latest vintage, {latest_vintage(vins) or 'not stated'})"
+    return name
+
+
 def index_options(ws: Workspace) -> list[dict[str, str]]:
-    return [{"label": name, "value": name} for name in ws.indexes]
+    """Index pickers act on an index's latest vintage; the label says so where it matters."""
+    return [{"label": index_label(ws, name), "value": name} for name in ws.indexes]
 
 
 def figure_items(ws: Workspace, names: Sequence[str]) -> list[dict[str, Any]]:
@@ -852,7 +861,8 @@ def figure_items(ws: Workspace, names: Sequence[str]) -> list[dict[str, Any]]:
             continue
         s = pick_index(ws, name)
         v = s.values
-        items.append({"name": name, "x": [p.start_time.strftime("%Y-%m-%d") for p in v.index],
+        items.append({"name": index_label(ws, name),
+                      "x": [p.start_time.strftime("%Y-%m-%d") for p in v.index],
                       "labels": s.frequency.labels(v.index), "y": v.to_numpy(),
                       "status": s.status_or_final().astype(str).tolist()})
     return items

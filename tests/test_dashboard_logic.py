@@ -676,3 +676,14 @@ def test_real_terms_say_which_out_years_the_deflator_does_not_reach(demo: Worksp
                        "auto", False)[1]
     dashed = [t for t in fig.data if t.name.endswith("(projected)")]
     assert dashed and all(t.line.dash == "dash" for t in dashed)
+
+
+def test_index_pickers_name_the_vintage_used_when_several_are_held(demo: Workspace):
+    # The demo holds two vintages of the chained consumer index; pickers act on the latest,
+    # and the label must say which one (common practice: state the vintage used).
+    opts = {o["value"]: o["label"] for o in logic.index_options(demo)}
+    assert opts["Chained consumer index"] == (
+        "Chained consumer index (latest vintage, 2026-10-15)")
+    assert opts["Fixed-basket consumer index"] == "Fixed-basket consumer index"
+    items = logic.figure_items(demo, ["Chained consumer index"])
+    assert items[0]["name"] == "Chained consumer index (latest vintage, 2026-10-15)"
