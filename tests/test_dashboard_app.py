@@ -191,3 +191,41 @@ def test_intake_knows_the_upload_limit(client: Any):
         assert r.status_code == 200 and b"data-max-bytes" in r.get_data()
     finally:
         r.close()
+
+
+@pytest.mark.slow
+def test_serve_with_gunicorn_leaves_no_server_behind_when_stopped(tmp_path: Path):
+    """`realbasis serve --workers 2` hands over to gunicorn: a SIGTERM sent to the command
+    stops the server and its workers (none is left answering on the port)."""
+    import signal
+    import socket
+    import subprocess
+    import sys
+    import time
+    import urllib.request
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    proc = subprocess.Popen([sys.executable, "-m", "pipeline.cli", "serve", "--workers", "2",
+                             "--port", str(port), "--data-dir", str(tmp_path)],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        deadline = time.monotonic() + 90
+        while True:
+            try:
+                with urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=5) as r:
+                    assert r.status == 200
+                    break
+            except OSError:
+                assert proc.poll() is None, "serve exited before answering"
+                assert time.monotonic() < deadline, "serve did not answer"
+                time.sleep(0.3)
+        proc.send_signal(signal.SIGTERM)  # to the command's own pid only
+        assert proc.wait(30) == 0
+        with pytest.raises(OSError):
+            socket.create_connection(("127.0.0.1", port), 2).close()
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait(10)

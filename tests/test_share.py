@@ -592,3 +592,17 @@ def test_reviewer_gets_the_intake_screen_read_only(tmp_path):
     r = reviewer.post("/_dash-update-component", json=body)
     assert r.status_code == 200, r.get_data(as_text=True)[:300]
     assert "holds no series yet" in r.get_data(as_text=True)
+
+
+def test_chart_image_without_kaleido_is_a_coded_error(monkeypatch):
+    """Without the optional kaleido package the PNG download says what to install (EX103)
+    instead of failing with an uncoded ImportError."""
+    import sys
+
+    from dashboard.screens.share import chart_png
+
+    monkeypatch.setitem(sys.modules, "kaleido", None)  # makes `import kaleido` fail
+    with pytest.raises(RealbasisError) as err:
+        chart_png(None)  # type: ignore[arg-type]
+    assert err.value.code == "EX103"
+    assert "realbasis[images]" in err.value.problems[0].fix

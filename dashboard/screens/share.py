@@ -141,7 +141,13 @@ def chart_figure(ws: Workspace) -> Any:
 
 def chart_png(ws: Workspace) -> tuple[bytes, str]:
     """The chart as PNG through kaleido and the system Chromium (never downloaded)."""
-    import kaleido
+    try:
+        import kaleido
+    except ImportError:
+        raise fail(EX103, "chart images need the kaleido package", expected="kaleido installed",
+                   found="kaleido is not installed",
+                   fix="pip install 'realbasis[images]' (or kaleido); the workbook, CSV and "
+                   "JSON downloads work without it.") from None
 
     path = chromium_path()
     if path is None:

@@ -13,7 +13,6 @@ from __future__ import annotations
 import argparse
 import os
 import shutil
-import subprocess
 
 from pipeline.errors import fail
 from pipeline.errors import register as register_code
@@ -50,9 +49,9 @@ def _run(args: argparse.Namespace) -> int:
     print(f"realbasis dashboard on {url} ({settings.workers} gunicorn workers; Ctrl+C stops)",
           flush=True)
     try:
-        return subprocess.call(cmd, env=env)
-    except KeyboardInterrupt:
-        return 0
+        # Replace this process with gunicorn, so that Ctrl+C or a SIGTERM sent to the
+        # command reaches gunicorn's master directly and no server is left behind.
+        os.execve(gunicorn, cmd, env)
     except OSError as err:
         raise fail(CL501, "gunicorn could not be started", expected="a runnable gunicorn",
                    found=str(err), fix="Install gunicorn or pass --workers 1.") from None
