@@ -175,6 +175,14 @@ class Series:
             out[s] = (self.frequency.label(idx[0]), self.frequency.label(idx[-1])) if len(idx) else None
         return out
 
+    def to_long_frame(self) -> pd.DataFrame:
+        """Long table (series, period, value, unit, status): the layout the intake reads
+        back with the name, unit (or index reference) and statuses intact."""
+        unit = self.unit or (f"index {self.reference}=100" if self.reference else "")
+        return pd.DataFrame({"series": self.name, "period": self.frequency.labels(self.index),
+                             "value": self.values.to_numpy(), "unit": unit,
+                             "status": self.status_or_final().to_numpy(dtype=object)})
+
     def with_values(self, values: pd.Series, **changes: object) -> Series:
         """A copy with new values (and optionally other fields changed)."""
         fields = {**self.__dict__, "values": values, **changes}

@@ -61,10 +61,9 @@ class Projection:
         )
 
     def table(self) -> pd.DataFrame:
-        s = self.series
-        return pd.DataFrame({"period": s.frequency.labels(s.index),
-                             "index": s.values.to_numpy(),
-                             "status": s.status_or_final().to_numpy()})
+        """Long layout (series, period, value, unit, status) that the intake reads back
+        with the index's name, unit and statuses intact."""
+        return self.series.to_long_frame()
 
 
 def _year_frequency(freq: Frequency, year_frequency: Frequency | None) -> Frequency:

@@ -125,7 +125,8 @@ def test_link_prints_the_factor(tmp_path, capsys):
     assert main(["index", "link", str(old), str(new), "--overlap", "2022"]) == 0
     cap = capsys.readouterr()
     df = pd.read_csv(io.StringIO(cap.out))
-    assert df["index"].tolist() == pytest.approx([90, 95, 100, 104])
+    assert df["value"].tolist() == pytest.approx([90, 95, 100, 104])
+    assert set(df["series"]) == {"Old"}  # the engine names the linked index after the older segment
     assert "link factor 0.5" in cap.err
 
 
@@ -134,7 +135,8 @@ def test_project_with_rates_per_year(tmp_path, capsys):
     assert main(["index", "project", str(ix), "--rate", "2025=3%", "--rate", "2026=0.02",
                  "--until", "2026"]) == 0
     df = pd.read_csv(io.StringIO(capsys.readouterr().out))
-    assert df["index"].tolist() == pytest.approx([100, 103, 103 * 1.03, 103 * 1.03 * 1.02])
+    assert df["value"].tolist() == pytest.approx([100, 103, 103 * 1.03, 103 * 1.03 * 1.02])
+    assert set(df["series"]) == {"Deflator"}
     assert df["status"].tolist() == ["final", "final", "projected", "projected"]
     assert main(["index", "project", str(ix), "--rate", "lots", "--until", "2026"]) == 2
     assert "[WS403]" in capsys.readouterr().err

@@ -97,12 +97,6 @@ def _as_index(s: Series) -> Series:
     return s if s.kind == "index" else s.with_values(s.values, kind="index")
 
 
-def _series_frame(s: Series) -> pd.DataFrame:
-    return pd.DataFrame({"period": s.frequency.labels(s.index),
-                         "index": s.values.to_numpy(),
-                         "status": s.status_or_final().to_numpy(dtype=object)})
-
-
 # ---------------------------------------------------------------------------------------
 # compute
 
@@ -190,7 +184,7 @@ def _run_link(args: argparse.Namespace) -> int:
     sys.stderr.write(f"link factor {res.factor:.6g} at {res.overlap}\n{res.method}\n")
     meta = {"command": "index link", "factor": res.factor, "overlap": res.overlap,
             "method": [res.method], "warnings": [p.as_dict() for p in res.warnings]}
-    _write(_series_frame(res.series), args.out, meta)
+    _write(res.series.to_long_frame(), args.out, meta)
     _cautions()
     return 0
 
