@@ -7,6 +7,9 @@ from typing import Any
 
 from dash import Dash, Input, Output, State, no_update
 
+from pipeline.errors import RealbasisError
+from pipeline.model import Workspace
+
 from .. import ids, logic
 from ..data import WorkspaceRef
 
@@ -24,3 +27,20 @@ def register_base_follows_series(app: Dash, rb: Any, series_id: str, base_id: st
             return no_update
         new = logic.base_after_series_change(rb.data.load(r), series, base)
         return no_update if new is None else new
+
+
+def register_frequency_options(app: Dash, rb: Any, series_id: str, freq_id: str) -> None:
+    """Offer the result frequencies the chosen series can take (logic.frequency_options)."""
+
+    @app.callback(Output(freq_id, "options"), Input(series_id, "value"),
+                  State(ids.WORKSPACE, "data"))
+    def _freqs(series: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None or not series:
+            return logic.frequency_options(Workspace("", ""), None)
+        ws = rb.data.load(r)
+        try:
+            s = logic.pick_series(ws, series)
+        except RealbasisError:
+            s = None
+        return logic.frequency_options(ws, s)

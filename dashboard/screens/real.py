@@ -31,7 +31,7 @@ from ..components import (
 )
 from ..data import DataAccess, WorkspaceRef
 from ..figures import empty_figure, real_terms_figure
-from ._shared import register_base_follows_series
+from ._shared import register_base_follows_series, register_frequency_options
 
 KEY = "real"
 TITLE = "Real terms"
@@ -201,6 +201,7 @@ def register(app: Dash) -> None:
     rb = context(app)
 
     register_base_follows_series(app, rb, ids.RT_SERIES, ids.RT_BASE)
+    register_frequency_options(app, rb, ids.RT_SERIES, ids.RT_FREQ)
 
     @app.callback(
         Output(ids.RT_SERIES, "options"), Output(ids.RT_SERIES, "value"),
@@ -216,19 +217,6 @@ def register(app: Dash) -> None:
         ws = rb.data.load(r)
         return (*options_for(ws, series, deflator),
                 base if base else str(ws.settings.get("base") or ""))
-
-    @app.callback(Output(ids.RT_FREQ, "options"), Input(ids.RT_SERIES, "value"),
-                  State(ids.WORKSPACE, "data"))
-    def _freqs(series: Any, ref: Any) -> Any:
-        r = WorkspaceRef.from_dict(ref)
-        if r is None or not series:
-            return logic.frequency_options(Workspace("", ""), None)
-        ws = rb.data.load(r)
-        try:
-            s = logic.pick_series(ws, series)
-        except RealbasisError:
-            s = None
-        return logic.frequency_options(ws, s)
 
     @app.callback(
         Output(ids.RT_TITLE, "children"), Output(ids.RT_FIGURE, "figure"),

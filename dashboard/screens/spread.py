@@ -29,7 +29,7 @@ from ..components import (
 )
 from ..data import WorkspaceRef
 from ..figures import empty_figure, spread_figure
-from ._shared import register_base_follows_series
+from ._shared import register_base_follows_series, register_frequency_options
 from .real import choose
 
 KEY = "spread"
@@ -110,6 +110,7 @@ def register(app: Dash) -> None:
     rb = context(app)
 
     register_base_follows_series(app, rb, ids.SP_SERIES, ids.SP_BASE)
+    register_frequency_options(app, rb, ids.SP_SERIES, ids.SP_FREQ)
 
     @app.callback(
         Output(ids.SP_SERIES, "options"), Output(ids.SP_SERIES, "value"),
@@ -134,19 +135,6 @@ def register(app: Dash) -> None:
             keep = [o["value"] for o in d_opts[:5]]
         return (s_opts, choose(series, s_opts, ws.settings.get("series")), d_opts, keep,
                 base if base else str(ws.settings.get("base") or ""))
-
-    @app.callback(Output(ids.SP_FREQ, "options"), Input(ids.SP_SERIES, "value"),
-                  State(ids.WORKSPACE, "data"))
-    def _freqs(series: Any, ref: Any) -> Any:
-        r = WorkspaceRef.from_dict(ref)
-        if r is None or not series:
-            return logic.frequency_options(Workspace("", ""), None)
-        ws = rb.data.load(r)
-        try:
-            s = logic.pick_series(ws, series)
-        except RealbasisError:
-            s = None
-        return logic.frequency_options(ws, s)
 
     @app.callback(
         Output(ids.SP_VERDICT, "children"), Output(ids.SP_TITLE, "children"),
