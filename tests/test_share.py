@@ -606,3 +606,19 @@ def test_chart_image_without_kaleido_is_a_coded_error(monkeypatch):
         chart_png(None)  # type: ignore[arg-type]
     assert err.value.code == "EX103"
     assert "realbasis[images]" in err.value.problems[0].fix
+
+
+def test_chart_image_carries_every_caution_and_the_base(tmp_path):
+    """The exported chart states the base in its title and all the usual cautions (the
+    project's rule: cautions wherever figures are shown or exported)."""
+    from dashboard.data import DataAccess
+    from dashboard.screens.share import chart_figure
+    from pipeline.model import CAUTIONS
+    from pipeline.settings import Settings
+
+    data = DataAccess(Settings(data_dir=str(tmp_path / "d")))
+    fig = chart_figure(data.latest(data.demo_ref().id))
+    notes = " ".join(a.text for a in fig.layout.annotations)
+    for caution in CAUTIONS:
+        assert caution in notes
+    assert "constant 2024 dollars" in fig.layout.title.text

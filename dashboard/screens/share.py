@@ -131,11 +131,15 @@ def chart_figure(ws: Workspace) -> Any:
     sp = logic.spread(ws, str(series), names, str(settings.get("base") or "") or None,
                       to=str(settings.get("frequency") or "auto"))
     fig = spread_figure(sp.table, title=sp.title, unit=sp.unit)
-    fig.add_annotation(text="Illustrative analytical estimates, not official statistics. "
-                            + CAUTIONS[0] + " " + CAUTIONS[1],
-                       xref="paper", yref="paper", x=0, y=-0.22, showarrow=False,
+    # Every caution, one per line, under the chart: a PNG travels without the page.
+    fig.add_annotation(text="<br>".join(CAUTIONS), align="left",
+                       xref="paper", yref="paper", x=0, y=-0.2, yanchor="top", showarrow=False,
                        xanchor="left", font={"size": 10})
-    fig.update_layout(margin={"b": 120})
+    # On the page the title is HTML above the chart; in the image it needs room of its own
+    # above the legend.
+    fig.update_layout(margin={"t": 140, "b": 170},
+                      title={"xref": "paper", "x": 0, "xanchor": "left", "y": 0.985,
+                             "yanchor": "top"})
     return fig
 
 
