@@ -31,36 +31,34 @@ class Column:
     decimals: int = 1
 
 
-def fmt_number(value: object, decimals: int = 1) -> str:
-    """Thousands separators and a fixed number of decimals; a dash for missing."""
+def _as_float(value: object) -> float | str:
+    """The value as a float, or the text to show instead: a dash for missing (None, NaN),
+    the value itself when it is not a number."""
     if value is None:
         return "–"
     try:
         x = float(value)  # type: ignore[arg-type]
     except (TypeError, ValueError):
         return str(value)
-    if math.isnan(x):
-        return "–"
+    return "–" if math.isnan(x) else x
+
+
+def fmt_number(value: object, decimals: int = 1) -> str:
+    """Thousands separators and a fixed number of decimals; a dash for missing."""
+    x = _as_float(value)
+    if isinstance(x, str):
+        return x
     if math.isinf(x):
         return "∞" if x > 0 else "-∞"
-    text = f"{x:,.{decimals}f}"
-    return "0" + text[2:] if text.startswith("-0") and float(text.replace(",", "")) == 0 else text
+    return f"{round(x, decimals) or 0.0:,.{decimals}f}"  # `or 0.0`: never '-0.0'
 
 
 def fmt_percent(value: object, decimals: int = 1) -> str:
     """A fraction as a signed percentage: 0.0234 -> '+2.3 %'."""
-    if value is None:
-        return "–"
-    try:
-        x = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        return str(value)
-    if math.isnan(x):
-        return "–"
-    pct = round(x * 100, decimals)
-    if pct == 0:
-        pct = 0.0
-    return f"{pct:+,.{decimals}f} %"
+    x = _as_float(value)
+    if isinstance(x, str):
+        return x
+    return f"{round(x * 100, decimals) or 0.0:+,.{decimals}f} %"
 
 
 def format_cell(value: object, column: Column) -> str:

@@ -385,6 +385,9 @@ def test_numbers_have_thousands_separators_and_units():
     assert components.fmt_number(float("nan")) == "–"
     assert components.fmt_percent(0.0234) == "+2.3 %"
     assert components.fmt_percent(-0.00001) == "+0.0 %"
+    assert components.fmt_number(-0.04) == "0.0"  # no negative zero
+    assert components.fmt_number(None) == "–" and components.fmt_percent(None) == "–"
+    assert components.fmt_number("n/a") == "n/a"
     t = components.table([components.Column("v", "Value (USD)", "number", 0)], [{"v": 12345}])
     assert "12,345" in str(t.to_plotly_json())
 
