@@ -34,7 +34,6 @@ from dataclasses import dataclass
 from typing import Any, TypeVar
 
 import numpy as np
-from scipy import stats
 
 Progress = Callable[[int, int], None]
 """``progress(done, total)``: called in the calling process as work completes."""
@@ -250,6 +249,8 @@ def seasonal_dummy_ftest(x: np.ndarray, period: int) -> FTest:
     with np.errstate(divide="ignore", invalid="ignore"):
         f = ((rss_restricted - rss_full) / df_num) / (rss_full / df_den)
     f = np.where(rss_full > 0, f, np.where(rss_restricted > rss_full, np.inf, 0.0))
+    from scipy import stats  # here, not at import: every CLI call imports this module
+
     p = stats.f.sf(f, df_num, df_den)
     return FTest(f, p, df_num, df_den)
 
