@@ -37,7 +37,12 @@ ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm")
 
 def problem_dict(p: Problem) -> dict[str, Any]:
     """A problem as plain data for the views (and the browser): never HTML."""
+    from pipeline.errors import fix_text
+
+    from .remedies import SCREEN
+
     d = p.as_dict()
+    d["fix"] = fix_text(p, SCREEN)
     d["where_text"] = p.where.render()
     return d
 

@@ -13,6 +13,7 @@ import sys
 from collections.abc import Sequence
 
 from . import __version__, commands
+from .commands._remedies import CLI
 from .errors import CL001, RealbasisError
 
 
@@ -36,6 +37,8 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     sub.required = True
     for info in sorted(pkgutil.iter_modules(commands.__path__), key=lambda m: m.name):
+        if info.name.startswith("_"):  # helpers shared by the commands, not commands
+            continue
         module = importlib.import_module(f"{commands.__name__}.{info.name}")
         module.register(sub)
     return parser
@@ -47,7 +50,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return int(args.func(args) or 0)
     except RealbasisError as err:
-        sys.stderr.write(err.render() + "\n")
+        sys.stderr.write(err.render(CLI) + "\n")
         return 2
     except BrokenPipeError:  # e.g. `realbasis deflate ... | head`
         return 0

@@ -201,7 +201,8 @@ def make_weights(wide: pd.DataFrame, *, weights_as: WeightsAs = "auto",
         warnings.append(warn(WS108, "weights do not add up to 1 or 100; read as spending "
                              "amounts and turned into shares per year",
                              found=f"totals {', '.join(f'{t:g}' for t in totals[:3])}",
-                             fix="Say --weights-as amounts (or shares) to be explicit.",
+                             fix="Say whether the weights are amounts or shares to be explicit.",
+                             remedy="weights_as",
                              file=source))
     shares = pd.DataFrame(arr / totals[:, None], index=wide.index, columns=wide.columns)
     return CostWeights(shares, given_as, freq, tuple(warnings))

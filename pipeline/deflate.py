@@ -395,9 +395,9 @@ def _block(
                            f"than deflator {dname!r} ({dfreq.describe()})",
                            expected=f"a deflator at {freq.describe()} or more frequent",
                            found=f"{dname!r} is {dfreq.describe()}", series=names[0],
-                           fix=f"Aggregate the output to {dfreq.describe()} or longer "
-                           "(--to), use a more frequent deflator, or ask for interpolation "
-                           "(every interpolated value is then flagged).")
+                           fix=f"Show the results at {dfreq.describe()} or longer, use a "
+                           "more frequent deflator, or allow interpolation (every "
+                           "interpolated value is then flagged).", remedy="result_frequency")
         at = _deflator_at(d, work, kind, dname)
         warnings.extend(w for w in at.warnings if w not in warnings)
         if work == freq or relation(freq, work) == "same":
@@ -569,7 +569,8 @@ def deflate_frame(
                    found="kind 'index'", fix="Deflate money series; rebase indexes instead.")
     if not deflators:
         raise fail(DF006, "no deflator given", expected="at least one price index",
-                   found="none", fix="Give one or more index series (--index FILE).")
+                   found="none", fix="Give one or more price indexes.",
+                   remedy="deflator_missing")
     names = tuple(str(c) for c in nominal.columns)
     _unique(names, "series")
     _unique(tuple(d.name for d in deflators), "deflator")
@@ -681,7 +682,8 @@ def deflate(
                    found="none", fix="Give the nominal series to deflate.")
     if not deflators:
         raise fail(DF006, "no deflator given", expected="at least one price index",
-                   found="none", fix="Give one or more index series (--index FILE).")
+                   found="none", fix="Give one or more price indexes.",
+                   remedy="deflator_missing")
     _unique(tuple(s.name for s in series), "series")
     _unique(tuple(d.name for d in deflators), "deflator")
     for s in series:
@@ -690,14 +692,15 @@ def deflate(
         if k == "index":
             raise fail(DF003, f"{s.name!r} is a price index, not a money amount",
                        expected="flow or stock series", found="kind 'index'", series=s.name,
-                       fix="Deflate money series; pass indexes as deflators, or say the "
-                       "series is a flow or a stock (--kind).")
+                       fix="Deflate money series and use indexes as deflators, or say the "
+                       "series is a flow or a stock.", remedy="series_kind")
     freqs = {s.frequency for s in series}
     if to is None and len(freqs) > 1:
         raise fail(DF002, "the series have different frequencies",
                    expected="one frequency, or a common 'to' frequency",
                    found=", ".join(sorted(f.describe() for f in freqs)),
-                   fix="Say which frequency the results should have (--to M|Q|A|FY).")
+                   fix="Say which frequency the results should have.",
+                   remedy="result_frequency")
     fy = _resolve_fy(fy_start, to, [*freqs, *(d.frequency for d in deflators)])
     span = parse_span(base, fy)
     defl = _prepare_deflators(deflators, span)

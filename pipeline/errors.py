@@ -9,6 +9,15 @@ Codes are registered once with :func:`register` by the module that raises them, 
 ``realbasis codes`` (and the test that checks uniqueness) can list them all. A code never
 changes meaning once released; retire a code rather than reuse it.
 
+**Fixes fit the face that shows them.** The engine serves two faces, the command line and
+the dashboard, and a fix must name what the user can act on *there*: an option on the
+command line, a control on a screen. So a problem's ``fix`` is written in neutral words
+(no option names, no screen names), and where the remedy is a choice each face offers in
+its own way the problem also carries a ``remedy`` key (one of :data:`REMEDIES`). Each
+face renders that key in its own words (``pipeline.commands.remedies.CLI`` for the command
+line, ``dashboard.remedies.SCREEN`` for the dashboard) and falls back to ``fix``. Exports
+are the same file whichever face wrote them, so they carry the neutral ``fix``.
+
 Code prefixes by area (three digits follow):
     IN  intake (reading files)          PE  periods and calendars
     IX  index operations (rebase, link) DF  deflation
@@ -21,6 +30,7 @@ Code prefixes by area (three digits follow):
 
 from __future__ import annotations
 
+import dataclasses
 import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
@@ -50,6 +60,35 @@ def register(code: str, title: str) -> str:
 def registered_codes() -> Mapping[str, str]:
     """All codes registered so far (import the modules first to see theirs)."""
     return dict(sorted(_REGISTRY.items()))
+
+
+REMEDIES: Mapping[str, str] = {
+    "fiscal_start": "say which month the fiscal year starts in",
+    "result_frequency": "choose the frequency of the results (a longer period than the series)",
+    "interpolate": "allow interpolation of a less frequent deflator",
+    "deflator_missing": "give one or more price indexes to deflate by",
+    "series_kind": "say whether a series is a flow, a stock or a price index",
+    "sheet": "choose the workbook sheet",
+    "weights_as": "say whether the weights are shares or spending amounts",
+    "chained": "choose fixed-base or chained",
+    "as_of": "give each index load its as-of date (vintage)",
+    "rebase_vintages": "rebase both vintages to one reference period",
+    "sa_interpolate": "allow seasonal adjustment to fill inside gaps",
+    "export_choices": "choose and save the base period, series and deflators to export",
+    "projection_rate": "give the assumed annual rate",
+    "base_period": "choose another base period",
+    "project_index": "project the index over the missing periods",
+}
+"""Remedy keys a problem may carry, with what each asks of the user in neutral words.
+Every face renders every key (a test checks the command line's and the dashboard's
+vocabularies cover them all)."""
+
+
+def fix_text(problem: Problem, vocabulary: Mapping[str, str] | None = None) -> str:
+    """The fix as one face shows it: the neutral ``fix`` followed by the face's words for
+    the problem's remedy (how to do it there), when the face has them."""
+    words = (vocabulary or {}).get(problem.remedy, "") if problem.remedy else ""
+    return " ".join(t for t in (problem.fix, words) if t)
 
 
 @dataclass(frozen=True)
@@ -95,9 +134,15 @@ class Problem:
     fix: str = ""
     where: Location = field(default_factory=Location)
     severity: Severity = "error"
+    remedy: str = ""
 
-    def render(self) -> str:
-        """One readable paragraph: code, where, what, expected/found, fix."""
+    def __post_init__(self) -> None:
+        if self.remedy and self.remedy not in REMEDIES:
+            raise ValueError(f"unknown remedy {self.remedy!r}; add it to errors.REMEDIES")
+
+    def render(self, vocabulary: Mapping[str, str] | None = None) -> str:
+        """One readable paragraph: code, where, what, expected/found, fix (in the words of
+        ``vocabulary``, a face's rendering of remedy keys, when given)."""
         head = f"[{self.code}] {self.message}"
         loc = self.where.render()
         lines = [head + (f" ({loc})" if loc else "")]
@@ -105,8 +150,9 @@ class Problem:
             lines.append(f"  expected: {self.expected}")
         if self.found:
             lines.append(f"  found: {self.found}")
-        if self.fix:
-            lines.append(f"  fix: {self.fix}")
+        fix = fix_text(self, vocabulary)
+        if fix:
+            lines.append(f"  fix: {fix}")
         return "\n".join(lines)
 
     def as_dict(self) -> dict[str, object]:
@@ -117,13 +163,12 @@ class Problem:
             "expected": self.expected,
             "found": self.found,
             "fix": self.fix,
+            "remedy": self.remedy,
             "where": self.where.as_dict(),
         }
 
     def as_warning(self) -> Problem:
-        return Problem(
-            self.code, self.message, self.expected, self.found, self.fix, self.where, "warning"
-        )
+        return dataclasses.replace(self, severity="warning")
 
 
 class RealbasisError(Exception):
@@ -148,8 +193,8 @@ class RealbasisError(Exception):
     def codes(self) -> tuple[str, ...]:
         return tuple(p.code for p in self.problems)
 
-    def render(self) -> str:
-        return "\n".join(p.render() for p in self.problems)
+    def render(self, vocabulary: Mapping[str, str] | None = None) -> str:
+        return "\n".join(p.render(vocabulary) for p in self.problems)
 
 
 def fail(
@@ -159,12 +204,13 @@ def fail(
     expected: str = "",
     found: str = "",
     fix: str = "",
+    remedy: str = "",
     where: Location | None = None,
     **where_kw: object,
 ) -> RealbasisError:
     """Build (not raise) a single-problem error: ``raise fail("DF001", ...)``."""
     loc = where if where is not None else Location(**where_kw)  # type: ignore[arg-type]
-    return RealbasisError(Problem(code, message, expected, found, fix, loc, "error"))
+    return RealbasisError(Problem(code, message, expected, found, fix, loc, "error", remedy))
 
 
 def warn(
@@ -174,12 +220,13 @@ def warn(
     expected: str = "",
     found: str = "",
     fix: str = "",
+    remedy: str = "",
     where: Location | None = None,
     **where_kw: object,
 ) -> Problem:
     """Build a warning problem that travels with a result."""
     loc = where if where is not None else Location(**where_kw)  # type: ignore[arg-type]
-    return Problem(code, message, expected, found, fix, loc, "warning")
+    return Problem(code, message, expected, found, fix, loc, "warning", remedy)
 
 
 # Codes shared by several areas live here.

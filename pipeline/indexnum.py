@@ -482,8 +482,9 @@ def compute_index(
                    found=str(formula), fix="Choose one of the published formulas listed.")
     if formula in _WEIGHT_PERIOD and chained:
         raise fail(WS004, f"the {FORMULA_NAMES[formula]} index is a fixed-base index",
-                   expected="fixed-base (no --chained)", found="chained",
-                   fix="Drop --chained, or use a chained Laspeyres, Fisher or Törnqvist.")
+                   expected="a fixed-base index", found="chained",
+                   fix="Compute it fixed-base, or use a chained Laspeyres, Fisher or "
+                       "Törnqvist.", remedy="chained")
     if weight_period is not None and formula not in _WEIGHT_PERIOD:
         raise fail(WS004, "a weight-reference period applies to Lowe and Young only",
                    expected="lowe or young", found=str(formula),

@@ -433,7 +433,7 @@ def _read_xlsx(data: bytes, name: str, sheet: str | None, settings: Settings) ->
         if sheet is not None and sheet not in names:
             raise fail(IN008, f"the workbook has no sheet named {sheet!r}",
                        expected="one of: " + ", ".join(repr(s) for s in names),
-                       found=repr(sheet), fix="Choose one of the sheets listed (--sheet NAME).",
+                       found=repr(sheet), fix="Choose one of the sheets listed.", remedy="sheet",
                        file=name)
         order = [sheet] if sheet is not None else list(names)
         rows: list[list[str]] = []
@@ -1227,7 +1227,7 @@ def _read_table(source: str | Path | bytes, filename: str | None, sheet: str | N
     else:
         if sheet is not None:
             raise fail(IN008, "a sheet was named but the file is not a workbook",
-                       expected="an .xlsx workbook when --sheet is given", found="a text file",
+                       expected="an .xlsx workbook when a sheet is named", found="a text file",
                        fix="Leave out the sheet name for CSV files.", file=name)
         raw = _read_text(data, name, settings)
     table, problems = _finish_table(raw, name, settings)

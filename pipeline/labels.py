@@ -132,7 +132,8 @@ def _check_fy_start(fy_start: int | None) -> int | None:
     if not 1 <= v <= 12 or v != fy_start:
         raise fail(PE104, "the fiscal year start month must be a whole number from 1 to 12",
                    expected="1 (January) ... 12 (December), e.g. 7 for a July start",
-                   found=repr(fy_start), fix="Give the month the fiscal year starts in, e.g. --fiscal-start 7.")
+                   found=repr(fy_start), fix="Give the month the fiscal year starts in as "
+                   "a number, e.g. 7 for July.", remedy="fiscal_start")
     return v
 
 
@@ -289,8 +290,8 @@ def _needs_fy(kind_used: np.ndarray, fy_start: int | None, where: dict[str, obje
         raise fail(PE102, "fiscal-year labels need the month the fiscal year starts in",
                    expected="a fiscal start month (1-12), e.g. 7 when FY2025 runs July 2024 - June 2025",
                    found=f"fiscal labels such as {', '.join(repr(e) for e in examples[:3])} and no start month",
-                   fix="Pass the start month (command line: --fiscal-start 7; Python: fy_start=7). "
-                       "realbasis never assumes one.", **where)  # type: ignore[arg-type]
+                   fix="Say which month the fiscal year starts in; realbasis never assumes "
+                       "one.", remedy="fiscal_start", **where)  # type: ignore[arg-type]
     if fy_start == 1 and (kind_used == SPAN).any():
         raise fail(PE105, "labels like 2024-25 cross two calendar years, so the fiscal year cannot start in January",
                    expected="a fiscal start month from 2 to 12",

@@ -420,9 +420,9 @@ def to_frequency(series: Series, target: Frequency, *, interpolate: bool = False
                        f"{src.describe()}",
                        expected=f"a series at {target.describe()} or a longer period",
                        found=src.describe(), series=name,
-                       fix="Use a deflator at least as frequent as the series, aggregate the "
-                       "series to the deflator's frequency (--to), or ask for interpolation "
-                       "(every interpolated value is then flagged).")
+                       fix="Use a deflator at least as frequent as the series, show the "
+                       "results at the deflator's frequency, or allow interpolation (every "
+                       "interpolated value is then flagged).", remedy="result_frequency")
         return interpolate_index(series, target)
     rule = rule or _RULE_OF_KIND[series.kind]
     full = full_range(series.index, src)
@@ -457,7 +457,8 @@ def interpolate_index(series: Series, target: Frequency) -> Converted:
     if series.kind != "index":
         raise fail(PE206, f"{name!r} is a {series.kind}; only price indexes are interpolated",
                    expected="an index series", found=series.kind, series=name,
-                   fix="Aggregate the money series to a longer period instead (--to).")
+                   fix="Show the money series at a longer period instead.",
+                   remedy="result_frequency")
     if relation(src, target) != "finer":
         raise fail(PE201, f"cannot interpolate {src.describe()} to {target.describe()}",
                    expected="a target whose periods nest in the source periods",

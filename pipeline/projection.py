@@ -128,7 +128,9 @@ def project(
             raise fail(WS202, f"assumed rate {r!r} for {y} is out of range",
                        expected="an annual rate as a fraction between -1 and 1 (0.025 = 2.5 %)",
                        found=repr(r), series=index.name,
-                       fix="Write rates as fractions, e.g. 0.025 for 2.5 % a year.")
+                       fix="Give the rate as a percent a year (2.5 %) or a fraction "
+                           "(0.025); rates of 100 % a year or more are refused.",
+                       remedy="projection_rate")
     per_period = np.array([(1 + rates_by_year[y]) ** (1 / freq.periods_per_year)
                            for y in ylabels])
     new_vals = float(present.iloc[-1]) * np.cumprod(per_period)

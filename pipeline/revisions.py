@@ -50,7 +50,8 @@ def vintages(loads: Sequence[Series]) -> dict[str, dict[str, Series]]:
             raise fail(WS305, f"index {s.name!r} loaded twice as of {v or '(no date)'}",
                        expected="one load per index and as-of date",
                        found=f"two loads as of {v or '(no date)'}", series=s.name,
-                       fix="Give each load its as-of date (vintage column or --as-of).")
+                       fix="Give each load its as-of date (a vintage column in the "
+                       "file, or the as-of date of the load).", remedy="as_of")
         slot[v] = s
     return {n: dict(sorted(vs.items())) for n, vs in out.items()}
 
@@ -143,7 +144,8 @@ def compare_vintages(old: Series, new: Series, *, rebase_to: str | Span | None =
     elif old.reference and new.reference and old.reference != new.reference:
         warnings.append(warn(WS303, "the vintages are stated on different reference periods",
                              found=f"{old.reference} and {new.reference}", series=new.name,
-                             fix="Rebase both to one period (--rebase) before comparing."))
+                             fix="Rebase both to one period before comparing.",
+                             remedy="rebase_vintages"))
     freq = old.frequency
     idx = old.index.union(new.index)
     o = old.values.reindex(idx)

@@ -428,9 +428,9 @@ def _prepare(series: Series, method: str, *, model: str, interpolate: bool,
             SA004, f"{len(gap_labels)} missing period(s) inside the series",
             expected="a value for every period from first to last",
             found="missing: " + _list(gap_labels),
-            fix="Supply the missing values, or ask for interpolation (interpolate=True; "
-                "--sa-interpolate on the command line) and the filled periods are flagged.",
-            where=_loc(series, gap_labels[0])))
+            fix="Supply the missing values, or allow interpolation inside the gaps (the "
+                "filled periods are flagged).",
+            where=_loc(series, gap_labels[0]), remedy="sa_interpolate"))
     if lo > 0 or hi < len(raw) - 1:
         edge = freq.labels(vindex[:lo].append(vindex[hi + 1:]))
         warns.append(warn(SA104, "missing values at the start or end are left unadjusted",

@@ -490,8 +490,9 @@ def workspace_result(ws: Any, *, base: str | None = None,
         raise fail(EX102, "the workspace export needs " + ", ".join(missing),
                    expected="a saved base period, money series and price indexes",
                    found=f"base {base or 'none'}; {len(chosen)} series; {len(names)} indexes",
-                   fix="Choose them on the Real terms or Deflator spread screen and save, or "
-                       "give them (--base, --deflator).")
+                   fix="Choose the base period, series and deflators and save them with "
+                       "the workspace, or give them for this export.",
+                   remedy="export_choices")
     saved_vintages = settings.get("vintages") if isinstance(settings.get("vintages"), dict) else {}
     used: dict[str, str] = {}
     defl = []

@@ -8,8 +8,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from pipeline.commands._remedies import CLI
 from pipeline.deflate import TABLE_COLUMNS, deflate, deflate_frame
-from pipeline.errors import RealbasisError
+from pipeline.errors import RealbasisError, fix_text
 from pipeline.model import ANNUAL, MONTHLY, QUARTERLY, Frequency, Series, fiscal_year
 
 
@@ -145,7 +146,9 @@ def test_series_more_frequent_than_its_deflator_is_refused_with_a_code():
     with pytest.raises(RealbasisError) as err:
         deflate([s], [d], "2024Q1")
     assert err.value.code == "PE204"
-    assert "--to" in err.value.problems[0].fix
+    # the engine's fix is neutral; the command line renders the remedy as its option
+    assert err.value.problems[0].remedy == "result_frequency"
+    assert "--to" in fix_text(err.value.problems[0], CLI)
 
 
 def test_monthly_series_with_quarterly_deflator_works_at_quarterly_when_asked():

@@ -8,7 +8,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from pipeline.errors import RealbasisError
+from pipeline.commands._remedies import CLI
+from pipeline.errors import RealbasisError, fix_text
 from pipeline.labels import parse_label, parse_label_column
 from pipeline.model import Frequency
 
@@ -82,7 +83,9 @@ def test_fiscal_labels_need_a_start_month(text):
     with pytest.raises(RealbasisError) as e:
         parse_label(text)
     assert e.value.code == "PE102"
-    assert "--fiscal-start" in e.value.problems[0].fix
+    # neutral in the engine; the command line renders the remedy as its option
+    assert e.value.problems[0].remedy == "fiscal_start"
+    assert "--fiscal-start" in fix_text(e.value.problems[0], CLI)
 
 
 def test_span_with_january_start_is_refused():

@@ -12,6 +12,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from pipeline.commands._remedies import CLI
 from pipeline.errors import CL001, fail
 from pipeline.ingest import Intake, read_file
 from pipeline.model import KINDS, Series
@@ -74,9 +75,9 @@ def render(intake: Intake) -> str:
     errors, warnings = intake.errors, intake.warnings
     lines += ["", f"Problems: {len(errors)} error(s), {len(warnings)} warning(s)"]
     for p in errors:
-        lines.append("error " + p.render())
+        lines.append("error " + p.render(CLI))
     for p in warnings:
-        lines.append("warning " + p.render())
+        lines.append("warning " + p.render(CLI))
     return "\n".join(lines)
 
 

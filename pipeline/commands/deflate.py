@@ -25,6 +25,7 @@ from collections import Counter
 from dataclasses import dataclass
 from pathlib import Path
 
+from pipeline.commands._remedies import CLI
 from pipeline.deflate import DeflationResult, deflate
 from pipeline.errors import Problem, fail
 from pipeline.errors import register as register_code
@@ -160,7 +161,7 @@ def compute(args: argparse.Namespace, inputs: Inputs) -> DeflationResult:
 
 def emit(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> None:
     for p in (*inputs.warnings, *result.warnings):
-        sys.stderr.write("warning: " + p.render().replace("\n", "\n  ") + "\n")
+        sys.stderr.write("warning: " + p.render(CLI).replace("\n", "\n  ") + "\n")
     if args.out:
         path = write_result(result, args.out, command="realbasis deflate",
                             files="; ".join(inputs.files), base=result.base_label)

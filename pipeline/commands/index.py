@@ -25,6 +25,7 @@ from pathlib import Path
 import pandas as pd
 
 from pipeline import costindex, indexes, indexnum, labels, projection, revisions
+from pipeline.commands._remedies import CLI
 from pipeline.errors import Problem, fail, register
 from pipeline.ingest import read_file
 from pipeline.model import CAUTIONS, Frequency, Series
@@ -41,7 +42,7 @@ WS404 = register("WS404", "two vintages needed")
 
 def _warn(problems: Sequence[Problem]) -> None:
     for p in problems:
-        sys.stderr.write(p.render() + "\n")
+        sys.stderr.write(p.render(CLI) + "\n")
 
 
 def _cautions() -> None:
