@@ -111,7 +111,8 @@ def preview(data: bytes, filename: str, rows: int = 8) -> tuple[list[str], list[
     """The first rows of the file as text, exactly as written (no interpretation)."""
     name = filename.lower()
     if name.endswith((".xlsx", ".xlsm")):
-        frame = pd.read_excel(io.BytesIO(data), nrows=rows, dtype=str, header=None)
+        frame = pd.read_excel(io.BytesIO(data), nrows=rows, dtype=str, header=None,
+                              engine="openpyxl")
     else:
         try:
             frame = pd.read_csv(io.BytesIO(data), nrows=rows, dtype=str, header=None,
