@@ -20,13 +20,13 @@ reviewer context (``SH001``), and if any refusal happened while a request was ha
 the response is replaced by ``403`` whatever the callback did with the error. Requests
 that could change the server outside the store (uploads, any non-GET route other than
 Dash's callback dispatcher) are refused with ``403`` before they run. Background jobs
-carry the access context of the request that started them (:class:`AccessAwareMixin`).
+carry the access context of the request that started them
+(:class:`dashboard.jobs.AccessAwareMixin`, which builds on :func:`anonymous`).
 """
 
 from __future__ import annotations
 
 import contextlib
-import functools
 import hashlib
 import hmac
 import html
@@ -37,8 +37,7 @@ from urllib.parse import urlsplit
 
 import flask
 from dash import Dash
-from dash._callback_context import context_value
-from dash._utils import AttributeDict
+from dash import html as dhtml
 
 from pipeline.errors import RealbasisError
 from pipeline.settings import Settings
@@ -56,6 +55,12 @@ from pipeline.store import (
     set_access,
 )
 
+from . import ids
+from .components import EDITOR_ONLY_CLASS
+from .context import find
+from .data import WorkspaceRef
+from .secret import secret_key
+
 REVIEW_HEADER = "X-Realbasis-Review"
 ROLE_HEADER = "X-Realbasis-Access"
 LOOPBACK_ADDRS = frozenset({"127.0.0.1", "::1", "::ffff:127.0.0.1"})
@@ -64,7 +69,7 @@ _SAFE_METHODS = frozenset({"GET", "HEAD", "OPTIONS"})
 ANONYMOUS = "anonymous"
 
 
-def _anonymous() -> AccessContext:
+def anonymous() -> AccessContext:
     """Read-only, no workspace: for the sign-in pages and refused requests (a fresh
     object each time, since a context records its own refusals)."""
     return AccessContext("reviewer", None, ANONYMOUS)
@@ -167,15 +172,15 @@ class Gate:
         if req.method not in _SAFE_METHODS and req.headers.get("Origin"):
             origin = urlsplit(req.headers["Origin"]).netloc
             if origin and origin != req.host:
-                flask.g.rb_access = set_access(_anonymous())
+                flask.g.rb_access = set_access(anonymous())
                 return _refusal(SH006, "cross-site request refused",
                                 "Use the dashboard from its own address.")
         if req.path.startswith(self.open_paths):
-            flask.g.rb_access = set_access(_anonymous())
+            flask.g.rb_access = set_access(anonymous())
             return None
         result = self.classify()
         if isinstance(result, flask.Response):
-            flask.g.rb_access = set_access(_anonymous())
+            flask.g.rb_access = set_access(anonymous())
             return result
         flask.g.rb_access = set_access(result)
         if result.read_only:
@@ -248,46 +253,6 @@ def _access_error(err: RealbasisError) -> flask.Response:
     raise err
 
 
-# --------------------------------------------------------------------------- jobs
-
-
-def with_access(fn: Callable[..., Any]) -> Callable[..., Any]:
-    """Wrap a background-callback function so it runs under the access context of the
-    request that started it (carried in the job's callback context as ``rb_access``).
-    A job without one runs read-only."""
-
-    @functools.wraps(fn)
-    def run(*args: Any, **kwargs: Any) -> Any:
-        try:
-            info = dict(context_value.get().get("rb_access") or {})
-        except LookupError:
-            info = {}
-        ctx = AccessContext(info["role"], info.get("workspace_id"), info.get("actor", ""),
-                            link_id=info.get("link_id")) if info.get("role") in (
-            "editor", "reviewer") else _anonymous()
-        token = set_access(ctx)
-        try:
-            return fn(*args, **kwargs)
-        finally:
-            reset_access(token)
-
-    return run
-
-
-class AccessAwareMixin:
-    """Mix into a Dash background-callback manager: jobs inherit the caller's access."""
-
-    def make_job_fn(self, fn: Callable[..., Any], progress: Any, key: Any = None) -> Any:
-        return super().make_job_fn(with_access(fn), progress, key)  # type: ignore[misc]
-
-    def call_job_fn(self, key: Any, job_fn: Any, args: Any, context: Any) -> Any:
-        ctx = current_access()
-        context = AttributeDict(**dict(context))
-        context["rb_access"] = {"role": ctx.role, "workspace_id": ctx.workspace_id,
-                                "actor": ctx.actor, "link_id": ctx.link_id}
-        return super().call_job_fn(key, job_fn, args, context)  # type: ignore[misc]
-
-
 # --------------------------------------------------------------------------- install
 
 
@@ -300,11 +265,6 @@ WRITE_CONTROLS = ("IN_UPLOAD", "IN_ADD", "IN_KIND_APPLY", "IN_NEW_WORKSPACE", "R
 def _reviewer_layout(layout: Callable[[], Any], editor_only: set[str]) -> Callable[[], Any]:
     """The shell as a reviewer sees it: a read-only banner, editor-only screens and parts
     of screens (class EDITOR_ONLY_CLASS) hidden."""
-    from dash import html as dhtml
-
-    from . import ids
-    from .components import EDITOR_ONLY_CLASS
-
     hidden_ids = {ids.nav_button(k) for k in editor_only}
     write_ids = {getattr(ids, n) for n in WRITE_CONTROLS if hasattr(ids, n)}
 
@@ -347,8 +307,6 @@ def install(app: Dash, settings: Settings, store: WorkspaceStore) -> Gate:
     check_serving(settings)
     server = app.server
     if not server.secret_key:
-        from .jobs import secret_key
-
         server.secret_key = secret_key(settings)
     server.config.update(SESSION_COOKIE_HTTPONLY=True, SESSION_COOKIE_SAMESITE="Lax",
                          SESSION_COOKIE_NAME="realbasis_session")
@@ -364,15 +322,13 @@ def install(app: Dash, settings: Settings, store: WorkspaceStore) -> Gate:
     server.after_request(gate.after)
     server.teardown_request(gate.teardown)
 
-    rb = server.extensions.get("realbasis")
+    rb = find(app)
     if rb is not None:
         original = rb.resolve_workspace
 
         def resolve(search: str) -> Any:
             ctx = current_access()
             if ctx.role == "reviewer" and ctx.workspace_id:
-                from .data import WorkspaceRef
-
                 return WorkspaceRef(ctx.workspace_id, store.current_version(ctx.workspace_id))
             return original(search)
 

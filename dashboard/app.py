@@ -1,19 +1,19 @@
-"""The app factory: ``create_app(settings) -> Dash``.
+"""The app factory: ``create_app(settings, *, store=None) -> Dash``.
 
-Builds one Dash app over one :class:`~dashboard.data.DataAccess` (the workspace store
+The one module that builds the app, at the top of the dashboard's import graph (only
+:mod:`dashboard.wsgi` and the Celery worker entry :mod:`dashboard.celery_app` import it).
+It builds one Dash app over one :class:`~dashboard.data.DataAccess` (the workspace store
 plus a small per-app cache), the background-job manager of :mod:`dashboard.jobs`, the
-shell (header, navigation, one section per screen) and every screen found in
-:mod:`dashboard.screens`. When ``dashboard/access.py`` exists its
-``install(app, settings, store)`` is called last, so editor/reviewer enforcement wraps
-everything the screens registered.
+secret key of :mod:`dashboard.secret`, the shell (header, navigation, one section per
+screen) and every screen found in :mod:`dashboard.screens`, and attaches the
+:class:`~dashboard.context.AppContext` the screens' callbacks read. Last it calls
+:func:`dashboard.access.install`, so editor/reviewer enforcement wraps everything the
+screens registered.
 """
 
 from __future__ import annotations
 
-import importlib
-import importlib.util
 from collections.abc import Callable
-from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 from urllib.parse import parse_qs, urlencode
@@ -23,30 +23,15 @@ from dash import Dash, Input, Output, ctx, dcc, html, no_update
 from pipeline.settings import Settings, load_settings
 from pipeline.store import WorkspaceStore
 
-from . import ids, jobs
+from . import access, ids, jobs
+from .context import AppContext, attach, context
 from .data import DEMO_NAME, DataAccess, WorkspaceRef
 from .screens import ScreenInfo, discover
+from .secret import secret_key
 
 ASSETS = Path(__file__).resolve().parent / "assets"
 APP_TITLE = "realbasis"
 TAGLINE = "Nominal money, stated in real terms"
-
-
-@dataclass
-class AppContext:
-    """Per-app state shared by the callbacks of one app (one per worker process).
-
-    ``resolve_workspace(search) -> WorkspaceRef`` turns the page address's query string
-    into the workspace to show; the access layer may replace it (reviewer links)."""
-
-    settings: Settings
-    data: DataAccess
-    screens: tuple[ScreenInfo, ...]
-    resolve_workspace: Callable[[str], WorkspaceRef] = field(default=None)  # type: ignore[assignment]
-
-
-def context(app: Dash) -> AppContext:
-    return app.server.extensions["realbasis"]
 
 
 def default_resolver(data: DataAccess) -> Callable[[str], WorkspaceRef]:
@@ -191,7 +176,7 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
         serve_locally=True,
     )
     server = app.server
-    server.secret_key = jobs.secret_key(settings)
+    server.secret_key = secret_key(settings)
     # Uploads travel base64-encoded in JSON (4/3 of the file). Requests far above the
     # upload limit are cut off by Flask; files up to twice the limit still reach the
     # intake, which refuses them with a clear message (UI001).
@@ -199,12 +184,10 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
     server.register_error_handler(413, lambda _err: too_large_response(settings))
     rb = AppContext(settings, data, screens)
     rb.resolve_workspace = default_resolver(data)
-    server.extensions["realbasis"] = rb
+    attach(app, rb)
     app.layout = lambda: shell_layout(screens)
     _register_shell(app, screens)
     for screen in screens:
         screen.register(app)
-    if importlib.util.find_spec(f"{__package__}.access") is not None:
-        access = importlib.import_module(f"{__package__}.access")
-        access.install(app, settings, data.store)
+    access.install(app, settings, data.store)
     return app

@@ -88,7 +88,7 @@ def test_a_celery_worker_completes_the_workbook_download(celery_worker):
     from openpyxl import load_workbook
 
     from dashboard.app import create_app
-    from dashboard.celery_app import AccessCeleryManager
+    from dashboard.jobs import AccessCeleryManager
     from pipeline.settings import load_settings
 
     env, log = celery_worker

@@ -10,7 +10,8 @@ from typing import Any
 import pytest
 
 from dashboard import ids
-from dashboard.app import context, create_app
+from dashboard.app import create_app
+from dashboard.context import context
 from pipeline.cli import main
 from pipeline.settings import Settings
 

@@ -462,7 +462,7 @@ def test_kept_uploads_are_shared_files_with_checked_ids(access: DataAccess):
 
 
 def test_secret_key_is_generated_once_and_shared(tmp_path: Path):
-    from dashboard.jobs import secret_key
+    from dashboard.secret import secret_key
 
     s = Settings(data_dir=str(tmp_path))
     assert secret_key(s) == secret_key(s) and len(secret_key(s)) > 40

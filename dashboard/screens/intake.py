@@ -151,12 +151,11 @@ def _editor_part(workspace: Any, upload: Any, interpretation: Any) -> list[Any]:
 
 def upload_limit() -> int:
     """The upload limit of the app serving this page (Settings.max_upload_bytes)."""
-    import flask
+    from ..context import current
 
-    if flask.has_app_context():
-        rb = flask.current_app.extensions.get("realbasis")
-        if rb is not None:
-            return int(rb.settings.max_upload_bytes)
+    rb = current()
+    if rb is not None:
+        return int(rb.settings.max_upload_bytes)
     return int(Settings().max_upload_bytes)
 
 
@@ -355,7 +354,7 @@ def workspace_options(data: DataAccess) -> list[dict[str, str]]:
 
 
 def register(app: Dash) -> None:
-    from ..app import context
+    from ..context import context
 
     rb = context(app)
 

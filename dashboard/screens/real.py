@@ -196,7 +196,7 @@ def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
 
 
 def register(app: Dash) -> None:
-    from ..app import context
+    from ..context import context
 
     rb = context(app)
 

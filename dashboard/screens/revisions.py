@@ -113,7 +113,7 @@ def outputs(ws: Workspace, index: Any, old: Any, new: Any, series: Any, base: An
 
 
 def register(app: Dash) -> None:
-    from ..app import context
+    from ..context import context
 
     rb = context(app)
 

@@ -260,7 +260,7 @@ def layout() -> html.Div:
 def register(app: Dash) -> None:
     import flask
 
-    from ..app import context
+    from ..context import context
 
     rb = context(app)
 

@@ -159,7 +159,7 @@ def act(data: DataAccess, ref: WorkspaceRef, action: Callable[[Workspace], tuple
 
 
 def register(app: Dash) -> None:
-    from ..app import context
+    from ..context import context
 
     rb = context(app)
 

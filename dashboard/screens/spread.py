@@ -105,7 +105,7 @@ def outputs(ws: Workspace, series: str | None, deflators: list[str] | None, base
 
 
 def register(app: Dash) -> None:
-    from ..app import context
+    from ..context import context
 
     rb = context(app)
 
