@@ -89,3 +89,57 @@ def redis_url() -> str:
     if not _reachable(url, 6379):
         missing(f"Redis at {url} is not reachable", "RB_REQUIRE_SERVICES")
     return url
+
+
+# --------------------------------------------------------------------------- dashboard view models
+# Shared by the tests of the screens' view models (tests/test_view_*.py). Imports are
+# inside the fixtures so that loading this file imports neither the dashboard nor pandas.
+
+
+def monthly_series(name: str, values: list[float], start: str = "2023-01", kind: str = "flow",
+                   unit: str | None = "USD", status: list[str] | None = None,
+                   vintage: str | None = None):
+    """A monthly Series from plain values (invented numbers for plumbing tests)."""
+    import pandas as pd
+
+    from pipeline.model import MONTHLY, Series
+
+    idx = pd.period_range(start, periods=len(values), freq="M")
+    st = pd.Series(status, index=idx, dtype=object) if status else None
+    return Series(name, pd.Series(values, index=idx, dtype=float), MONTHLY, kind=kind,  # type: ignore[arg-type]
+                  unit=unit, status=st, vintage=vintage)
+
+
+@pytest.fixture()
+def access(tmp_path: Path):
+    """The dashboard's data access over a fresh store, with a 2,000-byte upload limit."""
+    from dashboard.data import DataAccess
+    from pipeline.settings import Settings
+
+    return DataAccess(Settings(data_dir=str(tmp_path), max_upload_bytes=2000))
+
+
+@pytest.fixture(scope="session")
+def demo(tmp_path_factory: pytest.TempPathFactory):
+    """The demo workspace (illustrative data of demo_data/), built once."""
+    from dashboard.data import DEMO_NAME
+    from dashboard.demo import build_demo_workspace
+    from pipeline.store import WorkspaceStore
+
+    d = tmp_path_factory.mktemp("demo")
+    return build_demo_workspace(WorkspaceStore(f"sqlite:///{d}/s.sqlite"), DEMO_NAME)
+
+
+@pytest.fixture()
+def small():
+    """Two years of a flat nominal series and two made-up indexes."""
+    from pipeline.model import Workspace
+
+    nominal = monthly_series("Sales", [100.0] * 12 + [103.0] * 12)
+    # index A rises 2 % between the years, index B 5 %.
+    a = monthly_series("Index A", [100.0] * 12 + [102.0] * 12, kind="index", unit="index",
+                       vintage="2024-12-31")
+    b = monthly_series("Index B", [100.0] * 12 + [105.0] * 12, kind="index", unit="index",
+                       status=["final"] * 18 + ["preliminary"] * 6, vintage="2024-12-31")
+    return Workspace("w1", "small", 3, series={"Sales": nominal},
+                     indexes={"Index A": {"2024-12-31": a}, "Index B": {"2024-12-31": b}})

@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import base64
 import dataclasses
-import math
 from pathlib import Path
 
 import numpy as np
@@ -22,7 +21,7 @@ from dashboard.data import DEMO_NAME, DataAccess, WorkspaceRef
 from dashboard.demo import build_demo_workspace
 from dashboard.screens import discover, intake, real, revisions, shelf, spread
 from pipeline.errors import RealbasisError
-from pipeline.model import MONTHLY, QUARTERLY, Frequency, Series, Workspace
+from pipeline.model import MONTHLY, Series, Workspace
 from pipeline.settings import Settings
 from pipeline.store import WorkspaceStore
 
@@ -159,47 +158,6 @@ def test_add_intake_files_indexes_by_vintage_and_money_by_name(small: Workspace)
 # --------------------------------------------------------------------------- choices
 
 
-def test_default_base_is_the_last_complete_year():
-    s = _monthly("S", [1.0] * 21, start="2024-01")  # to 2025-09
-    assert logic.default_base(s) == "2024"
-    q = Series("Q", pd.Series([1.0] * 8, index=pd.period_range("2023Q1", periods=8, freq="Q")),
-               QUARTERLY)
-    assert logic.default_base(q) == "2024"
-    fy = Frequency("FY", 7)
-    a = Series("F", pd.Series([1.0, 2.0], index=pd.period_range("2024", periods=2,
-                                                                  freq=fy.pandas_freq)), fy)
-    assert logic.default_base(a) == "FY2025"
-
-
-def test_automatic_frequency_follows_a_less_frequent_deflator():
-    s = _monthly("S", [1.0] * 12)
-    q = Series("D", pd.Series([1.0] * 4, index=pd.period_range("2023Q1", periods=4, freq="Q")),
-               QUARTERLY, kind="index")
-    assert logic.parse_frequency("auto", s, [q]) == QUARTERLY
-    assert logic.parse_frequency("auto", s, [_monthly("M", [1.0] * 3, kind="index")]) is None
-    assert logic.parse_frequency("FY-7") == Frequency("FY", 7)
-
-
-def test_total_sums_series_and_keeps_the_worst_status(small: Workspace):
-    other = _monthly("Other", [1.0] * 23 + [float("nan")],
-                     status=["final"] * 20 + ["projected"] * 4)
-    ws = dataclasses.replace(small, series={**small.series, "Other": other})
-    total = logic.pick_series(ws, logic.TOTAL)
-    assert total.values.iloc[0] == 101.0
-    assert math.isnan(total.values.iloc[-1])  # a part is missing: the total is missing
-    assert total.status is not None and total.status.iloc[-2] == "projected"
-    option = next(o for o in logic.series_options(ws) if o["value"].startswith(logic.TOTAL))
-    assert option["label"].startswith("Total of 2 series")
-    assert logic.pick_series(ws, option["value"]).values.iloc[0] == 101.0
-
-
-def test_series_are_cut_to_the_span_every_deflator_covers(small: Workspace):
-    short = _monthly("Short", [100.0] * 18, kind="index")
-    cut, note = logic.trim_to_cover(small.series["Sales"], [short])
-    assert cut.values.index[-1] == pd.Period("2024-06", "M")
-    assert note and "2023-01 to 2024-06" in note
-
-
 # --------------------------------------------------------------------------- real terms
 
 
@@ -259,35 +217,6 @@ def test_saved_choices_land_in_workspace_settings(demo: Workspace):
 
 
 # --------------------------------------------------------------------------- spread
-
-
-def test_verdict_words():
-    assert logic.verdict_text([0.01, 0.02, 0.03, 0.001, 0.2])[0].startswith(
-        "Real growth is positive under all 5 deflators")
-    assert logic.verdict_text([-0.01, -0.02])[0].startswith("Real growth is negative under all 2")
-    text, tone = logic.verdict_text([0.01, -0.02, float("nan")])
-    assert text.startswith("The sign depends on the deflator") and tone == "error"
-    assert "cannot be computed" in logic.verdict_text([float("nan")])[0]
-
-
-def test_spread_verdict_changes_with_the_deflators(small: Workspace):
-    # Nominal +3 %; index A +2 % -> real +0.98 %; index B +5 % -> real -1.9 %.
-    one = logic.spread(small, "Sales", ["Index A"], "2023", to="A")
-    both = logic.spread(small, "Sales", ["Index A", "Index B"], "2023", to="A")
-    assert one.verdict.startswith("Real growth is positive under the one deflator")
-    assert both.verdict.startswith("The sign depends on the deflator")
-    reals = {r["deflator"]: r["real"] for r in both.rows}
-    assert reals["Index A"] == pytest.approx(1.03 / 1.02 - 1)
-    assert reals["Index B"] == pytest.approx(1.03 / 1.05 - 1)
-    assert {r["deflator"]: r["status"] for r in both.rows}["Index B"] == "preliminary"
-
-
-def test_totals_are_offered_per_group_of_like_series(demo: Workspace):
-    totals = [o for o in logic.series_options(demo) if o["value"].startswith(logic.TOTAL)]
-    assert len(totals) == 2  # Harbourline's monthly segments, Tallmere's fiscal-year programs
-    fy_total = next(o["value"] for o in totals if "fiscal" in o["label"])
-    sp = logic.spread(demo, fy_total, ["Government consumption deflator"], "FY2025")
-    assert sp.title.startswith("Total of 4 series in constant FY2025 dollars")
 
 
 def test_spread_screen_outputs(demo: Workspace):
@@ -519,15 +448,6 @@ def test_without_the_demo_the_latest_workspace_opens(tmp_path: Path):
     assert resolve(f"?ws={other.id}").id == other.id
     assert resolve("?ws=unknown").id in {first.id, other.id}
     assert not any(w.name == DEMO_NAME for w in data.store.list())
-
-
-def test_base_follows_the_series_when_it_does_not_fit(demo: Workspace):
-    # A calendar year is not whole fiscal years (July start): the fiscal series gets its
-    # own last actual (final) fiscal year, not a proposed out-year.
-    assert logic.base_after_series_change(demo, "Bus operations", "2024") == "FY2026"
-    assert logic.base_after_series_change(demo, "Bus operations", "FY2025") is None
-    assert logic.base_after_series_change(demo, "Apparel revenue", "2024") is None
-    assert logic.base_after_series_change(demo, "Apparel revenue", "nonsense") == "2025"
 
 
 def test_intake_says_how_the_file_was_read(access: DataAccess):

@@ -11,8 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from dashboard.logic import problem_dict
 from dashboard.remedies import SCREEN
+from dashboard.screens._shared.view import problem_dict
 from pipeline.commands._remedies import CLI
 from pipeline.errors import REMEDIES, Problem, RealbasisError, fail
 from pipeline.labels import parse_label_column

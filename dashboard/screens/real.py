@@ -31,7 +31,8 @@ from ..components import (
 )
 from ..data import DataAccess, WorkspaceRef
 from ..figures import empty_figure, real_terms_figure
-from ._shared import register_base_follows_series, register_frequency_options
+from ._shared.callbacks import register_base_follows_series, register_frequency_options
+from ._shared.view import choose
 
 KEY = "real"
 TITLE = "Real terms"
@@ -105,16 +106,6 @@ def layout() -> html.Div:
         ], className="rb-details"),
         cautions_view(),
     )
-
-
-def choose(current: Any, options: list[dict[str, Any]], *preferred: Any) -> Any:
-    """Keep the current choice if still offered, else the first preferred one offered,
-    else the first option."""
-    values = [o["value"] for o in options]
-    for v in (current, *preferred):
-        if v in values:
-            return v
-    return values[0] if values else None
 
 
 def options_for(ws: Workspace, series: Any, deflator: Any) -> tuple[Any, ...]:

@@ -28,8 +28,8 @@ from ..components import (
 )
 from ..data import WorkspaceRef
 from ..figures import empty_figure, revisions_figure
-from ._shared import register_base_follows_series
-from .real import choose
+from ._shared.callbacks import register_base_follows_series
+from ._shared.view import choose
 
 KEY = "revisions"
 TITLE = "Revisions"

@@ -29,8 +29,8 @@ from ..components import (
 )
 from ..data import WorkspaceRef
 from ..figures import empty_figure, spread_figure
-from ._shared import register_base_follows_series, register_frequency_options
-from .real import choose
+from ._shared.callbacks import register_base_follows_series, register_frequency_options
+from ._shared.view import choose
 
 KEY = "spread"
 TITLE = "Deflator spread"

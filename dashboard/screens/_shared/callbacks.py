@@ -1,5 +1,7 @@
-"""Callbacks that several screens register in the same shape (not a screen itself: the
-leading underscore keeps it out of screen discovery)."""
+"""Callbacks that several screens register in the same shape, each with its own ids.
+
+Thin, like every callback: they parse values and call the shared view model
+(:mod:`dashboard.screens._shared.view`)."""
 
 from __future__ import annotations
 
@@ -10,13 +12,14 @@ from dash import Dash, Input, Output, State, no_update
 from pipeline.errors import RealbasisError
 from pipeline.model import Workspace
 
-from .. import ids, logic
-from ..data import WorkspaceRef
+from ... import ids
+from ...data import WorkspaceRef
+from . import view
 
 
 def register_base_follows_series(app: Dash, rb: Any, series_id: str, base_id: str) -> None:
     """When another series is chosen, keep the base if it is made of whole periods of that
-    series, else put the series' default base in the field (logic.base_after_series_change)."""
+    series, else put the series' default base in the field (view.base_after_series_change)."""
 
     @app.callback(Output(base_id, "value", allow_duplicate=True),
                   Input(series_id, "value"), State(base_id, "value"), State(ids.WORKSPACE, "data"),
@@ -25,22 +28,22 @@ def register_base_follows_series(app: Dash, rb: Any, series_id: str, base_id: st
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        new = logic.base_after_series_change(rb.data.load(r), series, base)
+        new = view.base_after_series_change(rb.data.load(r), series, base)
         return no_update if new is None else new
 
 
 def register_frequency_options(app: Dash, rb: Any, series_id: str, freq_id: str) -> None:
-    """Offer the result frequencies the chosen series can take (logic.frequency_options)."""
+    """Offer the result frequencies the chosen series can take (view.frequency_options)."""
 
     @app.callback(Output(freq_id, "options"), Input(series_id, "value"),
                   State(ids.WORKSPACE, "data"))
     def _freqs(series: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None or not series:
-            return logic.frequency_options(Workspace("", ""), None)
+            return view.frequency_options(Workspace("", ""), None)
         ws = rb.data.load(r)
         try:
-            s = logic.pick_series(ws, series)
+            s = view.pick_series(ws, series)
         except RealbasisError:
             s = None
-        return logic.frequency_options(ws, s)
+        return view.frequency_options(ws, s)

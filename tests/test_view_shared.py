@@ -1,0 +1,122 @@
+"""The view model the screens share (dashboard/screens/_shared/view.py), without a browser.
+
+Numbers shown on screen come from the engine; these tests check that the dashboard asks
+the engine the right question and shows the answer faithfully (base stated, statuses
+kept, verdicts right). The hand-made examples use the textbook definitions cited beside
+each check; the demo data is used only to exercise the screens.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import pandas as pd
+import pytest
+from conftest import monthly_series
+
+from dashboard.screens._shared import view
+from pipeline.errors import RealbasisError
+from pipeline.model import QUARTERLY, Frequency, Series, Workspace
+
+
+def test_default_base_is_the_last_complete_year():
+    s = monthly_series("S", [1.0] * 21, start="2024-01")  # to 2025-09
+    assert view.default_base(s) == "2024"
+    q = Series("Q", pd.Series([1.0] * 8, index=pd.period_range("2023Q1", periods=8, freq="Q")),
+               QUARTERLY)
+    assert view.default_base(q) == "2024"
+    fy = Frequency("FY", 7)
+    a = Series("F", pd.Series([1.0, 2.0], index=pd.period_range("2024", periods=2,
+                                                                  freq=fy.pandas_freq)), fy)
+    assert view.default_base(a) == "FY2025"
+
+
+def test_automatic_frequency_follows_a_less_frequent_deflator():
+    s = monthly_series("S", [1.0] * 12)
+    q = Series("D", pd.Series([1.0] * 4, index=pd.period_range("2023Q1", periods=4, freq="Q")),
+               QUARTERLY, kind="index")
+    assert view.parse_frequency("auto", s, [q]) == QUARTERLY
+    assert view.parse_frequency("auto", s, [monthly_series("M", [1.0] * 3, kind="index")]) is None
+    assert view.parse_frequency("FY-7") == Frequency("FY", 7)
+
+
+def test_total_sums_series_and_keeps_the_worst_status(small: Workspace):
+    other = monthly_series("Other", [1.0] * 23 + [float("nan")],
+                     status=["final"] * 20 + ["projected"] * 4)
+    ws = dataclasses.replace(small, series={**small.series, "Other": other})
+    total = view.pick_series(ws, view.TOTAL)
+    assert total.values.iloc[0] == 101.0
+    assert math.isnan(total.values.iloc[-1])  # a part is missing: the total is missing
+    assert total.status is not None and total.status.iloc[-2] == "projected"
+    option = next(o for o in view.series_options(ws) if o["value"].startswith(view.TOTAL))
+    assert option["label"].startswith("Total of 2 series")
+    assert view.pick_series(ws, option["value"]).values.iloc[0] == 101.0
+
+
+def test_series_are_cut_to_the_span_every_deflator_covers(small: Workspace):
+    short = monthly_series("Short", [100.0] * 18, kind="index")
+    cut, note = view.trim_to_cover(small.series["Sales"], [short])
+    assert cut.values.index[-1] == pd.Period("2024-06", "M")
+    assert note and "2023-01 to 2024-06" in note
+
+
+def test_verdict_words():
+    assert view.verdict_text([0.01, 0.02, 0.03, 0.001, 0.2])[0].startswith(
+        "Real growth is positive under all 5 deflators")
+    assert view.verdict_text([-0.01, -0.02])[0].startswith("Real growth is negative under all 2")
+    text, tone = view.verdict_text([0.01, -0.02, float("nan")])
+    assert text.startswith("The sign depends on the deflator") and tone == "error"
+    assert "cannot be computed" in view.verdict_text([float("nan")])[0]
+
+
+def test_spread_verdict_changes_with_the_deflators(small: Workspace):
+    # Nominal +3 %; index A +2 % -> real +0.98 %; index B +5 % -> real -1.9 %.
+    one = view.spread(small, "Sales", ["Index A"], "2023", to="A")
+    both = view.spread(small, "Sales", ["Index A", "Index B"], "2023", to="A")
+    assert one.verdict.startswith("Real growth is positive under the one deflator")
+    assert both.verdict.startswith("The sign depends on the deflator")
+    reals = {r["deflator"]: r["real"] for r in both.rows}
+    assert reals["Index A"] == pytest.approx(1.03 / 1.02 - 1)
+    assert reals["Index B"] == pytest.approx(1.03 / 1.05 - 1)
+    assert {r["deflator"]: r["status"] for r in both.rows}["Index B"] == "preliminary"
+
+
+def test_totals_are_offered_per_group_of_like_series(demo: Workspace):
+    totals = [o for o in view.series_options(demo) if o["value"].startswith(view.TOTAL)]
+    assert len(totals) == 2  # Harbourline's monthly segments, Tallmere's fiscal-year programs
+    fy_total = next(o["value"] for o in totals if "fiscal" in o["label"])
+    sp = view.spread(demo, fy_total, ["Government consumption deflator"], "FY2025")
+    assert sp.title.startswith("Total of 4 series in constant FY2025 dollars")
+
+
+def test_base_follows_the_series_when_it_does_not_fit(demo: Workspace):
+    # A calendar year is not whole fiscal years (July start): the fiscal series gets its
+    # own last actual (final) fiscal year, not a proposed out-year.
+    assert view.base_after_series_change(demo, "Bus operations", "2024") == "FY2026"
+    assert view.base_after_series_change(demo, "Bus operations", "FY2025") is None
+    assert view.base_after_series_change(demo, "Apparel revenue", "2024") is None
+    assert view.base_after_series_change(demo, "Apparel revenue", "nonsense") == "2025"
+
+
+def test_a_choice_is_kept_while_it_is_offered():
+    options = [{"label": "A", "value": "a"}, {"label": "B", "value": "b"}]
+    assert view.choose("b", options, "a") == "b"
+    assert view.choose("gone", options, "b") == "b"  # the saved choice next
+    assert view.choose("gone", options, "also gone") == "a"  # else the first offered
+    assert view.choose("a", []) is None
+
+
+def test_the_base_field_shows_the_typed_base_else_the_saved_one(small: Workspace):
+    saved = dataclasses.replace(small, settings={"base": "2023"})
+    assert view.shown_base(saved, "2024") == "2024"
+    assert view.shown_base(saved, None) == "2023" and view.shown_base(saved, "") == "2023"
+    assert view.shown_base(small, None) == ""
+
+
+def test_problems_are_plain_data_with_the_fix_in_the_dashboards_words():
+    with pytest.raises(RealbasisError) as err:
+        view.pick_index(Workspace("w", "w"), "Missing index")
+    (d,) = view.error_dicts(err.value)
+    assert d["code"] == "UI005" and "Missing index" in d["message"]
+    assert d["fix"].startswith("Choose another deflator") and isinstance(d["where_text"], str)
