@@ -13,14 +13,14 @@ import binascii
 import calendar
 import dataclasses
 import io
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
 import pandas as pd
 
 from pipeline.errors import Problem, RealbasisError, fail, register
-from pipeline.model import KINDS, Frequency, Series, Workspace
+from pipeline.model import KINDS, Series, Workspace
 
 from .screens._shared.view import (  # noqa: F401  (moving out of this module)
     MEASURES,
@@ -244,177 +244,7 @@ def add_intake(ws: Workspace, series: Sequence[Series]) -> tuple[Workspace, str]
 # --------------------------------------------------------------------------- workspace views
 
 
-
-
 # --------------------------------------------------------------------------- real terms
-
-
-@dataclass(frozen=True)
-class Computed:
-    """Nominal and real values of one series under one deflator, ready for the views."""
-
-    frame: pd.DataFrame            # period (label), nominal, real, deflator_index, status
-    nominal: pd.Series             # on a PeriodIndex (for growth)
-    real: pd.Series
-    frequency: Frequency
-    base_label: str
-    dollars_label: str
-    unit: str
-    method: tuple[str, ...]
-    warnings: tuple[Problem, ...]
-    series_name: str
-    deflator_name: str
-    vintage: str
-    left_out: str | None = None    # periods of the series the deflator does not reach
-
-
-def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
-    return Series(name=name, values=values.astype(float), frequency=frequency,
-                  kind="flow" if like.kind == "index" else like.kind, unit=like.unit)
-
-
-def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None, *,
-                 to: str | None = "auto", sa: bool = False, vintage: str | None = None
-                 ) -> Computed:
-    """Deflate one series (or the total) by one deflator through the engine; optionally
-    seasonally adjust nominal and real (after deflation) through pipeline.seasonal."""
-    from pipeline.deflate import deflate
-
-    original = pick_series(ws, series_key)
-    d = pick_index(ws, deflator, vintage)
-    s, cut = trim_to_cover(original, [d])
-    base_text = base_for(s, base)
-    res = deflate([s], [d], base_text, to=parse_frequency(to, s, [d]))
-    nominal = res.nominal_series(s.name)
-    real = res.real_series(s.name, 0)
-    status = res.status_frame(0)[s.name].reindex(nominal.index)
-    index_used = res.index_frame(0)[s.name].reindex(nominal.index)
-    method = list(res.method_note()) + ([cut] if cut else [])
-    warnings = list(res.warnings)
-    if sa:
-        from pipeline.seasonal import adjust
-
-        adj_n = adjust(_money_series(nominal, s, res.frequency, f"{s.name} (nominal)"))
-        adj_r = adjust(_money_series(real, s, res.frequency, f"{s.name} (real)"))
-        nominal = adj_n.adjusted.values.reindex(nominal.index)
-        real = adj_r.adjusted.values.reindex(real.index)
-        method.append("Seasonal adjustment after deflation: the nominal and the real series "
-                      "were each adjusted the same way.")
-        method.extend(adj_r.method_note())
-        warnings.extend(adj_n.warnings)
-        warnings.extend(adj_r.warnings)
-    frame = pd.DataFrame({
-        "period": res.frequency.labels(nominal.index),
-        "nominal": nominal.to_numpy(), "real": real.to_numpy(),
-        "deflator_index": index_used.to_numpy(), "status": status.astype(str).to_numpy(),
-    })
-    return Computed(frame, nominal, real, res.frequency, res.base_label, res.dollars_label,
-                    s.unit or "unit not stated", tuple(method), tuple(warnings), s.name,
-                    d.name, d.vintage or "",
-                    left_out_text(ws, original, s, d) if cut else None)
-
-
-def _covers(index: Series, s: Series) -> bool:
-    """Whether ``index`` has values from the first to the last value of ``s``."""
-    iv, sv = index.values.dropna(), s.values.dropna()
-    return (not iv.empty and not sv.empty and iv.index[0].start_time <= sv.index[0].start_time
-            and iv.index[-1].end_time >= sv.index[-1].end_time)
-
-
-def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Series
-                  ) -> str | None:
-    """Which periods of the series are not shown because the deflator does not reach
-    them (e.g. a budget's projected out-years), and which deflators of the workspace
-    would show them. None when nothing was left out."""
-    values = original.values.dropna()
-    kept_index = kept.values.dropna().index
-    dropped = values.index.difference(kept_index)
-    if dropped.empty:
-        return None
-    label = original.frequency.label
-    spans = []
-    for part in (dropped[dropped < kept_index[0]], dropped[dropped > kept_index[-1]]):
-        if len(part):
-            spans.append(label(part[0]) if len(part) == 1 else f"{label(part[0])}–{label(part[-1])}")
-    status = (original.status.reindex(dropped).astype(str)
-              if original.status is not None else pd.Series([], dtype=str))
-    what = " (projected values)" if (status == "projected").all() and len(status) else ""
-    ends = deflator.values.dropna()
-    text = (f"{' and '.join(spans)}{what} of {original.name} are not shown: {deflator.name} "
-            f"runs only from {deflator.frequency.label(ends.index[0])} to "
-            f"{deflator.frequency.label(ends.index[-1])}.")
-    covering = [name for name in sorted(ws.indexes)
-                if name != deflator.name and _covers(pick_index(ws, name), original)]
-    if covering:
-        return (text + " To see them in real terms choose a deflator that reaches them ("
-                + ", ".join(covering[:3]) + ") or project this one on the Deflator shelf.")
-    return text + " To see them in real terms project the index on the Deflator shelf."
-
-
-def real_title(c: Computed, *, sa: bool = False) -> str:
-    adj = ", seasonally adjusted" if sa else ""
-    return (f"{c.series_name} in {c.dollars_label} ({c.unit}{adj}), "
-            f"deflated by {c.deflator_name}")
-
-
-def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency, *,
-                   annualise: bool = True) -> list[dict[str, Any]]:
-    """Nominal, price and real growth by several measures (rates as fractions).
-
-    Every rate comes from pipeline.growth; price growth is that of the implicit
-    deflator 100 x nominal / real, so (1 + nominal) = (1 + real)(1 + price) exactly.
-    ``annualise=False`` leaves out the annualised period-on-period rate (common practice:
-    annualising one month's change of data that is not seasonally adjusted misleads)."""
-    from pipeline import growth
-
-    price = 100.0 * nominal / real
-    both = nominal.dropna().index.intersection(real.dropna().index)
-    rows: list[dict[str, Any]] = []
-    if len(both) < 2:
-        return rows
-    last, first = both[-1], both[0]
-    lab = frequency.label
-
-    def add(measure: str, fn: Callable[[pd.Series], float]) -> None:
-        vals = {k: fn(v) for k, v in (("nominal", nominal), ("price", price), ("real", real))}
-        rows.append({"measure": measure, **vals})
-
-    def at_last(g: Any) -> float:
-        v = g.values.get(last, float("nan"))
-        return float(v)
-
-    add(f"{lab(last)} on {lab(last - 1)}",
-        lambda v: at_last(growth.period_on_period(v, frequency)))
-    if frequency.periods_per_year > 1 and annualise:
-        add(f"{lab(last)} on {lab(last - 1)}, annualised",
-            lambda v: at_last(growth.annualised(v, frequency)))
-    if frequency.periods_per_year > 1 and (last - frequency.periods_per_year) in both:
-        add(f"{lab(last)} on a year earlier",
-            lambda v: at_last(growth.year_on_year(v, frequency)))
-    add(f"compound annual rate {lab(first)} to {lab(last)}",
-        lambda v: float(growth.cagr(v, first, last, frequency).value))
-    add(f"cumulative {lab(first)} to {lab(last)}",
-        lambda v: at_last(growth.cumulative(v, frequency, start=first)))
-    return rows
-
-
-def recent_rows(c: Computed, n: int = 8) -> list[dict[str, Any]]:
-    """The latest periods: levels, growth on a year earlier, status."""
-    from pipeline import growth
-
-    f = c.frequency
-    if f.periods_per_year > 1:
-        gn = growth.year_on_year(c.nominal, f).values
-        gr = growth.year_on_year(c.real, f).values
-    else:
-        gn = growth.period_on_period(c.nominal, f).values
-        gr = growth.period_on_period(c.real, f).values
-    rows = []
-    for p in c.nominal.index[-n:][::-1]:
-        rows.append({"period": f.label(p), "nominal": c.nominal.get(p), "real": c.real.get(p),
-                     "g_nominal": gn.get(p), "g_real": gr.get(p),
-                     "status": c.frame.set_index("period")["status"].get(f.label(p), "")})
-    return rows
 
 
 # --------------------------------------------------------------------------- deflator spread
@@ -619,34 +449,4 @@ def build_cost_index(ws: Workspace, name: str | None, components: Sequence[str],
 
 # --------------------------------------------------------------------------- batch seasonal adjustment
 
-SA_METHODS = {"stl": "STL", "stl-robust": "STL, robust to outliers",
-              "classical": "classical decomposition (moving averages)",
-              "x13": "X-13ARIMA-SEATS (needs the external program)"}
-SA_SUFFIX = " (seasonally adjusted)"
 
-
-def adjust_all(ws: Workspace, method: str, progress: ProgressFn | None = None, *,
-               x13_path: str | None = None) -> tuple[Workspace, list[str]]:
-    """Seasonally adjust every monthly and quarterly money series of the workspace
-    (pipeline.seasonal.adjust_many) and add each result as a new series named
-    '<name> (seasonally adjusted)'. Annual series are never adjusted."""
-    from pipeline.seasonal import adjust_many
-
-    eligible = [s for name, s in ws.series.items()
-                if s.frequency.code in ("M", "Q") and not name.endswith(SA_SUFFIX)]
-    if not eligible:
-        raise fail(UI005, "no monthly or quarterly series to adjust",
-                   expected="monthly or quarterly money series",
-                   found=f"{len(ws.series):,} series, none monthly or quarterly",
-                   fix="Annual and fiscal-year data are never seasonally adjusted.")
-    adjs = adjust_many(eligible, method, progress=progress, x13_path=x13_path)  # type: ignore[arg-type]
-    money = dict(ws.series)
-    for a in adjs:
-        name = a.original.name + SA_SUFFIX
-        money[name] = dataclasses.replace(a.adjusted, name=name)
-    lines = [f"Added {len(adjs):,} seasonally adjusted series ({SA_METHODS.get(method, method)}); "
-             "the originals are kept.", *adjs[0].method_note()]
-    warned = sum(len(a.warnings) for a in adjs)
-    if warned:
-        lines.append(f"{warned:,} note(s) from the adjustment; see each series' result.")
-    return dataclasses.replace(ws, series=money), lines

@@ -1,0 +1,20 @@
+"""Real terms: one series (or a total) in nominal and constant dollars of a stated base.
+
+The title states the base ("in constant 2024 dollars"); the growth table splits nominal
+growth exactly into price and real growth; the preliminary stretch is shaded and the
+projected stretch dashed; seasonal adjustment can be switched on (after deflation).
+
+``layout.py`` builds the page, ``callbacks.py`` registers the callbacks, ``view.py`` holds
+the view model they call.
+"""
+
+from __future__ import annotations
+
+from .callbacks import register
+from .layout import layout
+
+KEY = "real"
+TITLE = "Real terms"
+ORDER = 30
+
+__all__ = ["KEY", "ORDER", "TITLE", "layout", "register"]

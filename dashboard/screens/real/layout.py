@@ -1,0 +1,63 @@
+"""The Real terms page (pure: no data; the callbacks fill it)."""
+
+from __future__ import annotations
+
+from dash import dcc, html
+
+from pipeline.model import Workspace
+
+from ... import ids
+from ...components import cautions_view, dropdown, field, progress_bar, screen
+from ...figures import empty_figure
+from .._shared.view import frequency_options
+from .view import SA_METHODS
+
+
+def layout() -> html.Div:
+    controls = html.Div([
+        field("Series", dropdown(ids.RT_SERIES, placeholder="Choose a series"), ids.RT_SERIES),
+        field("Deflator", dropdown(ids.RT_DEFLATOR, placeholder="Choose a price index"),
+              ids.RT_DEFLATOR),
+        field("Base period", dcc.Input(id=ids.RT_BASE, type="text", debounce=True,
+                                       placeholder="e.g. 2024, FY2025, 2024Q1",
+                                       className="rb-input"), ids.RT_BASE,
+              hint="One period or a range such as 2024-01..2024-12; empty = last full year."),
+        field("Show as", dcc.Dropdown(id=ids.RT_FREQ, options=frequency_options(Workspace("", ""), None),
+                                      value="auto", clearable=False,
+                                      className="rb-dropdown"), ids.RT_FREQ),
+        field("Seasonal adjustment",
+              dcc.Checklist(id=ids.RT_SA, options=[{"label": " Seasonally adjust (STL, after "
+                                                            "deflation)", "value": "sa"}],
+                            value=[], className="rb-check",
+                            inline=True, inputStyle={"marginRight": "6px"}), ids.RT_SA),
+        html.Div([html.Button("Save these choices to the workspace", id=ids.RT_SAVE,
+                              n_clicks=0, type="button", className="rb-button"),
+                  html.Span(id=ids.RT_SAVED, role="status")], className="rb-field"),
+    ], className="rb-controls")
+    return screen(
+        "Real terms",
+        "A nominal series and the same series in constant dollars of the base period you "
+        "choose, with growth split exactly into price and real growth.",
+        controls,
+        html.H3(id=ids.RT_TITLE, className="rb-result-title"),
+        dcc.Loading(dcc.Graph(id=ids.RT_FIGURE, figure=empty_figure("Loading…"),
+                              config={"displaylogo": False, "responsive": True},
+                              className="rb-graph", style={"height": "460px"}), type="dot"),
+        html.Div(id=ids.RT_WARNINGS),
+        html.Div(id=ids.RT_GROWTH),
+        html.Div(id=ids.RT_METHOD),
+        html.Details([
+            html.Summary("Seasonally adjust every monthly and quarterly series (a background job)"),
+            html.Div([
+                field("Method", dcc.Dropdown(id=ids.RT_SA_METHOD, value="stl", clearable=False,
+                                             options=[{"label": w, "value": k}
+                                                      for k, w in SA_METHODS.items()],
+                                             className="rb-dropdown"), ids.RT_SA_METHOD),
+                html.Div(html.Button("Adjust them all", id=ids.RT_SA_ALL, n_clicks=0,
+                                     type="button", className="rb-button"), className="rb-field"),
+            ], className="rb-controls"),
+            progress_bar(ids.RT_SA_PROGRESS),
+            html.Div(id=ids.RT_SA_MESSAGE, role="status"),
+        ], className="rb-details"),
+        cautions_view(),
+    )
