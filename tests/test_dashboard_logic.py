@@ -19,7 +19,7 @@ import pytest
 from dashboard import components, figures, logic
 from dashboard.data import DEMO_NAME, DataAccess, WorkspaceRef
 from dashboard.demo import build_demo_workspace
-from dashboard.screens import discover, intake, revisions, shelf, spread
+from dashboard.screens import discover, intake, revisions, shelf
 from dashboard.screens.real import view as real_view
 from pipeline.errors import RealbasisError
 from pipeline.model import MONTHLY, Series, Workspace
@@ -163,18 +163,6 @@ def test_add_intake_files_indexes_by_vintage_and_money_by_name(small: Workspace)
 
 
 # --------------------------------------------------------------------------- spread
-
-
-def test_spread_screen_outputs(demo: Workspace):
-    verdict, title, fig, _growth, _warn, _method = spread.outputs(
-        demo, "Rail operations", ["Fixed-basket consumer index", "Chained consumer index",
-                                  "Government consumption deflator"], "FY2025", "auto", "cagr")
-    assert "constant FY2025 dollars" in title
-    assert "deflator" in str(verdict.to_plotly_json())
-    band = [t for t in fig.data if getattr(t, "fill", None) == "tonexty"]
-    assert band, "the band between the deflators is drawn"
-    verdict, *_ = spread.outputs(demo, "Rail operations", [], "FY2025", "auto", "cagr")
-    assert "Choose a series" in str(verdict.to_plotly_json())
 
 
 # --------------------------------------------------------------------------- revisions
