@@ -19,7 +19,7 @@ from typing import Any
 
 import pandas as pd
 
-from pipeline.errors import Problem, RealbasisError, fail, register
+from pipeline.errors import RealbasisError, fail, register
 from pipeline.model import KINDS, Series, Workspace
 
 from .screens._shared.view import (  # noqa: F401  (moving out of this module)
@@ -251,69 +251,6 @@ def add_intake(ws: Workspace, series: Sequence[Series]) -> tuple[Workspace, str]
 
 
 # --------------------------------------------------------------------------- revisions
-
-
-def revisable_indexes(ws: Workspace) -> list[dict[str, str]]:
-    """Indexes held in two or more vintages."""
-    return [{"label": f"{name} ({len(v):,} vintages)", "value": name}
-            for name, v in ws.indexes.items() if len(v) > 1]
-
-
-def vintage_options(ws: Workspace, name: str | None) -> list[dict[str, str]]:
-    if not name or name not in ws.indexes:
-        return []
-    return [{"label": (v or "vintage not stated") + f" ({stretch_text(s)})", "value": v}
-            for v, s in sorted(ws.indexes[name].items())]
-
-
-@dataclass(frozen=True)
-class Revisions:
-    comparison: Any          # pipeline.revisions.VintageComparison
-    impact: Any              # pipeline.revisions.RevisionImpact
-    table: pd.DataFrame      # impact rows of the chosen series
-    moved: list[dict[str, Any]]
-    summary: list[str]
-    title: str
-    unit: str
-    method: tuple[str, ...]
-    warnings: tuple[Problem, ...]
-
-
-def revisions(ws: Workspace, index: str, old: str, new: str, series_key: str,
-              base: str | None, *, to: str | None = "auto") -> Revisions:
-    """Two vintages of an index and what moved in the real figures (pipeline.revisions)."""
-    from pipeline.revisions import compare_vintages, revision_impact
-
-    if old == new:
-        raise fail(UI005, "the same vintage is chosen twice", expected="two different vintages",
-                   found=old or "vintage not stated", fix="Choose an earlier and a later vintage.")
-    o, n = pick_index(ws, index, old), pick_index(ws, index, new)
-    s = pick_series(ws, series_key)
-    cmp = compare_vintages(o, n)
-    impact = revision_impact([s], o, n, base_for(s, base), to=parse_frequency(to, s, [n]))
-    t = impact.table[impact.table["series"] == s.name].reset_index(drop=True)
-    changed = t[t["real_change"].abs() > 1e-9]
-    moved = changed.iloc[::-1].head(24).to_dict("records")
-    unit = s.unit or "unit not stated"
-    summary = [
-        f"{cmp.revised:,} index value(s) revised between {old or 'the undated vintage'} and "
-        f"{new or 'the undated vintage'}; {cmp.added:,} added; {cmp.finalised:,} turned final.",
-    ]
-    if cmp.largest is not None:
-        summary.append(f"Largest index revision: {cmp.largest[1]:+,.3f} points in "
-                       f"{cmp.largest[0]}.")
-    if len(changed):
-        big = changed.loc[changed["real_change"].abs().idxmax()]
-        summary.append(f"{len(changed):,} real value(s) of {s.name} moved; the largest move is "
-                       f"{big['real_change']:+,.1f} {unit} ({big['real_change_pct']:+,.2f} %) "
-                       f"in {big['period']}.")
-    else:
-        summary.append(f"No real value of {s.name} moved.")
-    title = (f"{s.name} in constant {impact.base} dollars under two vintages of {index} "
-             f"({unit})")
-    return Revisions(cmp, impact, t, moved, summary, title, unit,
-                     (*cmp.method_note(), *impact.method_note()),
-                     (*cmp.warnings, *impact.warnings))
 
 
 # --------------------------------------------------------------------------- deflator shelf

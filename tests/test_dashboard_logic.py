@@ -12,14 +12,13 @@ import base64
 import dataclasses
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 import pytest
 
 from dashboard import components, figures, logic
 from dashboard.data import DEMO_NAME, DataAccess, WorkspaceRef
 from dashboard.demo import build_demo_workspace
-from dashboard.screens import discover, intake, revisions, shelf
+from dashboard.screens import discover, intake, shelf
 from dashboard.screens.real import view as real_view
 from pipeline.errors import RealbasisError
 from pipeline.model import MONTHLY, Series, Workspace
@@ -166,22 +165,6 @@ def test_add_intake_files_indexes_by_vintage_and_money_by_name(small: Workspace)
 
 
 # --------------------------------------------------------------------------- revisions
-
-
-def test_revisions_screen_reports_what_moved(demo: Workspace):
-    _opts, old, new = revisions.vintages_for(demo, "Chained consumer index")
-    assert (old, new) == ("2026-04-15", "2026-10-15")
-    rv = logic.revisions(demo, "Chained consumer index", old, new, "Apparel revenue", "2024")
-    assert rv.comparison.revised > 0
-    moved = pd.DataFrame(rv.moved)
-    # the change shown is later minus earlier, period by period (pipeline.revisions)
-    assert np.allclose(moved["real_change"], moved["real_new"] - moved["real_old"])
-    summary, _fig, moved_table, _warn, _method = revisions.outputs(demo, "Chained consumer index", old,
-                                                           new, "Apparel revenue", "2024")
-    assert "moved" in str(summary.to_plotly_json())
-    assert "2026-03" in str(moved_table.to_plotly_json())
-    with pytest.raises(RealbasisError):
-        logic.revisions(demo, "Chained consumer index", new, new, "Apparel revenue", "2024")
 
 
 # --------------------------------------------------------------------------- shelf
