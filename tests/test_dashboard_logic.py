@@ -18,7 +18,7 @@ import pytest
 from dashboard import components, figures, logic
 from dashboard.data import DEMO_NAME, DataAccess, WorkspaceRef
 from dashboard.demo import build_demo_workspace
-from dashboard.screens import discover, intake, shelf
+from dashboard.screens import discover, intake
 from dashboard.screens.real import view as real_view
 from pipeline.errors import RealbasisError
 from pipeline.model import MONTHLY, Series, Workspace
@@ -168,59 +168,6 @@ def test_add_intake_files_indexes_by_vintage_and_money_by_name(small: Workspace)
 
 
 # --------------------------------------------------------------------------- shelf
-
-
-def test_shelf_rows_show_vintages_and_stretches(demo: Workspace):
-    rows = [r for r in logic.shelf_rows(demo) if r["name"] == "Chained consumer index"]
-    assert {r["vintage"] for r in rows} == {"2026-10-15", "2026-04-15"}
-    latest = next(r for r in rows if r["latest"] == "yes")
-    assert latest["status"] == "preliminary 2025-11–2026-09"
-
-
-def test_rebase_makes_the_base_average_100(small: Workspace):
-    # I'(t) = 100 * I(t) / mean(I over the base period) (ILO/IMF CPI Manual 2004, ch. 9;
-    # DESIGN.md): Index B averages 105 over 2024.
-    ws, _lines = logic.rebase_index(small, "Index B", "2024")
-    s = logic.pick_index(ws, "Index B (2024=100)")
-    assert s.values["2024"].mean() == pytest.approx(100.0)
-    assert s.values.iloc[0] == pytest.approx(100.0 * 100.0 / 105.0)
-    assert "Index B" in ws.indexes  # the original is kept
-
-
-def test_project_and_link_add_new_indexes(small: Workspace):
-    ws, lines = logic.project_index(small, "Index A", 2.0, "2025-12")
-    p = logic.pick_index(ws, "Index A projected at 2 % a year")
-    assert p.values.index[-1] == pd.Period("2025-12", "M")
-    assert p.status_or_final().iloc[-1] == "projected"
-    # twelve projected months compound to the annual rate (pipeline.projection)
-    assert p.values.iloc[-1] / p.values.iloc[-13] == pytest.approx(1.02)
-    ws, lines = logic.link_indexes(small, "Index A", "Index B", "2024-12")
-    assert "factor" in lines[0]
-    with pytest.raises(RealbasisError):
-        logic.project_index(small, "Index A", None, "2025")
-
-
-def test_own_cost_index_from_components_and_weights(demo: Workspace):
-    weights = str(demo.settings["cost_weights"])
-    comps = ["Goods purchased", "Wages and benefits", "Rent and occupancy", "Freight and energy"]
-    ws, lines = logic.build_cost_index(demo, "Harbourline costs", comps, weights, "fixed")
-    s = logic.pick_index(ws, "Harbourline costs")
-    assert s.kind == "index" and s.values.notna().sum() > 12
-    assert any("Fixed weights" in line for line in lines)
-    with pytest.raises(RealbasisError):
-        logic.build_cost_index(demo, "x", comps[:1], weights, "fixed")
-
-
-def test_shelf_action_saves_a_new_version(access: DataAccess, small: Workspace):
-    ws = access.create("shelf test")
-    ws = access.save(dataclasses.replace(ws, series=small.series, indexes=small.indexes),
-                     action="setup")
-    ref, message, _method = shelf.act(access, WorkspaceRef(ws.id, ws.version),
-                                     lambda w: logic.rebase_index(w, "Index A", "2024"), "rebase")
-    assert ref is not None and ref.version == ws.version + 1
-    ref2, message, _ = shelf.act(access, WorkspaceRef(ws.id, ws.version),
-                                 lambda w: logic.rebase_index(w, "Index A", "1990"), "rebase")
-    assert ref2 is None and "IX001" in str(message.to_plotly_json())
 
 
 # --------------------------------------------------------------------------- pieces
@@ -476,12 +423,3 @@ def test_upload_limit_message_names_the_limit():
     assert "REALBASIS_MAX_UPLOAD_BYTES" in p.fix
 
 
-def test_index_pickers_name_the_vintage_used_when_several_are_held(demo: Workspace):
-    # The demo holds two vintages of the chained consumer index; pickers act on the latest,
-    # and the label must say which one (common practice: state the vintage used).
-    opts = {o["value"]: o["label"] for o in logic.index_options(demo)}
-    assert opts["Chained consumer index"] == (
-        "Chained consumer index (latest vintage, 2026-10-15)")
-    assert opts["Fixed-basket consumer index"] == "Fixed-basket consumer index"
-    items = logic.figure_items(demo, ["Chained consumer index"])
-    assert items[0]["name"] == "Chained consumer index (latest vintage, 2026-10-15)"

@@ -1,0 +1,223 @@
+"""The Deflator shelf's view model: plain functions, tested without a browser
+(tests/test_view_shelf.py).
+
+Rows of the shelf table and the drawn indexes; the four actions (rebase, project, link
+two segments, build an own cost index) each call the engine (pipeline.indexes,
+pipeline.projection, pipeline.costindex) and add a NEW index to the workspace, leaving the
+original as it was; :func:`run_action` runs one and saves the workspace.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from collections.abc import Callable, Sequence
+from typing import Any
+
+from dash import no_update
+
+from pipeline.errors import RealbasisError, fail
+from pipeline.model import Series, Workspace
+
+from ...components import Column, method_view, notice, problems_view, table
+from ...data import DataAccess, WorkspaceRef
+from ...figures import empty_figure, index_figure
+from .._shared.view import (
+    UI005,
+    error_dicts,
+    isfinite,
+    latest_vintage,
+    pick_index,
+    span_text,
+    stretch_text,
+)
+
+
+def shelf_rows(ws: Workspace) -> list[dict[str, Any]]:
+    """One row per index and vintage: what it is, where it is 100, what is not final."""
+    rows = []
+    for name, vins in ws.indexes.items():
+        for vin, s in sorted(vins.items(), reverse=True):
+            rows.append({
+                "name": name, "vintage": vin or "not stated",
+                "frequency": s.frequency.describe(),
+                "reference": s.reference or (s.unit or "not stated"),
+                "span": span_text(s), "status": stretch_text(s),
+                "latest": "yes" if vin == latest_vintage(vins) else "",
+            })
+    return rows
+
+
+def index_label(ws: Workspace, name: str) -> str:
+    """The index's name, with the vintage used when several vintages are held."""
+    vins = ws.indexes.get(name) or {}
+    if len(vins) > 1:
+        return f"{name} (latest vintage, {latest_vintage(vins) or 'not stated'})"
+    return name
+
+
+def index_options(ws: Workspace) -> list[dict[str, str]]:
+    """Index pickers act on an index's latest vintage; the label says so where it matters."""
+    return [{"label": index_label(ws, name), "value": name} for name in ws.indexes]
+
+
+def figure_items(ws: Workspace, names: Sequence[str]) -> list[dict[str, Any]]:
+    items = []
+    for name in names:
+        if name not in ws.indexes:
+            continue
+        s = pick_index(ws, name)
+        v = s.values
+        items.append({"name": index_label(ws, name),
+                      "x": [p.start_time.strftime("%Y-%m-%d") for p in v.index],
+                      "labels": s.frequency.labels(v.index), "y": v.to_numpy(),
+                      "status": s.status_or_final().astype(str).tolist()})
+    return items
+
+
+def _put_index(ws: Workspace, s: Series) -> Workspace:
+    indexes = {k: dict(v) for k, v in ws.indexes.items()}
+    indexes.setdefault(s.name, {})[s.vintage or ""] = s
+    return dataclasses.replace(ws, indexes=indexes)
+
+
+def rebase_index(ws: Workspace, name: str, base: str) -> tuple[Workspace, list[str]]:
+    """Add the index rebased to ``base`` = 100 (pipeline.indexes.rebase)."""
+    from pipeline.indexes import rebase
+
+    if not (base or "").strip():
+        raise fail(UI005, "no base period given", expected="a period such as 2024 or FY2025",
+                   found="nothing", fix="Type the new base period.")
+    s = pick_index(ws, name)
+    out = rebase(s, base.strip())
+    out = dataclasses.replace(out, name=f"{name} ({base.strip()}=100)")
+    return _put_index(ws, out), [
+        f"Added {out.name!r}: {name} rebased so that its average over {base.strip()} is 100 "
+        "(percent changes do not move)."]
+
+
+def link_indexes(ws: Workspace, old: str, new: str, overlap: str | None
+                 ) -> tuple[Workspace, list[str]]:
+    """Add the two segments linked at the overlap (pipeline.indexes.link)."""
+    from pipeline.indexes import link
+
+    if old == new:
+        raise fail(UI005, "the same index is chosen twice", expected="two different indexes",
+                   found=old, fix="Choose the older and the newer segment.")
+    linked = link(pick_index(ws, old), pick_index(ws, new), (overlap or "").strip() or None)
+    out = dataclasses.replace(linked.series, name=f"{old} linked with {new}")
+    return _put_index(ws, out), [
+        f"Added {out.name!r}: linked at {linked.overlap}, factor {linked.factor:,.6f}.",
+        linked.method, *(p.message for p in linked.warnings)]
+
+
+def project_index(ws: Workspace, name: str, rate_pct: float | None, until: str | None
+                  ) -> tuple[Workspace, list[str]]:
+    """Add the index extended to ``until`` at an assumed annual rate (pipeline.projection)."""
+    from pipeline.projection import project
+
+    if rate_pct is None or not isfinite(rate_pct) or not (until or "").strip():
+        raise fail(UI005, "projection needs an annual rate and an end period",
+                   expected="a rate in percent a year and a period such as 2030 or FY2030",
+                   found=f"rate {rate_pct!r}, until {until!r}",
+                   fix="Fill in both fields.")
+    p = project(pick_index(ws, name), float(rate_pct) / 100.0, until=until.strip())
+    out = dataclasses.replace(p.series, name=f"{name} projected at {float(rate_pct):g} % a year")
+    return _put_index(ws, out), [
+        f"Added {out.name!r}: {p.first} to {p.last} projected (assumed, not measured), "
+        f"at {float(rate_pct):g} % a year.", *(w.message for w in p.warnings)]
+
+
+COST_METHODS = {"fixed": "fixed weights", "annual-chain": "annual chain",
+                "tornqvist": "chained Törnqvist"}
+
+
+def build_cost_index(ws: Workspace, name: str | None, components: Sequence[str],
+                     weights_csv: str | None, method: str, settings: Any = None
+                     ) -> tuple[Workspace, list[str]]:
+    """Blend component indexes with yearly weights into an own cost index
+    (pipeline.costindex.blend); the weights table is read by the intake."""
+    from pipeline.costindex import blend, weights_from_series
+    from pipeline.ingest import read_file
+
+    if len(components) < 2:
+        raise fail(UI005, "a cost index needs two or more components",
+                   expected="two or more component indexes", found=f"{len(components)} chosen",
+                   fix="Choose the component indexes.")
+    if not (weights_csv or "").strip():
+        raise fail(UI005, "no weights given", expected="a small table: period, then one column "
+                   "per component", found="nothing", fix="Paste the weights table.")
+    intake = read_file(weights_csv.encode("utf-8"), filename="weights.csv",
+                       kinds={c: "flow" for c in components}, settings=settings)
+    intake.raise_for_errors()
+    weights = weights_from_series(list(intake.series), source="weights table")
+    title = (name or "").strip() or "Own cost index"
+    ci = blend([pick_index(ws, c) for c in components], weights,
+               methods=[method] if method in COST_METHODS else None, name=title)
+    out = ci.series(method if method in COST_METHODS else None, name=title)
+    out = dataclasses.replace(out, vintage=max((pick_index(ws, c).vintage or "")
+                                               for c in components) or None)
+    return _put_index(ws, out), [f"Added {title!r} ({COST_METHODS.get(method, method)}).",
+                                 *ci.method_note(), *(w.message for w in ci.warnings)]
+
+
+SHELF_COLUMNS = (
+    Column("name", "Index"),
+    Column("vintage", "Vintage (as of)"),
+    Column("latest", "Used by default"),
+    Column("frequency", "Frequency"),
+    Column("reference", "Reference"),
+    Column("span", "Periods"),
+    Column("status", "Preliminary / projected"),
+)
+
+
+def outputs(ws: Workspace, drawn: list[str] | None) -> tuple[Any, Any, list[Any], list[Any]]:
+    """Shelf table, figure, and the options for every index picker."""
+    rows = shelf_rows(ws)
+    opts = index_options(ws)
+    names = [o["value"] for o in opts]
+    chosen = [n for n in (drawn or []) if n in names] or names[:3]
+    fig = (index_figure(figure_items(ws, chosen), title="")
+           if chosen else empty_figure("No price index in this workspace yet."))
+    return (table(SHELF_COLUMNS, rows, caption="Price indexes in this workspace",
+                  empty="No price index yet: upload one on the intake screen."),
+            fig, opts, chosen)
+
+
+def act(data: DataAccess, ref: WorkspaceRef, action: Callable[[Workspace], tuple[Workspace, list[str]]],
+        what: str) -> tuple[WorkspaceRef | None, Any, Any]:
+    """Run one shelf action and save; returns (new ref, message, method note)."""
+    try:
+        ws = data.load(ref)
+        new_ws, lines = action(ws)
+        saved = data.save(new_ws, action=what)
+    except RealbasisError as err:
+        return None, problems_view(error_dicts(err), title="Not done"), None
+    return (WorkspaceRef(saved.id, saved.version),
+            notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
+            method_view(lines, title="What was done"))
+
+
+ACTIONS = {"rebase": "rebased an index", "project": "projected an index",
+           "link": "linked two index segments", "cost": "built an own cost index"}
+"""The shelf's actions and the words the audit trail records for each."""
+
+
+def run_action(data: DataAccess, ref: WorkspaceRef, which: str, *, target: Any = None,
+               base: Any = None, rate: Any = None, until: Any = None, old: Any = None,
+               new: Any = None, overlap: Any = None, cost_name: Any = None,
+               components: Any = None, weights: Any = None, method: Any = None
+               ) -> tuple[WorkspaceRef | None, Any, Any]:
+    """Run shelf action ``which`` (a key of :data:`ACTIONS`) with the screen's inputs and
+    save; returns (new ref or None, message, method note or no_update). Rebasing and
+    projecting need the index to work on."""
+    actions: dict[str, Callable[[Workspace], tuple[Workspace, list[str]]]] = {
+        "rebase": lambda ws: rebase_index(ws, target, base),
+        "project": lambda ws: project_index(ws, target, rate, until),
+        "link": lambda ws: link_indexes(ws, old, new, overlap),
+        "cost": lambda ws: build_cost_index(ws, cost_name, components or [], weights, method,
+                                            data.settings),
+    }
+    if which in ("rebase", "project") and not target:
+        return None, notice("Choose the index to work on first.", "warn"), no_update
+    return act(data, ref, actions[which], ACTIONS[which])
