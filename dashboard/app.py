@@ -150,7 +150,8 @@ def too_large_response(settings: Settings) -> Any:
     from plotly.io.json import to_json_plotly
 
     from .components import problems_view
-    from .logic import error_dicts, too_large
+    from .screens._shared.view import error_dicts
+    from .screens.intake.view import too_large
 
     err = too_large(None, settings.max_upload_bytes)
     if not flask.request.path.endswith("_dash-update-component"):

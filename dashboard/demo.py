@@ -14,7 +14,7 @@ from pipeline.ingest import read_file
 from pipeline.model import Workspace
 from pipeline.store import WorkspaceStore
 
-from .logic import add_intake
+from .screens._shared.view import add_intake
 
 DEMO_DIR = Path(__file__).resolve().parent.parent / "demo_data"
 

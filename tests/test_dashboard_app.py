@@ -12,6 +12,8 @@ import pytest
 from dashboard import ids
 from dashboard.app import create_app
 from dashboard.context import context
+from dashboard.data import DEMO_NAME, DataAccess, WorkspaceRef
+from dashboard.screens import discover
 from pipeline.cli import main
 from pipeline.settings import Settings
 
@@ -230,3 +232,31 @@ def test_serve_with_gunicorn_leaves_no_server_behind_when_stopped(tmp_path: Path
         if proc.poll() is None:
             proc.kill()
             proc.wait(10)
+
+
+def test_screens_are_discovered_in_order():
+    keys = [s.key for s in discover()]
+    assert keys[:5] == ["intake", "shelf", "real", "spread", "revisions"]
+
+
+def test_address_keeps_other_parameters():
+    from dashboard.app import address_for
+
+    assert address_for("?review=abc", WorkspaceRef("w9", 2)) == "?review=abc&ws=w9"
+    from dash import no_update
+
+    assert address_for("?ws=w9", WorkspaceRef("w9", 3)) is no_update
+
+
+def test_without_the_demo_the_latest_workspace_opens(tmp_path: Path):
+    from dashboard.app import default_resolver
+
+    data = DataAccess(Settings(data_dir=str(tmp_path), demo=False))
+    resolve = default_resolver(data)
+    first = resolve("")
+    assert data.load(first).name == "My workspace"
+    assert resolve("") == first  # not a new one each time
+    other = data.create("Budget FY2026")
+    assert resolve(f"?ws={other.id}").id == other.id
+    assert resolve("?ws=unknown").id in {first.id, other.id}
+    assert not any(w.name == DEMO_NAME for w in data.store.list())

@@ -261,7 +261,7 @@ def test_share_screen_links_over_http(tmp_path):
 
 
 def test_share_logic_rows_and_scope(tmp_path):
-    from dashboard.screens.share import audit_rows, export_file, link_rows, scope_text
+    from dashboard.screens.share.view import audit_rows, export_file, link_rows, scope_text
     from pipeline.model import MONTHLY, Series, Workspace
 
     store = WorkspaceStore(f"sqlite:///{tmp_path / 's.sqlite'}")
@@ -292,10 +292,24 @@ def test_share_logic_rows_and_scope(tmp_path):
     store.close()
 
 
+def test_share_views_show_the_scope_the_audit_trail_and_a_new_link_once(tmp_path):
+    from dashboard.screens.share.view import audit_view, created_link_view, scope_view
+
+    store = WorkspaceStore(f"sqlite:///{tmp_path / 's.sqlite'}")
+    ws = store.create("Views (illustrative)")
+    assert "Nothing to export yet" in str(scope_view(ws).to_plotly_json())
+    token, info = store.create_link(ws.id, label="auditors")
+    trail = str(audit_view(store, ws.id).to_plotly_json())
+    assert f"reviewer link {info.id}" in trail and "Time (UTC)" in trail
+    shown = str(created_link_view(f"http://x/review/{token}", info).to_plotly_json())
+    assert token in shown and "not shown again" in shown
+    store.close()
+
+
 @pytest.mark.browser
 def test_chart_image_is_a_png_from_chromium(tmp_path, chromium_path, monkeypatch):
     from dashboard.data import DataAccess
-    from dashboard.screens.share import chart_png
+    from dashboard.screens.share.view import chart_png
     from pipeline.settings import Settings
 
     monkeypatch.setenv("RB_CHROMIUM", chromium_path)
@@ -599,7 +613,7 @@ def test_chart_image_without_kaleido_is_a_coded_error(monkeypatch):
     instead of failing with an uncoded ImportError."""
     import sys
 
-    from dashboard.screens.share import chart_png
+    from dashboard.screens.share.view import chart_png
 
     monkeypatch.setitem(sys.modules, "kaleido", None)  # makes `import kaleido` fail
     with pytest.raises(RealbasisError) as err:
@@ -612,7 +626,7 @@ def test_chart_image_carries_every_caution_and_the_base(tmp_path):
     """The exported chart states the base in its title and all the usual cautions (the
     project's rule: cautions wherever figures are shown or exported)."""
     from dashboard.data import DataAccess
-    from dashboard.screens.share import chart_figure
+    from dashboard.screens.share.view import chart_figure
     from pipeline.model import CAUTIONS
     from pipeline.settings import Settings
 

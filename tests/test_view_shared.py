@@ -120,3 +120,13 @@ def test_problems_are_plain_data_with_the_fix_in_the_dashboards_words():
     (d,) = view.error_dicts(err.value)
     assert d["code"] == "UI005" and "Missing index" in d["message"]
     assert d["fix"].startswith("Choose another deflator") and isinstance(d["where_text"], str)
+
+
+def test_add_intake_files_indexes_by_vintage_and_money_by_name(small: Workspace):
+    newer = monthly_series("Index A", [1.0, 2.0], kind="index", vintage="2025-06-30")
+    money = monthly_series("Costs", [5.0, 6.0])
+    ws, summary = view.add_intake(small, [newer, money])
+    assert set(ws.indexes["Index A"]) == {"2024-12-31", "2025-06-30"}
+    assert set(ws.series) == {"Sales", "Costs"}
+    assert summary.startswith("Added 1 money series and 1 index series")
+    assert view.pick_index(ws, "Index A").vintage == "2025-06-30"  # latest by default

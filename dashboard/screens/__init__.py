@@ -1,16 +1,23 @@
 """The dashboard's screens, found by discovery.
 
-A screen is a module in this package defining:
+A screen is a package in this package (``dashboard/screens/<key>/``) whose
+``__init__.py`` defines:
 
     KEY: str         short id used in element ids and the address (#key)
     TITLE: str       the name on the navigation bar
     ORDER: int       position on the navigation bar (10, 20, ...)
-    def layout() -> Component          the screen's page (no data; callbacks fill it)
-    def register(app: Dash) -> None    its callbacks (thin: they call dashboard.logic)
+    EDITOR_ONLY      optional; True hides the screen from reviewer links (read by the
+                     access layer)
+    layout           def layout() -> Component: the page, from ``layout.py`` (no data;
+                     callbacks fill it)
+    register         def register(app: Dash) -> None: its callbacks, from ``callbacks.py``
+                     (thin: they parse values and call the screen's ``view.py``)
 
-``create_app`` shows every module found here, sorted by ORDER, so adding a screen
-touches no shared file. A module may set ``EDITOR_ONLY = True`` to be hidden from
-reviewer links (the access layer reads it).
+``view.py`` is the screen's view model: plain functions and frozen dataclasses, tested
+without a browser. What several screens need lives in :mod:`._shared` (``view.py`` and
+``callbacks.py``); screens never import each other. ``create_app`` shows every package
+found here, sorted by ORDER, so adding a screen touches no shared file. Names starting
+with ``_`` are not screens.
 """
 
 from __future__ import annotations
@@ -42,6 +49,9 @@ def discover() -> tuple[ScreenInfo, ...]:
     for info in pkgutil.iter_modules(__path__):
         if info.name.startswith("_"):
             continue
+        if not info.ispkg:
+            raise TypeError(f"screen {__name__}.{info.name} must be a package "
+                            f"(dashboard/screens/{info.name}/ with layout, callbacks, view)")
         module = importlib.import_module(f"{__name__}.{info.name}")
         missing = [a for a in ("KEY", "TITLE", "ORDER", "layout", "register")
                    if not hasattr(module, a)]

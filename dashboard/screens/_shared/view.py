@@ -18,7 +18,9 @@ them and no screen imports another (tests/test_architecture.py):
 * **several deflators**: :func:`trim_to_cover` (the span every deflator covers) and
   :func:`spread` (one series under several deflators, growth per deflator and the verdict;
   used by Deflator spread and by the share screen's chart image);
-* numbers and progress: :func:`isfinite`, :data:`ProgressFn`.
+* numbers and progress: :func:`isfinite`, :data:`ProgressFn`;
+* **adding series** to a workspace: :func:`add_intake` (Data intake, and the demo
+  workspace built by :mod:`dashboard.demo`).
 
 Functions take and return plain data (workspaces, engine results, lists of dicts) and call
 the engine (:mod:`pipeline`) for every computation.
@@ -27,6 +29,7 @@ the engine (:mod:`pipeline`) for every computation.
 from __future__ import annotations
 
 import calendar
+import dataclasses
 import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
@@ -448,3 +451,28 @@ def verdict_text(real_rates: Sequence[float], measure_words: str = "", span: str
         return f"Real growth is zero under all {n:,} {word}{what}.", "info"
     return (f"The sign depends on the deflator: real growth is positive under {pos:,} and "
             f"negative under {neg:,} of {n:,} {word}{what}.", "error")
+
+
+# --------------------------------------------------------------------------- adding series
+
+
+def add_intake(ws: Workspace, series: Sequence[Series]) -> tuple[Workspace, str]:
+    """Put the series of an intake into a workspace: money series by name, price
+    indexes by name and vintage. Returns the new workspace (unsaved) and a summary."""
+    money = dict(ws.series)
+    indexes = {k: dict(v) for k, v in ws.indexes.items()}
+    added, replaced = 0, 0
+    for s in series:
+        if s.kind == "index":
+            vins = indexes.setdefault(s.name, {})
+            replaced += (s.vintage or "") in vins
+            vins[s.vintage or ""] = s
+        else:
+            replaced += s.name in money
+            money[s.name] = s
+        added += 1
+    n_idx = sum(1 for s in series if s.kind == "index")
+    summary = (f"Added {added - n_idx:,} money series and {n_idx:,} index series"
+               + (f" ({replaced:,} replaced an earlier one of the same name)" if replaced else "")
+               + ".")
+    return dataclasses.replace(ws, series=money, indexes=indexes), summary

@@ -1,0 +1,423 @@
+"""The Data intake screen's view model: plain functions, tested without a browser
+(tests/test_view_intake.py).
+
+An upload is size-checked before it is decoded (:func:`decode_upload`, UI001/UI002),
+kept server-side under its SHA-256 (:func:`receive`) and read by the engine's intake
+(:func:`read_upload` -> :func:`pipeline.ingest.read_file`) with the user's corrections
+(:func:`interpret`); :func:`add_with_summary` puts its series into the workspace (a new
+workspace when the shared demo is open). :func:`workspace_contents` lists what the
+workspace holds and the files added to it, for everyone including reviewers.
+"""
+
+from __future__ import annotations
+
+import base64
+import binascii
+import calendar
+import dataclasses
+import hashlib
+import io
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import pandas as pd
+from dash import html, no_update
+
+from pipeline.errors import RealbasisError, fail, register
+from pipeline.model import KINDS, Series, Workspace
+from pipeline.settings import Settings
+
+from ...components import Column, method_view, notice, problems_view, table
+from ...context import current
+from ...data import DEMO_NAME, DataAccess, WorkspaceRef
+from .._shared.view import (
+    ProgressFn,
+    add_intake,
+    error_dicts,
+    problem_dicts,
+    span_text,
+    stretch_text,
+)
+
+UI001 = register("UI001", "uploaded file is too large")
+
+
+UI002 = register("UI002", "upload could not be decoded")
+
+
+ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm")
+
+
+def decode_upload(contents: str | None, filename: str | None, max_bytes: int) -> bytes:
+    """The bytes of a dcc.Upload ``contents`` data URL, refusing files over ``max_bytes``
+    before decoding them (UI001) and undecodable payloads (UI002)."""
+    if not contents or "," not in contents:
+        raise fail(UI002, "the upload arrived empty or garbled", expected="a file",
+                   found=repr((contents or "")[:40]), fix="Drop the file again.",
+                   file=filename)
+    header, payload = contents.split(",", 1)
+    estimated = len(payload) * 3 // 4 - payload[-2:].count("=")
+    if estimated > max_bytes:
+        raise too_large(estimated, max_bytes, filename)
+    if ";base64" not in header:
+        raise fail(UI002, "the upload is not base64-encoded", expected="a data URL with base64",
+                   found=header[:60], fix="Drop the file again.", file=filename)
+    try:
+        return base64.b64decode(payload, validate=True)
+    except (binascii.Error, ValueError):
+        raise fail(UI002, "the upload could not be decoded", expected="base64 data",
+                   found="invalid characters", fix="Drop the file again.",
+                   file=filename) from None
+
+
+def too_large(found: int | None, max_bytes: int, filename: str | None = None
+              ) -> RealbasisError:
+    """UI001 for a file over the upload limit, naming the limit (``found`` None: the
+    request was cut off before its size could be read from the file)."""
+    what = (f"the file is {_size(found)}; the largest accepted is {_size(max_bytes)}"
+            if found is not None else
+            f"the upload is far larger than the largest file accepted ({_size(max_bytes)})")
+    return fail(UI001, what, expected=f"at most {max_bytes:,} bytes ({_size(max_bytes)})",
+                found=f"{found:,} bytes" if found is not None else "a larger request",
+                fix="Split the file, drop columns you do not need, or ask the "
+                    "administrator to raise REALBASIS_MAX_UPLOAD_BYTES.",
+                file=filename)
+
+
+def size_text(n: int) -> str:
+    """A byte count in words (kB and MB of 1,024), as the messages state limits."""
+    return _size(n)
+
+
+def _size(n: int) -> str:
+    if n >= 1024 * 1024:
+        return f"{n / (1024 * 1024):,.1f} MB"
+    if n >= 1024:
+        return f"{n / 1024:,.1f} kB"
+    return f"{n:,} bytes"
+
+
+def preview(data: bytes, filename: str, rows: int = 8) -> tuple[list[str], list[dict[str, str]]]:
+    """The first rows of the file as text, exactly as written (no interpretation)."""
+    name = filename.lower()
+    if name.endswith((".xlsx", ".xlsm")):
+        frame = pd.read_excel(io.BytesIO(data), nrows=rows, dtype=str, header=None,
+                              engine="openpyxl")
+    else:
+        try:
+            frame = pd.read_csv(io.BytesIO(data), nrows=rows, dtype=str, header=None,
+                                sep=None, engine="python", encoding_errors="replace")
+        except (pd.errors.ParserError, UnicodeDecodeError, ValueError):
+            text = data[:4000].decode("utf-8", errors="replace").splitlines()[:rows]
+            return ["line"], [{"line": t} for t in text]
+    frame = frame.fillna("")
+    columns = [f"column {i + 1}" for i in range(frame.shape[1])]
+    out = [{c: str(v) for c, v in zip(columns, row, strict=True)}
+           for row in frame.itertuples(index=False)]
+    return columns, out
+
+
+def month_options() -> list[dict[str, Any]]:
+    opts: list[dict[str, Any]] = [{"label": "Not stated (labels need no fiscal year)",
+                                   "value": 0}]
+    opts += [{"label": f"Fiscal year starts in {calendar.month_name[m]}", "value": m}
+             for m in range(1, 13)]
+    return opts
+
+
+def kind_options() -> list[dict[str, str]]:
+    words = {"flow": "flow (amount over a period: revenue, spending)",
+             "stock": "stock (amount at a date: a balance)",
+             "index": "price index"}
+    return [{"label": words[k], "value": k} for k in KINDS]
+
+
+def read_upload(data: bytes, filename: str, *, fy_start: int | None,
+                kinds: Mapping[str, str] | None, settings: Any = None,
+                sheet: str | None = None) -> Any:
+    """Read a file through the intake (pipeline.ingest.read_file)."""
+    from pipeline.ingest import read_file
+
+    return read_file(data, filename=filename, sheet=sheet or None, fy_start=fy_start or None,
+                     kinds=dict(kinds or {}) or None, settings=settings)
+
+
+def series_rows(series: Sequence[Series]) -> list[dict[str, Any]]:
+    """One row per series found: what the intake made of it."""
+    rows = []
+    for s in series:
+        values = s.values
+        rows.append({
+            "name": s.name, "frequency": s.frequency.describe(), "kind": s.kind,
+            "unit": s.unit or "not stated", "span": span_text(s),
+            "count": int(values.notna().sum()), "missing": int(values.isna().sum()),
+            "status": stretch_text(s), "vintage": s.vintage or "not stated",
+        })
+    return rows
+
+
+@dataclass(frozen=True)
+class IntakeView:
+    """What the intake screen shows about one uploaded file."""
+
+    filename: str
+    layout: str
+    series: list[dict[str, Any]]
+    problems: list[dict[str, Any]]
+    names: list[str]
+    can_add: bool
+    message: str
+
+
+def intake_view(intake: Any, filename: str) -> IntakeView:
+    errors = [p for p in intake.problems if p.severity == "error"]
+    names = [s.name for s in intake.series]
+    if errors:
+        msg = (f"{len(names):,} series found in {filename}, but {len(errors):,} problem(s) "
+               "must be fixed in the file before it can be added.")
+    elif names:
+        msg = f"{len(names):,} series found in {filename}. Check them, then add them."
+    else:
+        msg = f"No series found in {filename}."
+    return IntakeView(filename, str(getattr(intake, "layout", "")), series_rows(intake.series),
+                      problem_dicts(intake.problems), names, bool(names) and not errors, msg)
+
+
+def reading_note(intake: Any) -> list[str]:
+    """How the intake read the file, in words (format, encoding, delimiter, decimals)."""
+    lines = []
+    fmt = str(getattr(intake, "format", "") or "")
+    if fmt == "xlsx" or getattr(intake, "sheet", None):
+        lines.append(f"Read as a workbook, sheet {intake.sheet!r}.")
+    else:
+        enc = getattr(intake, "encoding", None) or "not stated"
+        d = str(getattr(intake, "delimiter", "") or "")
+        delim = {",": "comma", ";": "semicolon", "\t": "tab"}.get(d, d)
+        lines.append(f"Read as text: encoding {enc}, {delim}-separated.")
+    dec = getattr(intake, "decimal", ".")
+    lines.append("Decimal mark: " + ("comma (1.234,5)" if dec == "," else "point (1,234.5)") + ".")
+    lines.append(f"{int(getattr(intake, 'rows', 0) or 0):,} data rows; cells that are not "
+                 "numbers or not periods are listed as problems and left out.")
+    lines.append("Kinds were guessed from names, units and values unless corrected here; "
+                 "a price index is kept apart from money series and filed by vintage.")
+    return lines
+
+
+SERIES_COLUMNS = (
+    Column("name", "Series"),
+    Column("kind", "Kind"),
+    Column("frequency", "Frequency"),
+    Column("unit", "Unit"),
+    Column("span", "Periods"),
+    Column("count", "Values", "number", 0),
+    Column("missing", "Missing", "number", 0),
+    Column("status", "Status"),
+    Column("vintage", "Vintage"),
+)
+
+
+UPLOAD_COLUMNS = (
+    Column("at", "When (UTC)"),
+    Column("filename", "File"),
+    Column("size", "Bytes", "number", 0),
+    Column("version", "Added as version"),
+    Column("actor", "By"),
+    Column("sha256", "SHA-256 (first 12)"),
+)
+
+
+def upload_limit() -> int:
+    """The upload limit of the app serving this page (Settings.max_upload_bytes)."""
+    rb = current()
+    if rb is not None:
+        return int(rb.settings.max_upload_bytes)
+    return int(Settings().max_upload_bytes)
+
+
+def receive(data: DataAccess, contents: str | None, filename: str | None
+            ) -> tuple[dict[str, str] | None, Any]:
+    """Check the size, keep the file server-side; returns (pending, status)."""
+    name = filename or "upload"
+    try:
+        raw = decode_upload(contents, name, data.settings.max_upload_bytes)
+    except RealbasisError as err:
+        return None, problems_view(error_dicts(err), title="File refused")
+    upload_id = data.keep_upload(raw, name)
+    return ({"upload": upload_id, "filename": name},
+            notice(f"Received {name} ({len(raw):,} bytes). Reading it…", "info"))
+
+
+def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | None,
+              kinds: dict[str, str] | None, progress: ProgressFn | None = None,
+              sheet: str | None = None
+              ) -> tuple[Any, Any, Any, Any, list[dict[str, str]], bool, list[dict[str, str]]]:
+    """Read the kept file with the user's choices: summary, series table, problems,
+    preview, the series names (for corrections), whether it can be added, and the
+    workbook's sheets."""
+    step = progress or (lambda done, total: None)
+    if not pending:
+        return None, None, None, None, [], True, []
+    step(1, 4)
+    try:
+        raw, name = data.upload(pending["upload"])
+        step(2, 4)
+        intake = read_upload(raw, name, fy_start=fy_start, kinds=kinds,
+                                   settings=data.settings, sheet=sheet)
+    except RealbasisError as err:
+        step(4, 4)
+        lines = [f"{pending.get('filename', 'The file')} could not be read."]
+        if "PE102" in err.codes:
+            lines.append("Choose the month the fiscal year starts in under 'How the file is "
+                         "read' below; the file is then read again.")
+        return (notice(lines, "error"),
+                None, problems_view(error_dicts(err), title="The file cannot be read"),
+                _preview(pending, data), [], True, [])
+    step(3, 4)
+    view = intake_view(intake, name)
+    tone = "ok" if view.can_add else ("error" if view.problems else "warn")
+    layout_words = {"wide": "one column per series", "long": "long (series, period, value)",
+                    "sdmx": "SDMX-CSV"}.get(view.layout, view.layout)
+    summary = html.Div([notice([view.message, f"Layout: {layout_words}."], tone),
+                        method_view(reading_note(intake), title="How the file was read")])
+    series_table = table(SERIES_COLUMNS, view.series, caption="Series found")
+    problems = problems_view(view.problems)
+    options = [{"label": n, "value": n} for n in view.names]
+    sheets = [{"label": str(n), "value": str(n)} for n in getattr(intake, "sheets", ()) or ()]
+    step(4, 4)
+    return (summary, series_table, problems, _preview(pending, data), options,
+            not view.can_add, sheets)
+
+
+def _preview(pending: dict[str, str], data: DataAccess) -> Any:
+    try:
+        raw, name = data.upload(pending["upload"])
+        columns, rows = preview(raw, name)
+    except (RealbasisError, ValueError, OSError) as err:
+        return html.P(f"No preview: {err}")
+    return table([Column(c, c) for c in columns], rows)
+
+
+def status_after_reading(pending: dict[str, str] | None) -> Any:
+    """The "Received ... Reading it…" line, once reading is done: cleared (the outcome is
+    in the summary below it). A refused file (no pending upload) keeps its message."""
+    return None if pending else no_update
+
+
+def workspace_contents(data: DataAccess, ref: WorkspaceRef | None) -> tuple[Any, Any]:
+    """What the workspace holds, read-only (reviewers see this): every series and index
+    vintage with kind, frequency, unit, periods and status, and the files added to it
+    from the audit trail."""
+    if ref is None:
+        return None, None
+    try:
+        ws = data.load(ref)
+        events = data.store.audit(ref.id)
+    except RealbasisError as err:
+        return problems_view(error_dicts(err), title="Cannot show the workspace"), None
+    held = [*ws.series.values(),
+            *(s for name in sorted(ws.indexes) for _, s in sorted(ws.indexes[name].items()))]
+    series = table(SERIES_COLUMNS, series_rows(held),
+                   caption=f"Series and price indexes in {ws.name!r} (version {ws.version:,})",
+                   empty="This workspace holds no series yet.")
+    none = "No file has been added to this workspace through the intake" + (
+        " (the demo workspace was built from illustrative files shipped with the program)."
+        if ws.name == DEMO_NAME else ".")
+    return series, table(UPLOAD_COLUMNS, upload_rows(events), empty=none)
+
+
+def upload_rows(events: Any) -> list[dict[str, Any]]:
+    """The audit trail's uploads, oldest first, each with the version its save made
+    (the save recorded just before the upload, named "added <file>")."""
+    rows: list[dict[str, Any]] = []
+    last_added: dict[str, int] = {}
+    for e in events:
+        if e.event == "save" and str(e.detail.get("action", "")).startswith("added ") \
+                and e.version is not None:
+            last_added[str(e.detail["action"])[6:]] = int(e.version)
+        elif e.event == "upload":
+            name = str(e.detail.get("filename", ""))
+            version = last_added.pop(name, None)
+            rows.append({"at": e.at.strftime("%Y-%m-%d %H:%M"), "filename": name,
+                         "size": e.detail.get("size"), "actor": e.actor,
+                         "version": f"{version:,}" if version is not None else "–",
+                         "sha256": str(e.detail.get("sha256", ""))[:12]})
+    return rows
+
+
+def confirmation_after_change(added_at: dict[str, Any] | None, current: WorkspaceRef | None
+                              ) -> Any:
+    """The "Added ..." confirmation once the workspace has moved on (another screen saved
+    a new version): restated so it agrees with the version in the header, or cleared
+    when another workspace is open."""
+    added = WorkspaceRef.from_dict(added_at)
+    if added is None or current is None or added == current:
+        return no_update
+    if added.id != current.id:
+        return None
+    return notice([f"{(added_at or {}).get('summary', '')} They were added as version "
+                   f"{added.version:,}; the workspace has changed since and is now at version "
+                   f"{current.version:,}.".strip()], "ok")
+
+
+def apply_kind(kinds: dict[str, str] | None, series: str | None, kind: str | None
+               ) -> dict[str, str] | Any:
+    if not series or kind not in ("flow", "stock", "index"):
+        return no_update
+    out = dict(kinds or {})
+    out[series] = kind
+    return out
+
+
+def add(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str] | None,
+        fy_start: int | None, kinds: dict[str, str] | None, actor: str = "editor",
+        sheet: str | None = None) -> tuple[WorkspaceRef | None, Any]:
+    """Add the kept file's series to the workspace (a new one when it is the demo)."""
+    new_ref, message, _summary = add_with_summary(data, ref, pending, fy_start, kinds, actor,
+                                                  sheet)
+    return new_ref, message
+
+
+def add_with_summary(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str] | None,
+                     fy_start: int | None, kinds: dict[str, str] | None, actor: str = "editor",
+                     sheet: str | None = None) -> tuple[WorkspaceRef | None, Any, str]:
+    if not pending:
+        return None, notice("Drop a file first.", "warn"), ""
+    try:
+        raw, name = data.upload(pending["upload"])
+        intake = read_upload(raw, name, fy_start=fy_start, kinds=kinds,
+                                   settings=data.settings, sheet=sheet)
+        intake.raise_for_errors()
+        ws = data.load(ref)
+        note = ""
+        if ws.name == DEMO_NAME:
+            ws, note = start_from_demo(data, ws, name, actor)
+        new_ws, summary = add_intake(ws, intake.series)
+        saved = data.save(new_ws, action=f"added {name}", actor=actor)
+        data.store.record_upload(saved.id, name, len(raw), hashlib.sha256(raw).hexdigest(),
+                                 actor=actor)
+    except RealbasisError as err:
+        return None, problems_view(error_dicts(err), title="Not added"), ""
+    text = [f"{summary} Workspace {saved.name!r} is now at version {saved.version:,}."]
+    if note:
+        text.append(note)
+    text.append("Open Real terms or Deflator spread to use them.")
+    return WorkspaceRef(saved.id, saved.version), notice(text, "ok"), summary
+
+
+def start_from_demo(data: DataAccess, demo: Workspace, filename: str, actor: str
+                    ) -> tuple[Workspace, str]:
+    """A new workspace for the user's file, with the demo's price indexes to start with."""
+    ws = data.create(f"From {filename}"[:120], actor=actor)
+    ws = dataclasses.replace(
+        ws, indexes={k: dict(v) for k, v in demo.indexes.items()},
+        notes="Started from the demo: its price indexes are ILLUSTRATIVE (invented); replace "
+              "them with real ones before relying on any figure.")
+    return ws, ("The demo workspace is shared, so a new workspace was started for your file. "
+                "It holds the demo's price indexes, which are illustrative (invented): upload "
+                "real indexes before relying on the figures.")
+
+
+def workspace_options(data: DataAccess) -> list[dict[str, str]]:
+    return [{"label": f"{w.name} (version {w.version:,})", "value": w.id}
+            for w in data.store.list()]

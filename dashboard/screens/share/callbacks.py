@@ -1,0 +1,105 @@
+"""The Share and export screen's callbacks: thin, they parse values and call :mod:`.view`."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from dash import Dash, Input, Output, State, ctx, dcc, no_update
+
+from pipeline.errors import RealbasisError
+from pipeline.store import current_access
+
+from ... import ids
+from ...components import notice, problems_view
+from ...context import context
+from ...data import WorkspaceRef
+from .._shared.view import error_dicts
+from . import view
+
+
+def register(app: Dash) -> None:
+    import flask
+
+    rb = context(app)
+
+    @app.callback(Output(ids.SX_SCOPE, "children"), Output(ids.SX_LINK_PANEL, "hidden"),
+                  Input(ids.WORKSPACE, "data"))
+    def _overview(ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update, no_update
+        return view.scope_view(rb.data.load(r)), current_access().read_only
+
+    @app.callback(Output(ids.SX_AUDIT, "children"), Input(ids.WORKSPACE, "data"),
+                  Input(ids.SX_LINKS, "children"), Input(ids.SX_DL_STATUS, "children"))
+    def _audit(ref: Any, _links: Any, _status: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update
+        return view.audit_view(rb.data.store, r.id)
+
+    @app.callback(Output(ids.SX_LINKS, "children"), Output(ids.SX_REVOKE_ID, "options"),
+                  Output(ids.SX_LINK_NEW, "children"),
+                  Input(ids.WORKSPACE, "data"), Input(ids.SX_LINK_CREATE, "n_clicks"),
+                  Input(ids.SX_REVOKE, "n_clicks"),
+                  State(ids.SX_LINK_LABEL, "value"), State(ids.SX_LINK_DAYS, "value"),
+                  State(ids.SX_REVOKE_ID, "value"))
+    def _links(ref: Any, _c: Any, _r: Any, label: Any, days: Any, revoke_id: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update, no_update, no_update
+        store = rb.data.store
+        trigger = ctx.triggered_id
+        if current_access().read_only and trigger == ids.WORKSPACE:
+            return None, [], None  # nothing to show a reviewer; changes would be refused
+        message: Any = None
+        try:
+            if trigger == ids.SX_LINK_CREATE:
+                url, info = view.new_link(store, r.id, label, days, flask.request.host_url)
+                message = view.created_link_view(url, info)
+            elif trigger == ids.SX_REVOKE and revoke_id:
+                info = store.revoke_link(str(revoke_id), actor=current_access().actor)
+                message = notice(f"Link {info.id} revoked: it no longer opens anything.", "ok")
+            links, options = view.links_view(store, r.id)
+        except RealbasisError as err:
+            return no_update, no_update, problems_view(error_dicts(err),
+                                                       title="Not done")
+        return links, options, message
+
+    @app.callback(
+        Output(ids.SX_DOWNLOAD, "data"), Output(ids.SX_DL_STATUS, "children"),
+        Input(ids.SX_DL_XLSX, "n_clicks"), Input(ids.SX_DL_CSV, "n_clicks"),
+        Input(ids.SX_DL_JSON, "n_clicks"), State(ids.WORKSPACE, "data"),
+        background=True, prevent_initial_call=True,
+        running=[(Output(ids.SX_DL_XLSX, "disabled"), True, False),
+                 (Output(ids.SX_DL_CSV, "disabled"), True, False),
+                 (Output(ids.SX_DL_JSON, "disabled"), True, False)],
+    )
+    def _download(_x: Any, _c: Any, _j: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        fmt = {ids.SX_DL_XLSX: "xlsx", ids.SX_DL_CSV: "csv",
+               ids.SX_DL_JSON: "json"}.get(str(ctx.triggered_id), "xlsx")
+        if r is None:
+            return no_update, no_update
+        try:
+            data, name = view.export_file(rb.data.load(r), fmt, rb.data.store)
+        except RealbasisError as err:
+            return no_update, problems_view(error_dicts(err), title="Cannot export")
+        return dcc.send_bytes(data, name), notice(f"{name} is ready.", "ok")
+
+    @app.callback(
+        Output(ids.SX_DOWNLOAD_PNG, "data"),
+        Output(ids.SX_DL_STATUS, "children", allow_duplicate=True),
+        Input(ids.SX_DL_PNG, "n_clicks"), State(ids.WORKSPACE, "data"),
+        background=True, prevent_initial_call=True,
+        running=[(Output(ids.SX_DL_PNG, "disabled"), True, False)],
+    )
+    def _png(_n: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update, no_update
+        try:
+            data, name = view.chart_png(rb.data.load(r))
+        except RealbasisError as err:
+            return no_update, problems_view(error_dicts(err), title="No chart image")
+        return dcc.send_bytes(data, name), notice(f"{name} is ready.", "ok")

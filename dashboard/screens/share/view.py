@@ -1,0 +1,214 @@
+"""The Share and export screen's view model: plain functions, tested without a browser
+(tests/test_share.py).
+
+Downloads (:func:`export_file`: audit workbook, CSV, JSON) are written by the same engine
+path as the command line from the workspace's saved choices; :func:`chart_png` renders the
+deflator-spread chart of those choices through kaleido and the system Chromium. Reviewer
+links are created (:func:`new_link`), listed (:func:`links_view`) and revoked here; the
+audit trail is listed newest first (:func:`audit_view`).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import os
+import re
+import shutil
+import tempfile
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+from dash import dcc, html
+
+from pipeline.errors import RealbasisError, fail
+from pipeline.export import EX001
+from pipeline.model import CAUTIONS, Workspace
+from pipeline.store import SH005, AuditEvent, LinkInfo, WorkspaceStore, current_access
+from pipeline.workbook import EX103, workspace_result
+
+from ...components import Column, table
+from .._shared.view import spread
+
+FORMATS = {"xlsx": "Excel workbook (audit)", "csv": "CSV table", "json": "JSON"}
+
+
+PNG_SIZE = (1200, 675)
+
+
+LINK_COLUMNS = (
+    Column("id", "Link"), Column("label", "For"), Column("state", "State"),
+    Column("created", "Created (UTC)"), Column("expires", "Expires (UTC)"),
+    Column("last_used", "Last used (UTC)"),
+)
+
+
+AUDIT_COLUMNS = (Column("at", "Time (UTC)"), Column("actor", "Who"), Column("what", "What"))
+
+
+def _when(t: dt.datetime | None) -> str:
+    return t.strftime("%Y-%m-%d %H:%M") if t else "—"
+
+
+def link_rows(links: Sequence[LinkInfo], now: dt.datetime | None = None) -> list[dict[str, str]]:
+    return [{"id": li.id, "label": li.label or "—", "state": li.state(now),
+             "created": _when(li.created_at), "expires": _when(li.expires_at) if li.expires_at
+             else "never", "last_used": _when(li.last_used_at)} for li in links]
+
+
+def audit_rows(events: Sequence[AuditEvent]) -> list[dict[str, str]]:
+    """Newest first, in words."""
+    return [{"at": _when(e.at), "actor": e.actor, "what": e.describe()}
+            for e in reversed(list(events))]
+
+
+def scope_text(ws: Workspace) -> list[str]:
+    """What the downloads will contain, from the saved choices."""
+    try:
+        result, used, notes = workspace_result(ws)
+    except RealbasisError as err:
+        return [f"Nothing to export yet: {err.problems[0].message}.",
+                err.problems[0].fix]
+    lines = [f"Amounts in {result.dollars_label}, {result.frequency.describe()}.",
+             "Series: " + ", ".join(result.series_names) + ".",
+             "Deflators: " + ", ".join(f"{k} (vintage {v or 'not stated'})"
+                                       for k, v in used.items()) + ".",
+             *notes]
+    if result.worst_status != "final":
+        lines.append("Some figures rest on preliminary or projected index values; the "
+                     "workbook's 'Status flags' sheet lists them.")
+    return lines
+
+
+def safe_filename(text: str) -> str:
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "-", text).strip("-._")[:60]
+    return stem or "workspace"
+
+
+def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None) -> tuple[bytes, str]:
+    """The download: (bytes, file name) of the workspace's result in ``fmt``."""
+    from pipeline.workbook import export_workspace
+
+    if fmt not in FORMATS:
+        raise fail(EX001, f"unknown export format {fmt!r}", expected=", ".join(FORMATS),
+                   found=repr(fmt), fix="Choose one of the offered downloads.")
+    name = f"{safe_filename(ws.name)}-v{ws.version}-real.{fmt}"
+    with tempfile.TemporaryDirectory(prefix="rb-export-") as tmp:
+        path = export_workspace(ws, Path(tmp) / name, store=store,
+                                actor=current_access().actor,
+                                command=f"dashboard: Share and export ({FORMATS[fmt]})")
+        return path.read_bytes(), name
+
+
+def chromium_path() -> str | None:
+    for candidate in (os.environ.get("RB_CHROMIUM"), os.environ.get("BROWSER_PATH"),
+                      shutil.which("chromium"), "/usr/bin/chromium"):
+        if candidate and Path(candidate).exists():
+            return candidate
+    return None
+
+
+def chart_figure(ws: Workspace) -> Any:
+    """The deflator-spread chart of the saved choices, titled, with the cautions."""
+    from ...figures import spread_figure
+
+    settings = dict(ws.settings or {})
+    series = settings.get("series") if settings.get("series") in ws.series else next(
+        iter(ws.series), None)
+    names = [n for n in (settings.get("deflators") or
+                         ([settings["deflator"]] if settings.get("deflator") else [])
+                         or list(ws.indexes)[:5]) if n in ws.indexes]
+    if not series or not names:
+        raise fail(EX103, "no chart to draw yet", expected="a series and deflators chosen",
+                   found=f"series {series or 'none'}; {len(names)} deflators",
+                   fix="Choose them on the Deflator spread screen and save.")
+    sp = spread(ws, str(series), names, str(settings.get("base") or "") or None,
+                      to=str(settings.get("frequency") or "auto"))
+    fig = spread_figure(sp.table, title=sp.title, unit=sp.unit)
+    # Every caution, one per line, under the chart: a PNG travels without the page.
+    fig.add_annotation(text="<br>".join(CAUTIONS), align="left",
+                       xref="paper", yref="paper", x=0, y=-0.2, yanchor="top", showarrow=False,
+                       xanchor="left", font={"size": 10})
+    # On the page the title is HTML above the chart; in the image it needs room of its own
+    # above the legend.
+    fig.update_layout(margin={"t": 140, "b": 170},
+                      title={"xref": "paper", "x": 0, "xanchor": "left", "y": 0.985,
+                             "yanchor": "top"})
+    return fig
+
+
+def chart_png(ws: Workspace) -> tuple[bytes, str]:
+    """The chart as PNG through kaleido and the system Chromium (never downloaded)."""
+    try:
+        import kaleido
+    except ImportError:
+        raise fail(EX103, "chart images need the kaleido package", expected="kaleido installed",
+                   found="kaleido is not installed",
+                   fix="pip install 'realbasis[images]' (or kaleido); the workbook, CSV and "
+                   "JSON downloads work without it.") from None
+
+    path = chromium_path()
+    if path is None:
+        raise fail(EX103, "chart images need Chromium", expected="/usr/bin/chromium or "
+                   "RB_CHROMIUM", found="no Chromium", fix="Install Debian's chromium package "
+                   "or set RB_CHROMIUM; the workbook and CSV downloads work without it.")
+    fig = chart_figure(ws)
+    try:
+        png = kaleido.calc_fig_sync(fig.to_dict(), opts={"format": "png", "width": PNG_SIZE[0],
+                                                          "height": PNG_SIZE[1]},
+                                    kopts={"path": path})
+    except Exception as err:  # kaleido/choreographer raise many kinds of errors
+        raise fail(EX103, "the chart image could not be made", expected="a PNG from Chromium",
+                   found=f"{type(err).__name__}: {err}"[:300],
+                   fix="Try again; if it keeps failing use the workbook or CSV.") from None
+    return bytes(png), f"{safe_filename(ws.name)}-v{ws.version}-spread.png"
+
+
+def new_link(store: WorkspaceStore, workspace_id: str, label: str | None, days: Any,
+             base_url: str) -> tuple[str, LinkInfo]:
+    """Create a reviewer link; returns the full address (shown once) and its info."""
+    expires = None
+    if days not in (None, ""):
+        try:
+            n = float(days)
+        except (TypeError, ValueError):
+            n = -1.0
+        if not n > 0:
+            raise fail(SH005, "a reviewer link must expire after a positive number of days",
+                       expected="a number of days above 0, or empty for no expiry",
+                       found=repr(days), fix="Enter e.g. 30, or leave the box empty.")
+        expires = dt.datetime.now(dt.UTC) + dt.timedelta(days=n)
+    token, info = store.create_link(workspace_id, expires_at=expires, label=label or "",
+                                    actor=current_access().actor)
+    return f"{base_url.rstrip('/')}/review/{token}", info
+
+
+def links_view(store: WorkspaceStore, workspace_id: str) -> tuple[Any, list[dict[str, str]]]:
+    """The links table and the revoke choices (editors only)."""
+    links = store.list_links(workspace_id)
+    options = [{"label": f"{li.id} — {li.label or 'no label'}", "value": li.id}
+               for li in links if li.active]
+    return table(LINK_COLUMNS, link_rows(links), caption="Reviewer links of this workspace",
+                 empty="No reviewer links yet."), options
+
+
+def scope_view(ws: Workspace) -> html.Ul:
+    """What the downloads will contain (:func:`scope_text`), as a list."""
+    return html.Ul([html.Li(line) for line in scope_text(ws)])
+
+
+def audit_view(store: WorkspaceStore, workspace_id: str) -> html.Div:
+    """The workspace's audit trail, newest first."""
+    return html.Div(table(AUDIT_COLUMNS, audit_rows(store.audit(workspace_id)),
+                          caption="Uploads, settings changes, index vintages, exports "
+                                  "and links", empty="Nothing recorded yet."),
+                    style={"overflowX": "auto", "overflowWrap": "break-word"})
+
+
+def created_link_view(url: str, info: LinkInfo) -> html.Div:
+    """The new reviewer link, shown once."""
+    return html.Div([
+        html.P(f"Link {info.id} created. Copy it now: it is not shown again."),
+        dcc.Input(value=url, readOnly=True, className="rb-input rb-link-url",
+                  id="sx-link-url", style={"width": "100%"}),
+    ], className="rb-notice rb-ok", role="status")
