@@ -41,12 +41,12 @@ from .._shared.view import (
 )
 
 UI001 = register("UI001", "uploaded file is too large")
-
-
 UI002 = register("UI002", "upload could not be decoded")
 
-
 ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm")
+
+
+# --------------------------------------------------------------------------- reading a file
 
 
 def decode_upload(contents: str | None, filename: str | None, max_bytes: int) -> bytes:
@@ -204,6 +204,9 @@ def reading_note(intake: Any) -> list[str]:
     return lines
 
 
+# --------------------------------------------------------------------------- what the screen shows
+
+
 SERIES_COLUMNS = (
     Column("name", "Series"),
     Column("kind", "Kind"),
@@ -215,7 +218,6 @@ SERIES_COLUMNS = (
     Column("status", "Status"),
     Column("vintage", "Vintage"),
 )
-
 
 UPLOAD_COLUMNS = (
     Column("at", "When (UTC)"),

@@ -31,8 +31,6 @@ from ...components import Column, table
 from .._shared.view import spread
 
 FORMATS = {"xlsx": "Excel workbook (audit)", "csv": "CSV table", "json": "JSON"}
-
-
 PNG_SIZE = (1200, 675)
 
 
