@@ -145,16 +145,19 @@ def fisher_chain(price: np.ndarray, real: np.ndarray) -> Chained:
     v01 = np.einsum("ij,ij->i", p0, x1)
     v10 = np.einsum("ij,ij->i", p1, x0)
     v11 = np.einsum("ij,ij->i", p1, x1)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(all="ignore"):
         lq = v01 / v00
         pq = v11 / v10
-        ok = (v00 > 0) & (v10 > 0) & (lq > 0) & (pq > 0)
-        qf = np.where(ok, np.sqrt(np.where(ok, lq * pq, 1.0)), np.nan)
-        pf = (v11 / v00) / qf
-        w = p0 + p1 / pf[:, None]
-        frac = w * (x1 - x0) / np.einsum("ij,ij->i", w, x0)[:, None]
-    level[1:] = np.cumprod(qf)
-    changes[1:] = frac * level[:-1, None]
+        qf = np.sqrt(lq * pq)
+        qf[~((v00 > 0) & (v10 > 0) & (lq > 0) & (pq > 0))] = np.nan
+        inv_pf = qf * v00 / v11  # 1 / P_F, P_F = (V1 / V0) / Q_F
+        level[1:] = np.cumprod(qf)
+        # (p0 + p1 / P_F)(x1 - x0) / sum (p0 + p1 / P_F) x0, times the level before
+        w = p1 * inv_pf[:, None]
+        w += p0
+        w *= x1 - x0
+        w *= (level[:-1] / (v00 + v10 * inv_pf))[:, None]
+    changes[1:] = w
     return Chained(level, changes)
 
 
@@ -670,7 +673,8 @@ def _assemble(parts: Sequence[Series], pairs: Mapping[str, str],
     span = results[0].base
     periods = results[0].periods
     for r in results[1:]:
-        periods = periods.union(r.periods)
+        if not r.periods.equals(periods):
+            periods = periods.union(r.periods)
     names = [s.name for s in parts]
     n, t_n = len(names), len(periods)
     nominal = np.full((t_n, n), np.nan)
@@ -681,7 +685,8 @@ def _assemble(parts: Sequence[Series], pairs: Mapping[str, str],
     warnings: list[Problem] = []
     used: list[Series] = []
     for r in results:
-        rows = periods.get_indexer(r.periods)
+        rows = (np.arange(t_n) if r.periods.equals(periods)
+                else periods.get_indexer(r.periods))
         cols = [names.index(s) for s in r.series_names]
         nominal[np.ix_(rows, cols)] = r.nominal
         real[np.ix_(rows, cols)] = r.real[0]
