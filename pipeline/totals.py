@@ -706,9 +706,11 @@ def _assemble(parts: Sequence[Series], pairs: Mapping[str, str],
                                    for j, nm in enumerate(names[:6])),
                    fix="Total parts that cover the same periods.")
     first, last = np.flatnonzero(full)[[0, -1]]
-    if first > 0 or last < t_n - 1:
+    any_rows = np.flatnonzero(present.any(axis=1))  # periods no part has are left out quietly
+    if any_rows[0] < first or any_rows[-1] > last:
         short = [nm for j, nm in enumerate(names)
-                 if not (present[:first, j].all() and present[last + 1:, j].all())]
+                 if not (present[any_rows[0]:first, j].all()
+                         and present[last + 1:any_rows[-1] + 1, j].all())]
         warnings.append(warn(DF211, f"the total covers {out.label(periods[first])} to "
                              f"{out.label(periods[last])}, the periods every part covers",
                              expected="parts covering the same periods",
