@@ -355,6 +355,17 @@ def test_coded_errors():
     assert np.isnan(res.total_real[2]) and not np.isnan(res.total_real[3])
     res = total_of_parts(parts, defl, pairs, "2024-01")
     assert _code(res.table, "quarterly") == ("DF213",)
+    # parts with no period in common
+    early = parts[0].with_values(parts[0].values.iloc[:2])
+    late = parts[1].with_values(parts[1].values.iloc[3:])
+    assert _code(total_of_parts, [early, late], defl, {"item1": "price1", "item2": "price2"},
+                 "2024-01") == ("DF207",)
+    # a net amount that turns the total negative cannot be chain-linked
+    net = parts[1].with_values(pd.Series([-0.5, -0.5, -0.5, -5.0, -5.0], index=ILO_MONTHS))
+    two = {"item1": "price1", "item2": "price2"}
+    assert _code(total_of_parts, [parts[0], net], defl, two, "2024-01",
+                 chain="fisher") == ("DF209",)
+    assert total_of_parts([parts[0], net], defl, two, "2024-01").total_real[3] < 0
 
 
 def test_chained_base_must_be_whole_result_periods_inside_the_total():
