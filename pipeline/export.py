@@ -211,3 +211,75 @@ def write_result(result: DeflationResult, path: str | Path, **context: Any) -> P
                    found=f"{type(err).__name__}: {err.strerror or err}", file=str(p),
                    fix="Check that the folder exists and that you may write there.") from None
     return p
+
+
+def check_suffix(path: str | Path) -> str:
+    """The export format of ``path`` (.csv, .json, .xlsx) or EX001."""
+    p = Path(path)
+    suffix = p.suffix.lower()
+    if suffix not in SUFFIXES:
+        raise fail(EX001, f"cannot write {p.name!r}: unknown export format",
+                   expected="a file name ending in .csv, .json or .xlsx",
+                   found=suffix or "(no suffix)", file=str(p),
+                   fix="Name the output file with one of those suffixes.")
+    return suffix
+
+
+def _records(table: pd.DataFrame) -> list[dict[str, Any]]:
+    cols = list(table.columns)
+    return [{c: _cell(v) for c, v in zip(cols, row, strict=True)}
+            for row in zip(*(table[c].to_numpy() for c in cols), strict=True)]
+
+
+def write_table(table: pd.DataFrame, path: str | Path, *, title: str,
+                method: tuple[str, ...] | list[str] = (), warnings: tuple[Any, ...] = (),
+                text_columns: tuple[str, ...] = (), sheet: str = "Table",
+                extra: Mapping[str, Any] | None = None, **context: Any) -> Path:
+    """Write a table that is not a deflation result (growth, totals) by suffix:
+
+    ``.csv`` the table exactly (text neutralised); ``.json`` ``{"title", ..extra,
+    "columns", "records", "method", "cautions", "warnings", "context"}`` (missing numbers
+    null); ``.xlsx`` a data sheet named ``sheet`` and a method sheet (title, method,
+    cautions, warnings, context)."""
+    p = Path(path)
+    suffix = check_suffix(p)
+    text = text_columns or tuple(c for c in table.columns if not pd.api.types.is_numeric_dtype(
+        table[c]))
+    try:
+        if suffix == ".csv":
+            neutralise_frame(table, text).to_csv(p, index=False, lineterminator=CSV_LINE_END)
+        elif suffix == ".json":
+            data = {"title": title, **dict(extra or {}), "columns": list(table.columns),
+                    "records": _records(table), "method": list(method),
+                    "cautions": list(CAUTIONS), "warnings": [w.as_dict() for w in warnings],
+                    "context": {k: v for k, v in _context_lines(context)}}
+            with open(p, "w", encoding="utf-8") as fh:
+                json.dump(data, fh, ensure_ascii=False, indent=1, allow_nan=False)
+                fh.write("\n")
+        else:
+            from openpyxl import Workbook
+
+            wb = Workbook(write_only=True)
+            write_data_sheet(wb, neutralise_frame(table, text), sheet)
+            ws = wb.create_sheet("Method")
+            ws.append([neutralise(title)])
+            for heading, lines in (("Method", list(method)), ("Cautions", list(CAUTIONS)),
+                                   ("Warnings", [w.render() for w in warnings]),
+                                   ("Context", [f"{k}: {v}" for k, v in
+                                                _context_lines(context)])):
+                if lines:
+                    ws.append([])
+                    ws.append([heading])
+                    for line in lines:
+                        ws.append(["", neutralise(line)])
+            tmp = p.with_name(p.name + ".part")
+            try:
+                wb.save(tmp)
+                tmp.replace(p)
+            finally:
+                tmp.unlink(missing_ok=True)
+    except OSError as err:
+        raise fail(EX002, f"could not write {p.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(p),
+                   fix="Check that the folder exists and that you may write there.") from None
+    return p

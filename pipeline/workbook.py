@@ -15,8 +15,15 @@ Sheets (in this order):
   per-period status, vintage, source and reference.
 * **Status flags** — every real value resting on a preliminary, projected (or
   interpolated) index value, and the preliminary/projected stretches of each deflator.
+* **Contributions** (and **Contributions - year on year**, **Contributions - annual**
+  for sub-annual results) — when the export carries a total of separately deflated parts
+  (:mod:`pipeline.totals`): per period nominal, real, real growth and each part's
+  contribution in percentage points, the total and the residual (total - sum of parts),
+  with the status of each value. Written by :func:`write_contributions_sheets`, which
+  ``realbasis total --out x.xlsx`` (:func:`write_total_workbook`) uses too.
 * **Method** — base period, alignment rules (the engine's method note), seasonal
-  adjustment, index vintages, warnings, cautions, how the file was made.
+  adjustment, index vintages, the total's method, warnings, cautions, how the file was
+  made.
 * **Audit trail** — when the export comes from a stored workspace.
 
 Text that came from users (series and index names, units, notes, file names, settings)
@@ -155,7 +162,8 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
     or screen that made it); ``seasonal`` (words, or a list of lines, on the seasonal
     adjustment applied; default "none"); ``files`` or ``sources`` (input files);
     ``workspace`` (name, id and version text); ``audit`` (a sequence of
-    :class:`pipeline.store.AuditEvent`); ``notes``; ``cautions`` (default
+    :class:`pipeline.store.AuditEvent`); ``total`` (a :class:`pipeline.totals.TotalResult`:
+    adds the Contributions sheets and the total's method); ``notes``; ``cautions`` (default
     :data:`pipeline.model.CAUTIONS`); ``generated_at`` (datetime). Other keys are listed
     on the method sheet as "key: value". Raises EX003 when the data do not fit a sheet,
     EX101 when there are too many series for the wide sheets, EX002 on a write error."""
@@ -179,6 +187,8 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
     for d, name in enumerate(result.deflator_names):
         _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d,
               _adjusted_wide(table, name))
+    if context.get("total") is not None:
+        write_contributions_sheets(wb, context["total"], taken)
     _indexes(wb.create_sheet(SHEET_INDEXES), result)
     _flags(wb.create_sheet(SHEET_FLAGS), result, table)
     _method(wb.create_sheet(SHEET_METHOD), result, context)
@@ -356,7 +366,7 @@ def _flags(ws: Any, result: Any, table: Any) -> None:
 
 
 _KNOWN = {"title", "command", "seasonal", "sources", "files", "workspace", "audit", "notes",
-          "cautions", "generated_at", "base"}
+          "cautions", "generated_at", "base", "total"}
 
 
 def _seasonal_lines(result: Any) -> list[str]:
@@ -381,8 +391,11 @@ def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
             f"{s.name}: vintage {s.vintage or 'not stated'}"
             + (f"; source {s.source}" if s.source else "")
             for s in result.deflators_used] or list(result.deflator_names)),
+        ("Total of parts", list(context["total"].method_note())
+         if context.get("total") is not None else []),
         ("Input files", _lines(context.get("sources")) + _lines(context.get("files"))),
-        ("Warnings", [p.render().replace("\n", "; ") for p in result.warnings] or ["None."]),
+        ("Warnings", [p.render().replace("\n", "; ") for p in _all_warnings(result, context)]
+         or ["None."]),
         ("Cautions", [str(c) for c in (context.get("cautions") or CAUTIONS)]),
         ("Notes", _lines(context.get("notes"))),
         ("How this file was made", [f"realbasis {__version__}"]
@@ -396,6 +409,14 @@ def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
             _append(ws, [_Cell(heading, font=_BOLD) if i == 0 else None,
                          _Cell(line, wrap=True)])
         _append(ws, [])
+
+
+def _all_warnings(result: Any, context: Mapping[str, Any]) -> list[Any]:
+    out = list(result.warnings)
+    total = context.get("total")
+    if total is not None and total is not result:
+        out += [w for w in total.warnings if w not in out]
+    return out
 
 
 def _audit(ws: Any, events: Sequence[Any]) -> None:
@@ -519,12 +540,19 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
                      ) -> Path:
     """Write a workspace's result (.xlsx audit workbook, .csv or .json) the same way the
     command line does, with the workspace, its audit trail and index vintages recorded.
+    When the workspace's settings hold a total of parts (:func:`saved_total`), the
+    workbook also gets its Contributions sheets (:func:`write_contributions_sheets`).
     With a ``store`` and editor access, the export is noted in the audit trail."""
     from .export import write_result
     from .store import current_access
 
     result, used, notes = workspace_result(ws, base=base, deflators=deflators, series=series,
                                            to=to)
+    total = None
+    if Path(path).suffix.lower() == ".xlsx" and saved_total(ws) is not None:
+        total, total_used, total_notes = workspace_total(ws, base=base, to=to)
+        used.update({k: v for k, v in total_used.items() if k not in used})
+        notes += [n for n in total_notes if n not in notes]
     events = store.audit(ws.id) if store is not None else []
     uploads = [f"{e.detail.get('filename')} ({e.detail.get('size')} bytes, sha256 "
                f"{e.detail.get('sha256')})" for e in events if e.event == "upload"]
@@ -534,6 +562,7 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
         "sources": uploads or None,
         "notes": notes or None,
         "audit": events or None,
+        "total": total,
     }
     if Path(path).suffix.lower() != ".xlsx":
         context = {"workspace": context["workspace"], "command": context["command"],
@@ -542,3 +571,219 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
     if store is not None and not current_access().read_only:
         store.record_use(ws.id, used, purpose=f"export {Path(path).name}", actor=actor)
     return out
+
+
+# --------------------------------------------------------------------------- totals
+
+SHEET_CONTRIBUTIONS = "Contributions"
+CONTRIBUTION_SHEETS = (("period", SHEET_CONTRIBUTIONS),
+                       ("yoy", "Contributions - year on year"),
+                       ("annual", "Contributions - annual"))
+_PCT = "0.00"
+_HEADER_ROW = 4  # the Contributions table's header row (title, note, blank above it)
+
+
+def write_contributions_sheets(wb: Any, total: Any, taken: set[str] | None = None) -> None:
+    """Append the Contributions sheet of a :class:`pipeline.totals.TotalResult` (and, for
+    sub-annual results, its year-on-year and annual versions): title and method on rows
+    1-2, the table from row 4 with EXACTLY ``period, component, nominal, real,
+    real_growth_pct, contribution_pp`` plus ``status``, footnotes below."""
+    taken = taken if taken is not None else set()
+    for basis, name in CONTRIBUTION_SHEETS:
+        if basis != "period" and total.frequency.periods_per_year == 1:
+            continue
+        from .totals import BASIS_WORDS
+
+        table = total.table(basis, status=True)
+        if len(table) + _HEADER_ROW + 4 > XLSX_MAX_ROWS:
+            raise fail(EX003, f"{len(table)} rows do not fit on one Excel sheet",
+                       expected=f"at most {XLSX_MAX_ROWS - _HEADER_ROW - 4} rows",
+                       found=str(len(table)),
+                       fix="Export CSV or JSON instead, or total fewer parts at a time.")
+        ws = wb.create_sheet(sheet_title(name, taken))
+        ws.freeze_panes = f"A{_HEADER_ROW + 1}"
+        _widths(ws, {1: 12, 2: 34, 3: 18, 4: 18, 5: 16, 6: 16, 7: 13})
+        _append(ws, [_Cell(f"Contributions to real growth ({BASIS_WORDS[basis]}), in "
+                           f"{total.dollars_label}", font=_BOLD)])
+        _append(ws, [f"Total: {total.chain_words}. Each part deflated by its own deflator; "
+                     "residual = total - sum of the parts' real values."])
+        _append(ws, [])
+        _append(ws, [*table.columns], font=_BOLD)
+        fmts = [None, None, _MONEY, _MONEY, _PCT, _PCT]
+        cols = [table[c].to_numpy() for c in table.columns]
+        for row in zip(*cols, strict=True):
+            _append(ws, [*row[:6], _flagged(str(row[6]))], fmts=fmts)
+        _append(ws, [])
+        for line in ("Contributions are in percentage points and add up to the total's "
+                     "real growth (in percent) in every period.",
+                     "Real growth and contributions are empty where there is no earlier "
+                     "period to compare with; the total and residual have no contribution.",
+                     *(["Some figures rest on preliminary or projected index values (column "
+                        "status)."] if total.worst_status != "final" else [])):
+            _append(ws, [line])
+
+
+def _total_summary(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
+    _widths(ws, {1: 30, 2: 30, 3: 8, 4: 14, 5: 12, 6: 12, 7: 16, 8: 16, 9: 12, 10: 13})
+    title = context.get("title") or f"Total of parts in {total.dollars_label}"
+    _append(ws, [_Cell(str(title), font=_TITLE)])
+    _append(ws, [])
+    labels = total.period_labels
+    made_at = context.get("generated_at") or dt.datetime.now(dt.UTC)
+    facts = [
+        ("Total", f"{total.chain_words}, in {total.dollars_label}"),
+        ("Parts", f"{len(total.part_names)}, each in constant {total.base_label} dollars of "
+                  "its own deflator"),
+        ("Frequency", total.frequency.describe()),
+        ("Periods", f"{labels[0]} to {labels[-1]}" if len(labels) else "none"),
+        ("Worst status", total.worst_status),
+        ("Made by", f"realbasis {__version__}"),
+        ("Made at", made_at.isoformat(timespec="seconds")),
+    ]
+    for label, value in facts:
+        _append(ws, [_Cell(label, font=_BOLD), str(value)])
+    _append(ws, [])
+    _append(ws, ["Component", "Deflator", "Kind", "Unit", "First period", "Last period",
+                 "Real, first", "Real, last", "Real change", "Worst status"], font=_BOLD)
+    vintages = {s.name: s.vintage for s in total.deflators_used}
+    last = len(labels) - 1
+    rows = [(name, f"{d} (vintage {vintages.get(d) or 'not stated'})",
+             total.real[:, j], total.part_status[:, j])
+            for j, (name, d) in enumerate(total.pairs)]
+    rows.append(("total", total.chain_words, total.total_real, total.total_status))
+    for name, defl, real, status in rows:
+        if last < 0:
+            break
+        r0, r1 = float(real[0]), float(real[last])
+        change = (r1 / r0 - 1.0) if r0 and np.isfinite(r0) and np.isfinite(r1) else None
+        _append(ws, [name, defl, total.kind, total.unit or "", labels[0], labels[last], r0, r1,
+                     change, _flagged(_status_name(np.max(status)))],
+                fmts=[None] * 6 + [_MONEY, _MONEY, "0.00%", None])
+    _append(ws, [])
+    _append(ws, [_Cell("Cautions", font=_BOLD)])
+    for line in context.get("cautions") or CAUTIONS:
+        _append(ws, ["• " + str(line)])
+
+
+def _total_method(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
+    _widths(ws, {1: 28, 2: 110})
+    _append(ws, [_Cell("Method", font=_TITLE)])
+    _append(ws, [])
+    sections: list[tuple[str, list[str]]] = [
+        ("Base period", [f"{total.base_label}: every deflator is rebased so that its "
+                         f"average over {total.base_label} is 100; each part's real value "
+                         f"= nominal x 100 / its rebased deflator (constant "
+                         f"{total.base_label} dollars)."]),
+        ("Total and contributions", list(total.method_note())),
+        ("Index vintages", [f"{s.name}: vintage {s.vintage or 'not stated'}"
+                            + (f"; source {s.source}" if s.source else "")
+                            for s in total.deflators_used]),
+        ("Input files", _lines(context.get("sources")) + _lines(context.get("files"))),
+        ("Warnings", [p.render().replace("\n", "; ") for p in total.warnings] or ["None."]),
+        ("Cautions", [str(c) for c in (context.get("cautions") or CAUTIONS)]),
+        ("Notes", _lines(context.get("notes"))),
+        ("How this file was made", [f"realbasis {__version__}"]
+         + _lines(context.get("command"))
+         + [f"{k}: {v}" for k, v in context.items() if k not in _KNOWN and v is not None]),
+    ]
+    for heading, lines in sections:
+        for i, line in enumerate(lines):
+            _append(ws, [_Cell(heading, font=_BOLD) if i == 0 else None,
+                         _Cell(line, wrap=True)])
+        if lines:
+            _append(ws, [])
+
+
+def write_total_workbook(total: Any, path: str | Path, **context: Any) -> Path:
+    """The workbook of a :class:`pipeline.totals.TotalResult`: Summary, Contributions (and
+    its year-on-year and annual versions), Indexes used, Method. ``context`` as for
+    :func:`write_workbook` (``title``, ``command``, ``files``/``sources``, ``notes``,
+    ``cautions``, ``generated_at``; others are listed on the method sheet)."""
+    path = Path(path)
+    wb = Workbook(write_only=True)
+    taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_INDEXES, SHEET_METHOD)}
+    _total_summary(wb.create_sheet(SHEET_SUMMARY), total, context)
+    write_contributions_sheets(wb, total, taken)
+    _indexes(wb.create_sheet(SHEET_INDEXES), total)
+    _total_method(wb.create_sheet(SHEET_METHOD), total, context)
+    tmp = path.with_name(path.name + ".part")
+    try:
+        wb.save(tmp)
+        tmp.replace(path)
+    except OSError as err:
+        tmp.unlink(missing_ok=True)
+        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
+                   fix="Check that the folder exists, that you may write there, and that "
+                       "no spreadsheet program holds the file open.") from None
+    return path
+
+
+def saved_total(ws: Any) -> dict[str, Any] | None:
+    """The total of parts a workspace's settings describe, or None:
+    ``settings["total"] = {"pairs": {series: deflator, ...}, "chain": "none|fisher|annual"}``."""
+    spec = (ws.settings or {}).get("total")
+    if not isinstance(spec, Mapping) or not isinstance(spec.get("pairs"), Mapping) or \
+            not spec["pairs"]:
+        return None
+    return {"pairs": {str(k): str(v) for k, v in spec["pairs"].items()},
+            "chain": str(spec.get("chain") or "none")}
+
+
+def workspace_total(ws: Any, *, base: str | None = None,
+                    pairs: Mapping[str, str] | None = None, chain: str | None = None,
+                    to: Any = None) -> tuple[Any, dict[str, str], list[str]]:
+    """The total of parts of a stored workspace, each part deflated by its paired index.
+
+    Pairs and chain: as given, else ``settings["total"]`` (see :func:`saved_total`); base:
+    as given, else the saved base; each index at the vintage in ``settings["vintages"]``
+    or its latest; each part cut to the periods its deflator covers. Returns the
+    :class:`pipeline.totals.TotalResult`, the index vintages used and notes on cutting."""
+    from .totals import total_of_parts
+
+    settings = dict(ws.settings or {})
+    spec = saved_total(ws) or {}
+    pairs = dict(pairs if pairs is not None else spec.get("pairs") or {})
+    chain = chain or spec.get("chain") or "none"
+    base = (base or str(settings.get("base") or "")).strip()
+    if not base or not pairs:
+        raise fail(EX102, "the total of parts needs " + " and ".join(
+                   w for w, ok in (("a base period", base), ("a deflator for each part", pairs))
+                   if not ok), expected="a saved base period and a deflator for each part",
+                   found=f"base {base or 'none'}; {len(pairs)} pair(s)",
+                   fix="Choose the base period and a deflator for each part, and save them "
+                       "with the workspace.", remedy="export_choices")
+    saved_vintages = settings.get("vintages") if isinstance(settings.get("vintages"), dict) else {}
+    used: dict[str, str] = {}
+    defl: dict[str, Any] = {}
+    for d in dict.fromkeys(pairs.values()):
+        if d in ws.indexes:
+            vins = ws.indexes[d]
+            key = str(saved_vintages.get(d)) if saved_vintages.get(d) in vins else _latest(vins)
+            used[d] = key
+            defl[d] = vins[key]
+    parts, notes = [], []
+    for name in pairs:
+        if name not in ws.series:
+            parts.append(None)
+            continue
+        s = ws.series[name]
+        if pairs[name] in defl:
+            s, note = _trim(s, [defl[pairs[name]]])
+            if note:
+                notes.append(note)
+        parts.append(s)
+    missing = [n for n, s in zip(pairs, parts, strict=True) if s is None]
+    if missing:
+        from .totals import DF202
+
+        raise fail(DF202, f"the saved total names {len(missing)} series the workspace does "
+                   "not hold", expected="series of the workspace",
+                   found=", ".join(repr(n) for n in missing), series=missing[0],
+                   fix="Pair only series of the workspace (a series may have been renamed "
+                       "or removed).")
+    freq = _frequency(to if to is not None else settings.get("frequency", "auto"), parts,
+                      list(defl.values()))
+    total = total_of_parts(parts, list(defl.values()), pairs, base, chain=chain,  # type: ignore[arg-type]
+                           to=freq)
+    return total, used, notes

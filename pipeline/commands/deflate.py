@@ -57,6 +57,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--out", metavar="PATH", default=None,
                    help="write .csv, .json or .xlsx; default: print the table (CSV) to stdout")
     add_sa_arguments(p)
+    add_growth_arguments(p)
 
 
 def add_sa_arguments(p: argparse.ArgumentParser) -> None:
@@ -196,10 +197,73 @@ def seasonally_adjust(args: argparse.Namespace, result: DeflationResult) -> Defl
     return adjusted.as_result()  # type: ignore[return-value]
 
 
+def _growth_path(text: str) -> str:
+    from pipeline.export import SUFFIXES
+
+    if not text.lower().endswith(SUFFIXES):
+        raise argparse.ArgumentTypeError(f"{text!r} must end in .csv, .json or .xlsx")
+    return text
+
+
+def add_growth_arguments(p: argparse.ArgumentParser) -> None:
+    """``--growth-out``: the growth table (pipeline.growth.split_table)."""
+    p.add_argument("--growth-out", dest="growth_out", metavar="PATH", type=_growth_path,
+                   default=None,
+                   help="also write growth rates (.csv, .json or .xlsx): series, deflator, "
+                   "measure (period, annualised, yoy, cagr, cumulative), start, end, "
+                   "nominal_pct, price_pct, real_pct; with --sa, of the adjusted values")
+
+
+def _adjusted_arrays(result: DeflationResult) -> tuple[object, object] | None:
+    """The seasonally adjusted nominal (T, S) and real (D, T, S) of an adjusted result."""
+    adjusted = getattr(result, "_adjusted", None)
+    if adjusted is None:
+        return None
+    import numpy as np
+    import pandas as pd
+
+    table = adjusted.table
+    s_i = pd.Index(result.series_names).get_indexer(table["series"].astype(str))
+    d_i = pd.Index(result.deflator_names).get_indexer(table["deflator"].astype(str))
+    t_i = pd.Index(result.frequency.labels(result.periods)).get_indexer(
+        table["period"].astype(str))
+    nominal = np.full(np.shape(result.nominal), np.nan)
+    real = np.full(np.shape(result.real), np.nan)
+    nominal[t_i, s_i] = table["nominal_sa"].to_numpy(dtype=float)
+    real[d_i, t_i, s_i] = table["real_sa"].to_numpy(dtype=float)
+    return nominal, real
+
+
+def write_growth(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> None:
+    """With --growth-out: nominal, price and real growth of every series x deflator."""
+    path = getattr(args, "growth_out", None)
+    if not path:
+        return
+    from pipeline.export import write_table
+    from pipeline.growth import split_table
+
+    arrays = _adjusted_arrays(result)
+    growth = split_table(result, nominal=arrays[0] if arrays else None,  # type: ignore[arg-type]
+                         real=arrays[1] if arrays else None,  # type: ignore[arg-type]
+                         adjusted=arrays is not None)
+    for p in growth.warnings:
+        sys.stderr.write("warning: " + p.render(CLI).replace("\n", "\n  ") + "\n")
+    write_table(growth.table, path, title=f"Growth in {result.dollars_label}",
+                method=(*growth.method_note(), *result.method_note()),
+                warnings=(*result.warnings, *growth.warnings),
+                text_columns=("series", "deflator", "measure", "start", "end"),
+                sheet="Growth", extra={"base": result.base_label,
+                                       "frequency": result.frequency.describe(),
+                                       "dollars": result.dollars_label},
+                command="realbasis deflate", files="; ".join(inputs.files))
+    sys.stderr.write(f"wrote {path} (growth rates in percent, {len(growth.table)} rows)\n")
+
+
 def run(args: argparse.Namespace) -> int:
     inputs = load_inputs(args)
     result = seasonally_adjust(args, compute(args, inputs))
     emit(args, inputs, result)
+    write_growth(args, inputs, result)
     return 0
 
 
