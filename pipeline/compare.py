@@ -374,9 +374,13 @@ def _fit_one(s: Series, d: Series, span: Span, to: Frequency | None, fy: int | N
             reason = f"{runs}, which does not reach the base {span.label}{extra}"
             return Fit(d.name, "needs_projection", reason, d.frequency, None, (),
                        interp_used, until, alt, tuple(probs))
-        where = "begins after" if dm[0] > need_first else "does not cover"
-        return Fit(d.name, "cannot", f"{runs}; it {where} the periods the series or the "
-                   f"base {span.label} need", d.frequency, None, (), interp_used, None, alt,
+        if dm[0] > need_first:
+            reason = (f"{runs}; it begins after the start of the periods the series or the "
+                      f"base {span.label} need")
+        else:
+            gaps = "; ".join(dict.fromkeys(p.found for p in probs if p.code in _COVER_CODES))
+            reason = f"{runs}, with values missing inside that span ({gaps})"
+        return Fit(d.name, "cannot", reason, d.frequency, None, (), interp_used, None, alt,
                    tuple(probs))
     reason = interp_reason or "; ".join(dict.fromkeys(p.message for p in probs))
     return Fit(d.name, "cannot", reason, d.frequency, None, (), interp_used, None, alt,
