@@ -297,7 +297,7 @@ def _run_vintages(args: argparse.Namespace) -> int:
         old = revisions.apply_status_rule(old, last_preliminary=args.old_preliminary_last)
     if args.new_preliminary_last is not None:
         new = revisions.apply_status_rule(new, last_preliminary=args.new_preliminary_last)
-    comp = revisions.compare_vintages(old, new, rebase_to=args.rebase)
+    comp = revisions.compare_vintages(old, new, rebase_to=args.rebase, fy_start=args.fy_start)
     _warn(comp.warnings)
     sys.stderr.write("\n".join(comp.method_note()) + "\n")
     meta = {"command": "index vintages", "method": list(comp.method_note()),
