@@ -294,9 +294,8 @@ def _prepare_deflators(deflators: Sequence[Series], span: Span, *, interpolate: 
         ranks_a = ranks.to_numpy(dtype=np.int8)
         bpos = full.get_indexer(span.periods_in(d.frequency))
         base_rank = int(ranks_a[bpos].max()) if len(bpos) else 0
-        if interp is not None:
-            interp = pd.Series(interp, index=d.index).reindex(full).fillna(False).to_numpy(
-                dtype=bool)
+        if interp is not None:  # every value of a bridged deflator is interpolated
+            interp = np.ones(len(full), dtype=bool)
         out.append(_Deflator(d, full, 100.0 * vals / mean, ranks_a, base_rank, interp, bridge,
                              bridged))
     if problems:
