@@ -41,7 +41,7 @@ import pandas as pd
 
 from .errors import Location, Problem, RealbasisError, fail, register, warn
 from .indexes import _require_index, base_means
-from .model import STATUSES, Frequency, Kind, Series
+from .model import MONTHLY, STATUSES, Frequency, Kind, Series
 from .periods import (
     PE201,
     PE204,
@@ -241,14 +241,48 @@ class _Deflator:
     rebased: np.ndarray  # (len(full),) base = 100
     ranks: np.ndarray  # (len(full),) int8 status ranks
     base_rank: int
+    interp: np.ndarray | None = None  # (len(full),) bool: made by interpolation (bridged)
+    bridge: str = ""  # words on the interpolation, when the deflator was bridged
+    bridge_warnings: tuple[Problem, ...] = ()
 
 
-def _prepare_deflators(deflators: Sequence[Series], span: Span) -> list[_Deflator]:
+def _needs_bridge(d: Series, span: Span, freqs: Sequence[Frequency]) -> bool:
+    """Whether ``d`` must be interpolated to months to serve at all: its periods do not
+    nest with a series' (calendar years and fiscal years starting July), or the base is
+    not made of whole periods of it (FY2025 for a calendar-year index)."""
+    if d.frequency.code == "M":
+        return False
+    if any(relation(f, d.frequency) is None for f in freqs):
+        return True
+    try:
+        span.periods_in(d.frequency)
+    except RealbasisError:
+        return True
+    return False
+
+
+def _bridge(d: Series) -> tuple[Series, np.ndarray, str, tuple[Problem, ...]]:
+    """``d`` interpolated to months (every value flagged), with the words for the note."""
+    conv = interpolate_index(d, MONTHLY)
+    words = (f"{d.name!r} ({d.frequency.describe()}) was first interpolated to months, "
+             "because its periods do not fit the series' or the base's (straight line "
+             "between mid-period values; every value resting on it is flagged as "
+             "interpolated)")
+    return conv.series, np.ones(len(conv.series.index), dtype=bool), words, conv.warnings
+
+
+def _prepare_deflators(deflators: Sequence[Series], span: Span, *, interpolate: bool = False,
+                       freqs: Sequence[Frequency] = ()) -> list[_Deflator]:
     out = []
     problems: list[Problem] = []
     for d in deflators:
         _require_index(d)
         check_index(d)
+        interp = None
+        bridge = ""
+        bridged: tuple[Problem, ...] = ()
+        if interpolate and _needs_bridge(d, span, freqs):
+            d, interp, bridge, bridged = _bridge(d)
         full = full_range(d.values.dropna().index, d.frequency)
         vals = d.values.reindex(full).to_numpy(dtype=float)
         try:
@@ -260,7 +294,10 @@ def _prepare_deflators(deflators: Sequence[Series], span: Span) -> list[_Deflato
         ranks_a = ranks.to_numpy(dtype=np.int8)
         bpos = full.get_indexer(span.periods_in(d.frequency))
         base_rank = int(ranks_a[bpos].max()) if len(bpos) else 0
-        out.append(_Deflator(d, full, 100.0 * vals / mean, ranks_a, base_rank))
+        if interp is not None:  # every value of a bridged deflator is interpolated
+            interp = np.ones(len(full), dtype=bool)
+        out.append(_Deflator(d, full, 100.0 * vals / mean, ranks_a, base_rank, interp, bridge,
+                             bridged))
     if problems:
         raise RealbasisError(problems)
     return out
@@ -289,7 +326,11 @@ def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str) -> _AtWork
                  f"{name!r} ({src.describe()}) taken to {work.describe()} as the "
                  f"{RULE_WORDS[rule]}" + (" (stocks use the index at the period's end)"
                                           if rule == "last" else ""))
-        return _AtWork(g.index, g.values[:, 0], r, np.zeros(len(g.index), dtype=bool), words)
+        flags = np.zeros(len(g.index), dtype=bool)
+        if d.interp is not None and len(g.index):
+            flags = np.maximum.reduceat(d.interp.astype(np.int8), g.starts).astype(bool)
+            words = f"{d.bridge}; {words}"
+        return _AtWork(g.index, g.values[:, 0], r, flags, words, d.bridge_warnings)
     # deflator coarser than the working frequency: interpolate (only asked-for path)
     s = d.series.with_values(pd.Series(d.rebased, index=d.full),
                              status=pd.Series(_STATUS_ARR[d.ranks.astype(np.intp)],
@@ -381,7 +422,9 @@ def _block(
                        f"({dfreq.describe()}): the periods do not nest",
                        expected="series and deflator periods that fit into one another",
                        found=f"{freq.describe()} and {dfreq.describe()}", series=names[0],
-                       fix="Use a deflator whose periods align with the series.")
+                       fix="Use a deflator whose periods align with the series, or allow "
+                       "interpolating it to months (every value resting on an interpolated "
+                       "one is then flagged).", remedy="interpolate")
         # working frequency: the highest both share
         work = freq
         if rel_sd == "coarser":
@@ -576,7 +619,8 @@ def deflate_frame(
     _unique(tuple(d.name for d in deflators), "deflator")
     fy = _resolve_fy(fy_start, to, [frequency, *(d.frequency for d in deflators)])
     span = parse_span(base, fy)
-    defl = _prepare_deflators(deflators, span)
+    defl = _prepare_deflators(deflators, span, interpolate=interpolate,
+                              freqs=(frequency, *((to,) if to else ())))
     idx = nominal.index
     full = full_range(idx, frequency) if len(idx) else idx
     arr = nominal.to_numpy(dtype=float)
@@ -703,7 +747,8 @@ def deflate(
                    remedy="result_frequency")
     fy = _resolve_fy(fy_start, to, [*freqs, *(d.frequency for d in deflators)])
     span = parse_span(base, fy)
-    defl = _prepare_deflators(deflators, span)
+    defl = _prepare_deflators(deflators, span, interpolate=interpolate,
+                              freqs=(*freqs, *((to,) if to else ())))
     groups: dict[tuple[Frequency, str], list[Series]] = {}
     for s in series:
         groups.setdefault((s.frequency, kind or s.kind), []).append(s)

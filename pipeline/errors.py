@@ -94,7 +94,9 @@ def fix_text(problem: Problem, vocabulary: Mapping[str, str] | None = None) -> s
 @dataclass(frozen=True)
 class Location:
     """Where a problem sits. Rows are 1-based as a spreadsheet user counts them
-    (the header is row 1 of a CSV); columns are header names where there is one."""
+    (the header is row 1 of a CSV); columns are header names where there is one.
+    ``line`` is the 1-based line of typed text (a table pasted into a box rather than a
+    file: no file name, no row)."""
 
     file: str | None = None
     sheet: str | None = None
@@ -102,9 +104,12 @@ class Location:
     column: str | None = None
     series: str | None = None
     period: str | None = None
+    line: int | None = None
 
     def render(self) -> str:
         parts = []
+        if self.line is not None:
+            parts.append(f"line {self.line}")
         if self.file:
             parts.append(f"file {self.file}")
         if self.sheet:

@@ -2,8 +2,8 @@
 
 * ``.csv``: the tidy table with EXACTLY the columns ``series, deflator, period, nominal,
   deflator_index, real, status`` (periods written 2024-01, 2024Q1, 2024, FY2025), plus an
-  ``interpolated`` column only when interpolation was used (never on the command line,
-  which has no interpolation switch).
+  ``interpolated`` column only when interpolation was used (on the command line only
+  with ``--interpolate``).
 * ``.json``: ``{"base", "frequency", "dollars", "columns", "records", "method",
   "cautions", "warnings", "context"}``; missing numbers are ``null``.
 * ``.xlsx``: the audit workbook of :mod:`pipeline.workbook` (Summary, the "Real terms"

@@ -25,6 +25,10 @@ Sheets (in this order):
   adjustment, index vintages, the total's method, warnings, cautions, how the file was
   made.
 * **Audit trail** — when the export comes from a stored workspace.
+* **Budget** — with ``budget=`` (one :class:`pipeline.budget.BudgetTable` or several):
+  every program by year in then-year and constant dollars, totals, real growth and the
+  compound annual rate, projected out-years shaded (:func:`write_budget_sheet`, also
+  written on its own with a method sheet by :func:`write_budget_workbook`).
 
 Text that came from users (series and index names, units, notes, file names, settings)
 is *neutralised* before it is written: a cell starting with ``=``, ``+``, ``-``, ``@``, a
@@ -62,6 +66,7 @@ SHEET_INDEXES = "Indexes used"
 SHEET_FLAGS = "Status flags"
 SHEET_METHOD = "Method"
 SHEET_AUDIT = "Audit trail"
+SHEET_BUDGET = "Budget"
 REAL_PREFIX = "Real - "
 
 _BOLD = Font(bold=True)
@@ -183,6 +188,7 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
     taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_DATA, SHEET_INDEXES, SHEET_FLAGS,
                                  SHEET_METHOD, SHEET_AUDIT)}
     _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
+    _budget_sheets(wb, context.get("budget"), taken)
     write_data_sheet(wb, export_table(result), SHEET_DATA)
     for d, name in enumerate(result.deflator_names):
         _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d,
@@ -366,7 +372,7 @@ def _flags(ws: Any, result: Any, table: Any) -> None:
 
 
 _KNOWN = {"title", "command", "seasonal", "sources", "files", "workspace", "audit", "notes",
-          "cautions", "generated_at", "base", "total"}
+          "cautions", "generated_at", "base", "total", "budget"}
 
 
 def _seasonal_lines(result: Any) -> list[str]:
@@ -428,6 +434,102 @@ def _audit(ws: Any, events: Sequence[Any]) -> None:
                      e.version if e.version is not None else "", e.describe(limit=4000)])
 
 
+# --------------------------------------------------------------------------- budget
+
+_PCT = "0.00%"
+
+
+def _budget_sheets(wb: Any, budget: Any, taken: set[str]) -> list[Any]:
+    """Write a Budget sheet per table in ``budget`` (one table, several, or None)."""
+    if budget is None:
+        return []
+    tables = list(budget) if isinstance(budget, list | tuple) else [budget]
+    sheets = []
+    for t in tables:
+        name = SHEET_BUDGET if len(tables) == 1 else f"{SHEET_BUDGET} - {t.deflator}"
+        sheets.append(write_budget_sheet(wb, t, sheet_title(name, taken)))
+    return sheets
+
+
+def write_budget_sheet(wb: Any, table: Any, title: str = SHEET_BUDGET) -> Any:
+    """Append a Budget sheet for a :class:`pipeline.budget.BudgetTable`: title, base
+    and deflator, then per program its then-year and constant dollars by year, real
+    growth on the previous year, status, and the compound annual growth over the span;
+    out-years shaded as projected, cautions underneath."""
+    ws = wb.create_sheet(title)
+    years = list(table.years)
+    ws.freeze_panes = "C6"
+    _widths(ws, {1: 30, 2: 34, **{c: 14 for c in range(3, 4 + len(years))}})
+    _append(ws, [_Cell(table.title, font=_TITLE)])
+    _append(ws, [f"Amounts in {table.unit or 'the programs’ own units'}; constant dollars "
+                 f"of {table.base}; deflator {table.deflator}; given in "
+                 f"{table.given} dollars."])
+    _append(ws, [])
+    span_col = f"compound annual growth {table.span_label}"
+    _append(ws, ["", ""] + [_Cell("projected", fill=_FLAG_FILL["projected"])
+                            if y in table.out_years else "" for y in years] + [""])
+    _append(ws, ["program", "measure", *years, span_col], font=_BOLD)
+    for rec in table.layout().to_dict("records"):
+        measure = rec["measure"]
+        row: list[Any] = [rec["program"], measure]
+        for y in years:
+            v = rec[y]
+            if measure == "status":
+                row.append(_flagged(str(v)) if v else "")
+            elif measure.startswith("real growth"):
+                row.append(_Cell(v, fmt=_PCT))
+            else:
+                fill = (_FLAG_FILL["projected"] if table.status.at[rec["program"], y]
+                        == "projected" else None)
+                row.append(_Cell(v, fmt=_MONEY, fill=fill))
+        whole = rec[span_col]
+        row.append(_Cell(whole, fmt=_PCT) if whole is not None else None)
+        _append(ws, row, font=_BOLD if rec["program"] == "Total" and measure != "status"
+                else None)
+    _append(ws, [])
+    _append(ws, [_Cell("Cautions", font=_BOLD)])
+    for line in CAUTIONS:
+        _append(ws, ["• " + line])
+    return ws
+
+
+def write_budget_workbook(tables: Sequence[Any], path: str | Path, **context: Any) -> Path:
+    """A workbook of budget tables: one Budget sheet per table and a Method sheet (the
+    tables' method notes, warnings, cautions, how the file was made)."""
+    path = Path(path)
+    wb = Workbook(write_only=True)
+    taken = {SHEET_METHOD.lower()}
+    _budget_sheets(wb, list(tables), taken)
+    ws = wb.create_sheet(SHEET_METHOD)
+    _widths(ws, {1: 28, 2: 110})
+    _append(ws, [_Cell("Method", font=_TITLE)])
+    _append(ws, [])
+    for t in tables:
+        for i, line in enumerate(t.method_note()):
+            _append(ws, [_Cell(t.deflator, font=_BOLD) if i == 0 else None,
+                         _Cell(line, wrap=True)])
+        for p in t.warnings:
+            _append(ws, [p.code, _Cell(p.render().replace("\n", "; "), wrap=True)])
+        _append(ws, [])
+    for i, line in enumerate(CAUTIONS):
+        _append(ws, [_Cell("Cautions", font=_BOLD) if i == 0 else None, line])
+    _append(ws, [])
+    made = [f"realbasis {__version__}", *(f"{k}: {v}" for k, v in context.items()
+                                          if v is not None)]
+    for i, line in enumerate(made):
+        _append(ws, [_Cell("How this file was made", font=_BOLD) if i == 0 else None, line])
+    tmp = path.with_name(path.name + ".part")
+    try:
+        wb.save(tmp)
+        tmp.replace(path)
+    except OSError as err:
+        tmp.unlink(missing_ok=True)
+        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
+                   fix="Check that the folder exists and that you may write there.") from None
+    return path
+
+
 # --------------------------------------------------------------------------- workspaces
 
 EX102 = register("EX102", "workspace export needs a base period, series and deflators")
@@ -486,7 +588,8 @@ def workspace_result(ws: Any, *, base: str | None = None,
     Series: ``series``, else the workspace's chosen series and every other series of the
     same frequency. Deflators: ``deflators``, else the chosen ones, else every index; each
     at the vintage in ``settings["vintages"]`` or its latest. Base: ``base``, else the
-    saved base. Returns the result, the index vintages used and notes on trimming."""
+    saved base, fiscal labels read with the workspace's fiscal year
+    (:func:`pipeline.fiscal.workspace_fiscal_year`). Returns the result, the index vintages used and notes on trimming."""
     from .deflate import deflate
 
     settings = dict(ws.settings or {})
@@ -530,7 +633,9 @@ def workspace_result(ws: Any, *, base: str | None = None,
         if note:
             notes.append(note)
     freq = _frequency(to if to is not None else settings.get("frequency", "auto"), money, defl)
-    return deflate(money, defl, base, to=freq), used, notes
+    from .fiscal import fiscal_start_of
+
+    return deflate(money, defl, base, to=freq, fy_start=fiscal_start_of(ws)), used, notes
 
 
 def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,

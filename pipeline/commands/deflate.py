@@ -4,6 +4,7 @@
                       [--to M|Q|A|FY] [--fiscal-start 1-12] [--kind flow|stock] [--out PATH]
                       [--sa none|stl|stl-robust|x13|classical] [--sa-order deflate-first|adjust-first]
                       [--sa-model auto|multiplicative|additive] [--sa-interpolate]
+                      [--outlay-rates [NAME=]R0,R1,...] [--budget-out PATH] [--interpolate]
 
 Every money (flow or stock) series of SERIES_FILE is deflated by every index column of
 every --index file. ``--out`` ending in .csv, .json or .xlsx writes that file; without it
@@ -14,7 +15,9 @@ stderr, no traceback).
 The command is built in steps other parts extend without touching the rest:
 ``add_arguments`` (the parser), ``load_inputs`` (files to Series), ``prepare_series``
 (hook applied to the money series before deflation, e.g. seasonal adjustment),
-``compute`` (the engine call) and ``emit`` (output).
+``compute`` (the engine call) and ``emit`` (output). Budget options live in their own
+steps: ``add_budget_arguments``, ``compute_authority`` (outlay-weighted authority) and
+``emit_budget`` (the budget table).
 """
 
 from __future__ import annotations
@@ -58,6 +61,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="write .csv, .json or .xlsx; default: print the table (CSV) to stdout")
     add_sa_arguments(p)
     add_growth_arguments(p)
+    add_budget_arguments(p)
 
 
 def add_sa_arguments(p: argparse.ArgumentParser) -> None:
@@ -156,8 +160,11 @@ def target_frequency(args: argparse.Namespace, inputs: Inputs) -> Frequency | No
 
 def compute(args: argparse.Namespace, inputs: Inputs) -> DeflationResult:
     series = prepare_series(args, inputs.series)
+    if getattr(args, "outlay_rates", None):
+        return compute_authority(args, inputs, series)
     return deflate(series, inputs.deflators, args.base, to=target_frequency(args, inputs),
-                   kind=args.kind, fy_start=args.fiscal_start)
+                   kind=args.kind, fy_start=args.fiscal_start,
+                   interpolate=getattr(args, "interpolate", False))
 
 
 def emit(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> None:
@@ -264,7 +271,78 @@ def run(args: argparse.Namespace) -> int:
     result = seasonally_adjust(args, compute(args, inputs))
     emit(args, inputs, result)
     write_growth(args, inputs, result)
+    emit_budget(args, inputs, result)
     return 0
+
+
+# --------------------------------------------------------------------------- budgets
+
+CL254 = register_code("CL254", "outlay rates for every series given twice")
+
+
+def add_budget_arguments(p: argparse.ArgumentParser) -> None:
+    """Budget options: outlay-weighted authority (pipeline.outlay), the budget table
+    (pipeline.budget) and interpolation of a deflator whose periods do not fit."""
+    p.add_argument("--outlay-rates", dest="outlay_rates", action="append", default=None,
+                   metavar="[NAME=]R0,R1,...",
+                   help="deflate budget authority through its outlay rates: the shares spent "
+                   "in the year of authority and the following years, adding up to 1 "
+                   "(0.5,0.3,0.2 or 50%%,30%%,20%%); NAME=... for one series only "
+                   "(repeatable); results are by year")
+    p.add_argument("--budget-out", dest="budget_out", metavar="PATH", default=None,
+                   help="also write the budget table (every program by year in then-year "
+                   "and constant dollars, totals, real growth) as .csv, .json or .xlsx; "
+                   "needs results by year (--to FY or yearly series)")
+    p.add_argument("--interpolate", action="store_true",
+                   help="let a deflator whose periods do not fit the series' (calendar years "
+                   "for July fiscal years, quarters for monthly results) serve by "
+                   "interpolation; every value resting on it is flagged (column "
+                   "'interpolated')")
+
+
+def outlay_plan(args: argparse.Namespace, names: tuple[str, ...]
+                ) -> str | dict[str, str]:
+    """--outlay-rates as the engine takes them: one set for every series, or per series
+    (a set for every series plus NAME=... overrides gives each series its own)."""
+    items = list(args.outlay_rates or [])
+    common = [i for i in items if "=" not in i]
+    per = {k.strip(): v for k, _, v in (i.partition("=") for i in items if "=" in i)}
+    if len(common) > 1:
+        raise fail(CL254, "--outlay-rates for every series is given more than once",
+                   expected="one --outlay-rates R0,R1,... and NAME=R0,R1,... for exceptions",
+                   found=", ".join(repr(c) for c in common),
+                   fix="Keep one set for every series; name the series for the others.")
+    if common and not per:
+        return common[0]
+    if common:
+        return {n: per.get(n, common[0]) for n in names} | per
+    return per
+
+
+def compute_authority(args: argparse.Namespace, inputs: Inputs,
+                      series: tuple[Series, ...]) -> DeflationResult:
+    """With --outlay-rates: authority deflated through its outlay rates (pipeline.outlay);
+    series without rates are deflated as usual."""
+    from pipeline.outlay import deflate_authority
+
+    return deflate_authority(series, inputs.deflators, args.base,
+                             outlay_plan(args, tuple(s.name for s in series)),
+                             to=target_frequency(args, inputs), fy_start=args.fiscal_start,
+                             interpolate=getattr(args, "interpolate", False))
+
+
+def emit_budget(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> None:
+    """With --budget-out: the budget table of every deflator (pipeline.budget)."""
+    if not getattr(args, "budget_out", None):
+        return
+    from pipeline.budget import from_result, write_budget
+
+    tables = [from_result(result, d) for d in range(len(result.deflator_names))]
+    path = write_budget(tables, args.budget_out, command="realbasis deflate",
+                        files="; ".join(inputs.files), base=result.base_label)
+    sys.stderr.write(f"wrote {path} (budget table, {result.dollars_label}; "
+                     f"{len(tables[0].programs)} programs x {len(tables[0].years)} years, "
+                     f"{len(tables)} deflator(s))\n")
 
 
 def register(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:

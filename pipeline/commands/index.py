@@ -219,10 +219,20 @@ def parse_rates(items: Sequence[str]) -> float | dict[str, float]:
     return rates
 
 
+def rate_texts(items: Sequence[str]) -> str | dict[str, str]:
+    """The --rate values as given (checked by :func:`parse_rates`), so that the engine
+    reads them and an out-of-range rate is shown as it was typed."""
+    parse_rates(items)
+    if len(items) == 1 and "=" not in items[0]:
+        return items[0]
+    return {year.strip(): value for year, _, value in (it.partition("=") for it in items)}
+
+
 def _run_project(args: argparse.Namespace) -> int:
     ix = _as_index(_pick(_load(args.index_file, args.fy_start), args.series, args.index_file))
     yf = Frequency("FY", args.fiscal_years) if args.fiscal_years else None
-    res = projection.project(ix, parse_rates(args.rate), until=args.until, year_frequency=yf)
+    res = projection.project(ix, rate_texts(args.rate), until=args.until, year_frequency=yf,
+                             fy_start=args.fy_start)
     _warn(res.warnings)
     meta = {"command": "index project", "rates": dict(res.rates), "method": list(res.method_note())}
     _write(res.table(), args.out, meta)
@@ -287,7 +297,7 @@ def _run_vintages(args: argparse.Namespace) -> int:
         old = revisions.apply_status_rule(old, last_preliminary=args.old_preliminary_last)
     if args.new_preliminary_last is not None:
         new = revisions.apply_status_rule(new, last_preliminary=args.new_preliminary_last)
-    comp = revisions.compare_vintages(old, new, rebase_to=args.rebase)
+    comp = revisions.compare_vintages(old, new, rebase_to=args.rebase, fy_start=args.fy_start)
     _warn(comp.warnings)
     sys.stderr.write("\n".join(comp.method_note()) + "\n")
     meta = {"command": "index vintages", "method": list(comp.method_note()),
