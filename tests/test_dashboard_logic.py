@@ -326,7 +326,8 @@ def test_revisions_screen_reports_what_moved(demo: Workspace):
 
 def test_shelf_rows_show_vintages_and_stretches(demo: Workspace):
     rows = [r for r in logic.shelf_rows(demo) if r["name"] == "Chained consumer index"]
-    assert {r["vintage"] for r in rows} == {"2026-10-15", "2026-04-15"}
+    assert {r["vintage"] for r in rows} == {"2026-10-15", "2026-04-15", "2025-10-15",
+                                            "2025-04-15"}
     latest = next(r for r in rows if r["latest"] == "yes")
     assert latest["status"] == "preliminary 2025-11–2026-09"
 
@@ -682,7 +683,7 @@ def test_real_terms_say_which_out_years_the_deflator_does_not_reach(demo: Worksp
 
 
 def test_index_pickers_name_the_vintage_used_when_several_are_held(demo: Workspace):
-    # The demo holds two vintages of the chained consumer index; pickers act on the latest,
+    # The demo holds several vintages of the chained consumer index; pickers act on the latest,
     # and the label must say which one (common practice: state the vintage used).
     opts = {o["value"]: o["label"] for o in logic.index_options(demo)}
     assert opts["Chained consumer index"] == (
