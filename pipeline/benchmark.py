@@ -276,7 +276,8 @@ def benchmark(indicator: Series, benchmarks: Series, *,
         raise fail(PE233, "nothing to benchmark", expected="indicator and benchmark values",
                    found=f"{len(ind)} indicator and {len(b)} benchmark value(s)",
                    series=indicator.name, fix="Give both series with values.")
-    # every sub-period of every benchmark present and positive?
+    # benchmark periods inside the indicator's span are used (and must be complete);
+    # those reaching before its first or after its last value are left out
     low_idx = b.index
     full_lo = pd.period_range(low_idx[0], low_idx[-1], freq=f_lo.pandas_freq)
     first = pd.Period(ordinal=int(first_months(full_lo[:1])[0]), freq="M").asfreq(
@@ -284,10 +285,11 @@ def benchmark(indicator: Series, benchmarks: Series, *,
     hi_idx = pd.period_range(first, periods=k * len(full_lo), freq=f_hi.pandas_freq)
     hi_vals = indicator.values.reindex(hi_idx).to_numpy(dtype=float)
     ok = np.isfinite(hi_vals) & (hi_vals > 0)
-    covered = ok.reshape(len(full_lo), k).all(axis=1) & np.asarray(
-        benchmarks.values.reindex(full_lo).notna())
-    runs = _runs(covered)
-    if not runs:
+    b_vals = benchmarks.values.reindex(full_lo).to_numpy(dtype=float)
+    inside = ((hi_idx >= ind.index[0]) & (hi_idx <= ind.index[-1])).reshape(
+        len(full_lo), k).all(axis=1)
+    inside_pos = np.flatnonzero(inside & np.isfinite(b_vals))
+    if not len(inside_pos):
         raise fail(PE233, f"no benchmark period of {benchmarks.name!r} is covered by "
                    f"{indicator.name!r}",
                    expected="indicator values for every sub-period of at least one benchmark",
@@ -295,27 +297,25 @@ def benchmark(indicator: Series, benchmarks: Series, *,
                    f"benchmarks {f_lo.label(low_idx[0])}..{f_lo.label(low_idx[-1])}",
                    series=indicator.name, fix="Give an indicator covering the benchmark "
                    "periods.")
+    r0, r1 = int(inside_pos[0]), int(inside_pos[-1]) + 1
     lo_labels = f_lo.labels(full_lo)
-    if len(runs) > 1:
-        gap = np.flatnonzero(~covered[runs[0][1]:runs[-1][0]]) + runs[0][1]
-        missing_b = [lo_labels[i] for i in gap if np.isnan(benchmarks.values.reindex(
-            full_lo).iloc[i])]
-        if missing_b:
-            raise fail(PE232, f"benchmarks of {benchmarks.name!r} have a gap",
-                       expected="a benchmark for every period between the first and the last",
-                       found=f"missing {_describe(missing_b)}", series=benchmarks.name,
-                       period=missing_b[0], fix="Supply the missing benchmark values, or "
-                       "benchmark each stretch separately.")
-        bad_rows = [i for g in gap for i in range(g * k, g * k + k) if not ok[i]]
-        labs = f_hi.labels(hi_idx[bad_rows])
+    missing_b = [lo_labels[i] for i in range(r0, r1) if np.isnan(b_vals[i])]
+    if missing_b:
+        raise fail(PE232, f"benchmarks of {benchmarks.name!r} have a gap",
+                   expected="a benchmark for every period between the first and the last",
+                   found=f"missing {_describe(missing_b)}", series=benchmarks.name,
+                   period=missing_b[0], fix="Supply the missing benchmark values, or "
+                   "benchmark each stretch separately.")
+    bad = np.flatnonzero(~ok[r0 * k:r1 * k]) + r0 * k
+    if len(bad):
+        labs = f_hi.labels(hi_idx[bad])
         raise fail(PE231, f"{indicator.name!r} is missing or not positive inside the "
                    "benchmarked span", expected="a positive indicator value in every period",
                    found=f"{_describe(labs)}", series=indicator.name, period=labs[0],
                    fix="Fill the missing indicator values (proportional benchmarking needs "
                    "positive values).")
-    r0, r1 = runs[0]
     left_out = [lo_labels[i] for i in range(len(full_lo)) if not r0 <= i < r1
-                and not np.isnan(benchmarks.values.reindex(full_lo).iloc[i])]
+                and not np.isnan(b_vals[i])]
     if left_out:
         warnings.append(warn(PE236, f"{len(left_out)} benchmark period(s) of "
                         f"{benchmarks.name!r} are not fully covered by the indicator and "

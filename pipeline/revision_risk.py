@@ -117,10 +117,16 @@ class RevisionHistory:
 
 
 def _as_of_month(key: str) -> int | None:
+    """The month ordinal of an as-of date (ISO text); None when it is not a date."""
+    if not str(key).strip():
+        return None
     try:
-        return int(pd.Period(pd.Timestamp(key), freq="M").ordinal)
+        stamp = pd.Timestamp(key)
     except (ValueError, TypeError):
         return None
+    if pd.isna(stamp):
+        return None
+    return int(pd.Period(stamp, freq="M").ordinal)
 
 
 def _usable_vintages(vintages: Mapping[str, Series], current: str | None
