@@ -180,8 +180,9 @@ def _aligned_indicator(indicator: Series, target: Frequency, name: str) -> Serie
 class Benchmarked:
     """An indicator benchmarked to low-frequency values by proportional Denton.
 
-    ``series``: the benchmarked values at the indicator's frequency (the benchmarks'
-    unit and reference), with per-period status. ``extrapolated``: True for periods
+    ``series``: the benchmarked values at the indicator's frequency, named and stated
+    like the benchmarks (the quantity benchmarked; the indicator only guides its path),
+    with per-period status. ``extrapolated``: True for periods
     before the first or after the last benchmark period (carried by the first or last
     benchmark-to-indicator ratio). ``ratio``: the benchmark-to-indicator ratio X / I.
     ``used``: the benchmark periods the result rests on (labels).
@@ -360,10 +361,10 @@ def benchmark(indicator: Series, benchmarks: Series, *,
     status = None
     if indicator.status is not None or benchmarks.status is not None:
         status = pd.Series(ranks_to_status(ranks[keep]), index=out_idx[keep], dtype=object)
-    values = pd.Series(x[keep], index=out_idx[keep], name=name or indicator.name)
+    values = pd.Series(x[keep], index=out_idx[keep], name=name or benchmarks.name)
     kind = benchmarks.kind if benchmarks.kind != "stock" else indicator.kind
     result = indicator.with_values(
-        values, name=name or indicator.name, kind=kind, unit=benchmarks.unit or indicator.unit,
+        values, name=name or benchmarks.name, kind=kind, unit=benchmarks.unit or indicator.unit,
         status=status, reference=benchmarks.reference or indicator.reference,
         vintage=benchmarks.vintage or indicator.vintage,
         notes=(*indicator.notes, f"benchmarked to {benchmarks.name}"))

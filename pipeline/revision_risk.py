@@ -477,7 +477,11 @@ def _real_band(index: Series, low_f: np.ndarray, high_f: np.ndarray,
                interpolate: bool | str) -> tuple[pd.DataFrame, Frequency, list[str]]:
     from . import growth
     from .deflate import deflate
+    from .revisions import _covered_months, _trim
 
+    first, last = _covered_months(index)
+    kept = [_trim(s, first, last) for s in series]  # the periods the index reaches
+    series = [s for s in kept if s.values.notna().any()] or list(series)
     central = index
     low = index.with_values(index.values * low_f, name=f"{index.name} (low)")
     high = index.with_values(index.values * high_f, name=f"{index.name} (high)")
