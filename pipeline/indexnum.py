@@ -67,6 +67,7 @@ WS008 = register("WS008", "items dropped from comparisons (not matched)")
 WS009 = register("WS009", "both quantity and expenditure given")
 WS010 = register("WS010", "rolling-year index needs monthly or quarterly prices")
 WS011 = register("WS011", "rolling-year base or weight period is not one year")
+_ROLLING_CELLS = 1_000_000  # (window, season, item) cells gathered at once
 
 
 # ---------------------------------------------------------------------------------------
@@ -694,30 +695,45 @@ def compute_rolling_year(
     offsets = (((ends - b0) % n)[:, None] - season[None, :]) % n
     rows = ends[:, None] - offsets  # (windows, seasons): row of season s in window w
 
-    def windows(a: np.ndarray | None) -> np.ndarray | None:
-        return None if a is None else a[rows].reshape(len(ends), -1)
+    n_w = len(ends)
+    # windows are gathered a chunk at a time so memory stays near a few million cells
+    chunk = max(1, _ROLLING_CELLS // max(1, n * len(table.items)))
+
+    def windows(a: np.ndarray | None, w: np.ndarray) -> np.ndarray | None:
+        return None if a is None else a[rows[w]].reshape(len(w), -1)
 
     def year(a: np.ndarray | None, start: int) -> np.ndarray | None:
         return None if a is None else a[start:start + n].reshape(1, -1)
 
-    P, Q = windows(table.prices), windows(table.quantities)
-    p_b, q_b = year(table.prices, b0), year(table.quantities, b0)
-    qw = year(table.quantities, w0) if formula == "lowe" else None
+    prices, quantities = table.prices, table.quantities
+    p_b, q_b = year(prices, b0), year(quantities, b0)
+    qw = year(quantities, w0) if formula == "lowe" else None
     ew = year(table.expenditures, w0) if formula == "young" else None
-    observed = ~np.isnan(P)  # type: ignore[arg-type]
     seen_b = ~np.isnan(p_b)  # type: ignore[arg-type]
-    base_w = int(np.flatnonzero(ends == b0 + n - 1)[0])
-    ratio, matched = compare(formula, p_b, P, q_b, Q, qb=qw, eb=ew)  # type: ignore[arg-type]
-    ratio[base_w] = 1.0
-    seen = observed | seen_b
+    ratio = np.full(n_w, np.nan)
+    matched = np.zeros(n_w, dtype=int)
+    seen = np.zeros(n_w, dtype=int)  # (item, season) pairs observed in either year
+    for a in range(0, n_w, chunk):
+        w = np.arange(a, min(n_w, a + chunk))
+        pw = windows(prices, w)
+        ratio[w], matched[w] = compare(formula, p_b, pw, q_b,  # type: ignore[arg-type]
+                                       windows(quantities, w), qb=qw, eb=ew)
+        seen[w] = (~np.isnan(pw) | seen_b).sum(axis=1)  # type: ignore[arg-type]
+    ratio[int(np.flatnonzero(ends == b0 + n - 1)[0])] = 1.0
     links = None
     if chained:
-        link, n_link = compare(formula, P[:-n], P[n:],  # type: ignore[index]
-                               None if Q is None else Q[:-n], None if Q is None else Q[n:])
+        link = np.full(n_w, np.nan)  # link[w]: the window ending a year before w -> w
+        n_link = np.zeros(n_w, dtype=int)
+        seen_link = np.zeros(n_w, dtype=int)
+        for a in range(n, n_w, chunk):
+            w = np.arange(a, min(n_w, a + chunk))
+            p0, p1 = windows(prices, w - n), windows(prices, w)
+            link[w], n_link[w] = compare(formula, p0, p1,  # type: ignore[arg-type]
+                                         windows(quantities, w - n), windows(quantities, w))
+            seen_link[w] = (~np.isnan(p0) | ~np.isnan(p1)).sum(axis=1)  # type: ignore[arg-type]
         first_chained = int(np.searchsorted(ends, b0 + 2 * n))  # first window past base+1
-        for w in range(first_chained, len(ends)):
-            lk = link[w - n]
-            if not np.isfinite(lk):
+        for w in range(first_chained, n_w):
+            if not np.isfinite(link[w]):
                 raise fail(
                     WS006, "chained rolling-year index broken: no item matched between a "
                     "year and the year before", expected="at least one item priced (with "
@@ -726,12 +742,11 @@ def compute_rolling_year(
                     f"{table.periods[ends[w]]}: 0 items matched", file=table.source,
                     period=str(table.periods[ends[w]]),
                     fix="Fill the gap in the price file, or compute a fixed-base index.")
-            ratio[w] = ratio[w - n] * lk
-            matched[w] = n_link[w - n]
-            seen[w] = observed[w] | observed[w - n]
-        links = pd.Series(np.concatenate([np.full(n, np.nan), link]),
-                          index=table.periods[ends], name="link")
-    dropped = seen.sum(axis=1) - matched
+            ratio[w] = ratio[w - n] * link[w]
+            matched[w] = n_link[w]
+            seen[w] = seen_link[w]
+        links = pd.Series(link, index=table.periods[ends], name="link")
+    dropped = seen - matched
     warnings: list[Problem] = list(table.warnings)
     empty = np.flatnonzero(~np.isfinite(ratio))
     labels = table.periods[ends]
