@@ -18,9 +18,10 @@ Alignment rules (IMF Quarterly National Accounts Manual 2017, ch. 8, and DESIGN.
   month").
 * A series more frequent than its deflator is refused (PE204) unless ``to`` asks for the
   deflator's frequency or longer (then the series is first aggregated to the deflator's
-  periods), or ``interpolate=True`` (the deflator is interpolated and every real value
-  resting on an interpolated index value is flagged: :attr:`DeflationResult.interpolated`,
-  ``table(flags=True)``).
+  periods), or ``interpolate`` is allowed (the deflator is interpolated -- by proportional
+  Denton, keeping each published period's average, unless ``interpolate="linear"`` -- and
+  every real value resting on an interpolated index value is flagged:
+  :attr:`DeflationResult.interpolated`, ``table(flags=True)``).
 * Index periods the series needs but the deflator lacks are an error listing them (DF001).
 
 Status: every real value takes the worst status (projected > preliminary > final) of the
@@ -32,7 +33,7 @@ series deflate in one vectorised pass; the tidy table is built only when asked f
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -68,6 +69,24 @@ DF005 = register("DF005", "duplicate series or deflator names")
 DF006 = register("DF006", "nothing to deflate")
 DF007 = register("DF007", "deflator value not positive")
 DF010 = register("DF010", "real values rest on preliminary or projected index values")
+
+Interpolate = bool | str
+"""How a less frequent deflator may be interpolated: False (refused, PE204), True or
+"denton" (proportional Denton, keeping each period's average), "linear" (straight lines
+between mid-period values)."""
+
+
+def interpolation_method(interpolate: Interpolate | None) -> str | None:
+    """None when interpolation is not allowed, else the method name ('denton', 'linear')."""
+    if interpolate is None or interpolate is False or interpolate == "":
+        return None
+    if interpolate is True:
+        from .benchmark import DEFAULT_METHOD
+
+        return DEFAULT_METHOD
+    from .benchmark import check_method
+
+    return check_method(interpolate)
 
 TABLE_COLUMNS: tuple[str, ...] = (
     "series", "deflator", "period", "nominal", "deflator_index", "real", "status",
@@ -244,6 +263,13 @@ class _Deflator:
     interp: np.ndarray | None = None  # (len(full),) bool: made by interpolation (bridged)
     bridge: str = ""  # words on the interpolation, when the deflator was bridged
     bridge_warnings: tuple[Problem, ...] = ()
+    indicator: Series | None = None  # guides a Denton interpolation of this deflator
+
+
+def _indicator_for(name: str, indicators: Mapping[str, Series] | Series | None) -> Series | None:
+    if indicators is None or isinstance(indicators, Series):
+        return indicators
+    return indicators.get(name)
 
 
 def _needs_bridge(d: Series, span: Span, freqs: Sequence[Frequency]) -> bool:
@@ -261,18 +287,29 @@ def _needs_bridge(d: Series, span: Span, freqs: Sequence[Frequency]) -> bool:
     return False
 
 
-def _bridge(d: Series) -> tuple[Series, np.ndarray, str, tuple[Problem, ...]]:
-    """``d`` interpolated to months (every value flagged), with the words for the note."""
-    conv = interpolate_index(d, MONTHLY)
+def _bridge(d: Series, method: str, indicator: Series | None
+            ) -> tuple[Series, np.ndarray, str, tuple[Problem, ...]]:
+    """``d`` interpolated to months by ``method`` (every value flagged), with the words
+    for the note."""
+    if method == "linear":
+        conv = interpolate_index(d, MONTHLY)
+        how = "straight lines between mid-period values"
+    else:
+        from .benchmark import interpolate as denton_interpolate
+
+        conv = denton_interpolate(d, MONTHLY, method="denton", indicator=indicator)
+        how = "proportional Denton, keeping each published period's average"
     words = (f"{d.name!r} ({d.frequency.describe()}) was first interpolated to months, "
-             "because its periods do not fit the series' or the base's (straight line "
-             "between mid-period values; every value resting on it is flagged as "
-             "interpolated)")
+             f"because its periods do not fit the series' or the base's ({how}; every "
+             "value resting on it is flagged as interpolated)")
     return conv.series, np.ones(len(conv.series.index), dtype=bool), words, conv.warnings
 
 
-def _prepare_deflators(deflators: Sequence[Series], span: Span, *, interpolate: bool = False,
-                       freqs: Sequence[Frequency] = ()) -> list[_Deflator]:
+def _prepare_deflators(deflators: Sequence[Series], span: Span, *,
+                       interpolate: Interpolate = False, freqs: Sequence[Frequency] = (),
+                       indicators: Mapping[str, Series] | Series | None = None
+                       ) -> list[_Deflator]:
+    method = interpolation_method(interpolate)  # an unknown method is refused before any work
     out = []
     problems: list[Problem] = []
     for d in deflators:
@@ -281,8 +318,9 @@ def _prepare_deflators(deflators: Sequence[Series], span: Span, *, interpolate: 
         interp = None
         bridge = ""
         bridged: tuple[Problem, ...] = ()
-        if interpolate and _needs_bridge(d, span, freqs):
-            d, interp, bridge, bridged = _bridge(d)
+        indicator = _indicator_for(d.name, indicators)
+        if method and _needs_bridge(d, span, freqs):
+            d, interp, bridge, bridged = _bridge(d, method, indicator)
         full = full_range(d.values.dropna().index, d.frequency)
         vals = d.values.reindex(full).to_numpy(dtype=float)
         try:
@@ -297,7 +335,7 @@ def _prepare_deflators(deflators: Sequence[Series], span: Span, *, interpolate: 
         if interp is not None:  # every value of a bridged deflator is interpolated
             interp = np.ones(len(full), dtype=bool)
         out.append(_Deflator(d, full, 100.0 * vals / mean, ranks_a, base_rank, interp, bridge,
-                             bridged))
+                             bridged, indicator))
     if problems:
         raise RealbasisError(problems)
     return out
@@ -315,7 +353,8 @@ class _AtWork:
     warnings: tuple[Problem, ...] = ()
 
 
-def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str) -> _AtWork:
+def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str,
+                 method: str | None = None) -> _AtWork:
     src = d.series.frequency
     rel = relation(src, work)
     if rel in ("same", "coarser"):
@@ -335,7 +374,12 @@ def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str) -> _AtWork
     s = d.series.with_values(pd.Series(d.rebased, index=d.full),
                              status=pd.Series(_STATUS_ARR[d.ranks.astype(np.intp)],
                                               index=d.full, dtype=object))
-    conv = interpolate_index(s, work)
+    if method == "linear":
+        conv = interpolate_index(s, work)
+    else:
+        from .benchmark import interpolate as denton_interpolate
+
+        conv = denton_interpolate(s, work, method="denton", indicator=d.indicator)
     st = conv.series.status_or_final().map({"final": 0, "preliminary": 1, "projected": 2})
     return _AtWork(conv.series.index, conv.series.values.to_numpy(dtype=float),
                    st.to_numpy(dtype=np.int8),
@@ -380,7 +424,7 @@ def _partial_summary(labels: np.ndarray, incomplete: np.ndarray, names: Sequence
 def _block(
     frame: np.ndarray, idx: pd.PeriodIndex, freq: Frequency, kind: str,
     names: tuple[str, ...], units: tuple[str | None, ...], defl: list[_Deflator],
-    to: Frequency | None, interpolate: bool, series_ranks: np.ndarray | None = None,
+    to: Frequency | None, interpolate: Interpolate, series_ranks: np.ndarray | None = None,
 ) -> _Block:
     """Deflate one block of series sharing frequency and kind (rows = contiguous idx)."""
     out_freq = to or freq
@@ -440,8 +484,9 @@ def _block(
                            found=f"{dname!r} is {dfreq.describe()}", series=names[0],
                            fix=f"Show the results at {dfreq.describe()} or longer, use a "
                            "more frequent deflator, or allow interpolation (every "
-                           "interpolated value is then flagged).", remedy="result_frequency")
-        at = _deflator_at(d, work, kind, dname)
+                           "interpolated value is then flagged).",
+                           remedy="result_frequency interpolate")
+        at = _deflator_at(d, work, kind, dname, interpolation_method(interpolate))
         warnings.extend(w for w in at.warnings if w not in warnings)
         if work == freq or relation(freq, work) == "same":
             n_w, idx_w = frame, idx
@@ -581,7 +626,7 @@ def _resolve_fy(fy_start: int | None, to: Frequency | None, freqs: Sequence[Freq
 
 
 def _common_note(span: Span, deflators: Sequence[Series], out: Frequency,
-                 interpolate: bool) -> list[str]:
+                 interpolate: Interpolate) -> list[str]:
     lines = [
         f"Constant {span.label} dollars: real = nominal x I(base) / I(t), each deflator "
         f"rebased so that its average over {span.describe()} = 100 (deflator_index).",
@@ -593,17 +638,21 @@ def _common_note(span: Span, deflators: Sequence[Series], out: Frequency,
         "nominal values it sums (e.g. projected out-year amounts).",
         f"Results are {out.describe()}.",
     ]
-    if interpolate:
-        lines.append("Interpolation was allowed: real values resting on interpolated index "
-                     "values are flagged (column 'interpolated').")
+    method = interpolation_method(interpolate)
+    if method:
+        how = ("proportional Denton, keeping each published period's average" if
+               method == "denton" else "straight lines between mid-period values")
+        lines.append(f"Interpolation was allowed ({how}): real values resting on "
+                     "interpolated index values are flagged (column 'interpolated').")
     return lines
 
 
 def deflate_frame(
     nominal: pd.DataFrame, deflators: Sequence[Series], base: str | Span | pd.Period, *,
     frequency: Frequency, kind: Kind = "flow", to: Frequency | None = None,
-    interpolate: bool = False, fy_start: int | None = None,
+    interpolate: Interpolate = False, fy_start: int | None = None,
     units: Sequence[str | None] | None = None,
+    indicators: Mapping[str, Series] | Series | None = None,
 ) -> DeflationResult:
     """Vectorised core: deflate every column of a wide frame (PeriodIndex rows of
     ``frequency``, one column per series of the same ``kind``) by every deflator."""
@@ -620,7 +669,7 @@ def deflate_frame(
     fy = _resolve_fy(fy_start, to, [frequency, *(d.frequency for d in deflators)])
     span = parse_span(base, fy)
     defl = _prepare_deflators(deflators, span, interpolate=interpolate,
-                              freqs=(frequency, *((to,) if to else ())))
+                              freqs=(frequency, *((to,) if to else ())), indicators=indicators)
     idx = nominal.index
     full = full_range(idx, frequency) if len(idx) else idx
     arr = nominal.to_numpy(dtype=float)
@@ -642,7 +691,7 @@ def _unique(names: tuple[str, ...], what: str) -> None:
 
 
 def _result(span: Span, out: Frequency, blocks: list[_Block], defl: list[_Deflator],
-            interpolate: bool) -> DeflationResult:
+            interpolate: Interpolate) -> DeflationResult:
     method = _common_note(span, [d.series for d in defl], out, interpolate)
     warnings: list[Problem] = []
     for b in blocks:
@@ -708,8 +757,8 @@ def _freq_of_index(idx: pd.PeriodIndex) -> Frequency:
 
 def deflate(
     series: Sequence[Series], deflators: Sequence[Series], base: str | Span | pd.Period, *,
-    to: Frequency | None = None, interpolate: bool = False, kind: Kind | None = None,
-    fy_start: int | None = None,
+    to: Frequency | None = None, interpolate: Interpolate = False, kind: Kind | None = None,
+    fy_start: int | None = None, indicators: Mapping[str, Series] | Series | None = None,
 ) -> DeflationResult:
     """Deflate every series by every deflator into constant dollars of ``base``.
 
@@ -719,7 +768,11 @@ def deflate(
     ``to``: the frequency of the results (default: the series' own, which must then be
     shared by all series). ``kind`` overrides every series' kind (flow or stock).
     ``interpolate``: allow interpolating a deflator less frequent than a series (every
-    value resting on an interpolated index value is flagged).
+    value resting on an interpolated index value is flagged): ``True`` or ``"denton"``
+    for proportional Denton (each published period's average is kept; IMF QNA Manual
+    2017, ch. 6), ``"linear"`` for straight lines between mid-period values.
+    ``indicators``: a more frequent index that guides the Denton interpolation of a
+    deflator -- one Series for every deflator, or a mapping by deflator name.
     """
     if not series:
         raise fail(DF006, "no series to deflate", expected="one or more money series",
@@ -748,7 +801,7 @@ def deflate(
     fy = _resolve_fy(fy_start, to, [*freqs, *(d.frequency for d in deflators)])
     span = parse_span(base, fy)
     defl = _prepare_deflators(deflators, span, interpolate=interpolate,
-                              freqs=(*freqs, *((to,) if to else ())))
+                              freqs=(*freqs, *((to,) if to else ())), indicators=indicators)
     groups: dict[tuple[Frequency, str], list[Series]] = {}
     for s in series:
         groups.setdefault((s.frequency, kind or s.kind), []).append(s)

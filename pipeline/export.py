@@ -2,13 +2,15 @@
 
 * ``.csv``: the tidy table with EXACTLY the columns ``series, deflator, period, nominal,
   deflator_index, real, status`` (periods written 2024-01, 2024Q1, 2024, FY2025), plus an
-  ``interpolated`` column only when interpolation was used (on the command line only
-  with ``--interpolate``).
+  ``interpolated`` column only when interpolation was used.
 * ``.json``: ``{"base", "frequency", "dollars", "columns", "records", "method",
-  "cautions", "warnings", "context"}``; missing numbers are ``null``.
+  "cautions", "warnings", "context"}``, plus ``"revision_bands"`` when revision bands
+  are given (context ``bands=``: :class:`pipeline.revision_risk.RevisionBand`, each as
+  its ``as_dict()``); missing numbers are ``null``.
 * ``.xlsx``: the audit workbook of :mod:`pipeline.workbook` (Summary, the "Real terms"
   data sheet written by :func:`write_data_sheet`, one "Real - <deflator>" sheet each,
-  "Indexes used", "Status flags", "Method"). :func:`build_workbook` still gives the
+  "Indexes used", "Status flags", "Revision band" when bands are given, "Method").
+  :func:`build_workbook` still gives the
   minimal two-sheet workbook (data and method) for callers that want only that.
 
 Text cells that a spreadsheet would read as a formula (starting with = + - @, a tab or a
@@ -82,7 +84,9 @@ def _num(v: float) -> float | None:
 
 
 def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
-    """Everything the JSON export holds, as plain Python objects."""
+    """Everything the JSON export holds, as plain Python objects. ``bands`` (a sequence of
+    revision bands) becomes ``revision_bands``; other context is listed as text."""
+    bands = context.pop("bands", None) or ()
     table = export_table(result)
     records = []
     cols = list(table.columns)
@@ -97,7 +101,7 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
             else:
                 rec[c] = v
         records.append(rec)
-    return {
+    out = {
         "base": result.base_label,
         "frequency": result.frequency.describe(),
         "dollars": result.dollars_label,
@@ -108,6 +112,9 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
         "warnings": [p.as_dict() for p in result.warnings],
         "context": {k: v for k, v in _context_lines(context)},
     }
+    if bands:
+        out["revision_bands"] = [b.as_dict() for b in bands]
+    return out
 
 
 def write_json(result: DeflationResult, path: Path, **context: Any) -> None:

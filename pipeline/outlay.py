@@ -37,16 +37,26 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .deflate import DF002, DF006, DF010, DeflationResult, _needs_bridge, deflate
+from .deflate import (
+    DF002,
+    DF006,
+    DF010,
+    DeflationResult,
+    Interpolate,
+    _bridge,
+    _indicator_for,
+    _needs_bridge,
+    deflate,
+    interpolation_method,
+)
 from .errors import Problem, RealbasisError, fail, register, warn
 from .indexes import _require_index, rebase
-from .model import MONTHLY, STATUSES, Frequency, Series
+from .model import STATUSES, Frequency, Series
 from .periods import (
     PE201,
     Span,
     check_index,
     describe_ranges,
-    interpolate_index,
     parse_span,
     relation,
     status_ranks,
@@ -229,14 +239,16 @@ class _YearIndex:
     warnings: tuple[Problem, ...]
 
 
-def _year_index(d: Series, span: Span, year: Frequency, interpolate: bool) -> _YearIndex:
+def _year_index(d: Series, span: Span, year: Frequency, interpolate: Interpolate,
+                indicator: Series | None = None) -> _YearIndex:
     _require_index(d)
     check_index(d)
     words = ""
     warnings: tuple[Problem, ...] = ()
     interpolated = False
+    method = interpolation_method(interpolate)
     if d.frequency.code != "M" and _needs_bridge(d, span, [year]):
-        if not interpolate:
+        if not method:
             if relation(d.frequency, year) is None:
                 raise fail(PE201, f"{d.name!r} ({d.frequency.describe()}) cannot be taken "
                            f"to {year.describe()}: the periods do not nest",
@@ -247,10 +259,9 @@ def _year_index(d: Series, span: Span, year: Frequency, interpolate: bool) -> _Y
                            "interpolating it to months (every value resting on an "
                            "interpolated one is then flagged).", remedy="interpolate")
         else:
-            conv = interpolate_index(d, MONTHLY)
-            d, warnings, interpolated = conv.series, conv.warnings, True
-            words = (f"{d.name!r} was first interpolated to months (its periods do not fit "
-                     "the years or the base); every value resting on it is flagged; ")
+            d, _flags, bridge_words, warnings = _bridge(d, method, indicator)
+            interpolated = True
+            words = bridge_words + "; "
     rebased = rebase(d, span)
     rel = relation(rebased.frequency, year)
     if rel not in ("same", "coarser"):
@@ -268,8 +279,8 @@ def _year_index(d: Series, span: Span, year: Frequency, interpolate: bool) -> _Y
 
 
 def _authority(series: Sequence[Series], deflators: Sequence[Series], span: Span,
-               year: Frequency, rates: Mapping[str, OutlayRates], interpolate: bool
-               ) -> AuthorityResult:
+               year: Frequency, rates: Mapping[str, OutlayRates], interpolate: Interpolate,
+               indicators: Mapping[str, Series] | Series | None = None) -> AuthorityResult:
     problems: list[Problem] = []
     warnings: list[Problem] = []
     nominal_years: list[pd.Series] = []
@@ -311,7 +322,7 @@ def _authority(series: Sequence[Series], deflators: Sequence[Series], span: Span
     lab = year.label
     for k, d in enumerate(deflators):
         try:
-            yi = _year_index(d, span, year, interpolate)
+            yi = _year_index(d, span, year, interpolate, _indicator_for(d.name, indicators))
         except RealbasisError as err:
             problems.extend(err.problems)
             continue
@@ -488,7 +499,9 @@ def deflate_authority(series: Sequence[Series], deflators: Sequence[Series],
                       base: str | Span | pd.Period,
                       rates: RatesGiven | Mapping[str, RatesGiven], *,
                       to: Frequency | None = None, fy_start: int | None = None,
-                      interpolate: bool = False) -> AuthorityResult:
+                      interpolate: Interpolate = False,
+                      indicators: Mapping[str, Series] | Series | None = None
+                      ) -> AuthorityResult:
     """Deflate budget authority through outlay rates into constant dollars of ``base``.
 
     ``rates``: one set for every series (``'0.5,0.3,0.2'``, a sequence, or
@@ -498,7 +511,9 @@ def deflate_authority(series: Sequence[Series], deflators: Sequence[Series],
     monthly or quarterly authority is summed by year first. ``fy_start`` reads fiscal
     labels in ``base`` (else the fiscal start of ``to`` or of the series);
     ``interpolate`` lets a deflator whose periods do not fit the years (calendar years
-    for July fiscal years) serve through monthly interpolation, flagged.
+    for July fiscal years) serve through monthly interpolation, flagged (True or
+    "denton": proportional Denton, "linear": straight lines; ``indicators`` guide Denton as
+    in :func:`pipeline.deflate.deflate`).
 
     Errors: DF020 rates not adding up to 1, DF021 negative rates, DF022 outlay years
     (or base years' outlay years) the index does not reach, naming them (remedy: project
@@ -529,13 +544,14 @@ def deflate_authority(series: Sequence[Series], deflators: Sequence[Series],
     with_rates = [s for s in series if s.name in per]
     plain = [s for s in series if s.name not in per]
     if not with_rates:
-        res = deflate(plain, deflators, span, to=year, fy_start=fy, interpolate=interpolate)
+        res = deflate(plain, deflators, span, to=year, fy_start=fy, interpolate=interpolate,
+                      indicators=indicators)
         return AuthorityResult(**{f.name: getattr(res, f.name)
                                   for f in dataclasses.fields(DeflationResult)},
                                implied=np.full(res.real.shape, np.nan),
                                base_level=np.ones((len(deflators), len(plain))))
-    out = _authority(with_rates, deflators, span, year, per, interpolate)
+    out = _authority(with_rates, deflators, span, year, per, interpolate, indicators)
     if plain:
         out = _merge(out, deflate(plain, deflators, span, to=year, fy_start=fy,
-                                  interpolate=interpolate))
+                                  interpolate=interpolate, indicators=indicators))
     return out

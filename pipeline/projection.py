@@ -241,7 +241,8 @@ class BudgetConversion:
 
     ``table``: ``series, period, then_year, constant, deflator_index, status`` where
     ``deflator_index`` is the index with base = 100 each amount was converted with and
-    ``status`` the worst status of the index values used (projected out-years show).
+    ``status`` the worst status of the index values used (projected out-years show);
+    plus ``interpolated`` when a less frequent index was interpolated.
     """
 
     direction: str
@@ -262,27 +263,32 @@ class BudgetConversion:
 
 def to_constant(amounts: Sequence[Series], index: Series, base: str | pd.Period, *,
                 to: Frequency | None = None, fy_start: int | None = None,
-                interpolate: bool = False) -> BudgetConversion:
+                interpolate: bool | str = False) -> BudgetConversion:
     """Then-year (nominal) amounts to constant dollars of ``base``: deflation by
     :func:`pipeline.deflate.deflate` with one index."""
     res = deflate(list(amounts), [index], base, to=to, fy_start=fy_start,
                   interpolate=interpolate)
-    t = res.table()
+    t = res.table(flags=res.has_interpolation)
     table = pd.DataFrame({"series": t["series"], "period": t["period"],
                           "then_year": t["nominal"], "constant": t["real"],
                           "deflator_index": t["deflator_index"], "status": t["status"]})
+    if res.has_interpolation:
+        table["interpolated"] = t["interpolated"].to_numpy()
     return BudgetConversion("to-constant", res.base_label, table, res, res.warnings)
 
 
 def to_then_year(amounts: Sequence[Series], index: Series, base: str | pd.Period, *,
-                 fy_start: int | None = None, interpolate: bool = False) -> BudgetConversion:
+                 fy_start: int | None = None, interpolate: bool | str = False
+                 ) -> BudgetConversion:
     """Constant-dollar amounts of ``base`` to then-year dollars:
     ``then(t) = constant(t) x I(t) / I(base)``, with ``I(t)/I(base)`` the index aligned
     and rebased by the same deflation engine (at the amounts' own periods)."""
     res = deflate(list(amounts), [index], base, fy_start=fy_start, interpolate=interpolate)
-    t = res.table()
+    t = res.table(flags=res.has_interpolation)
     then = t["nominal"] * t["deflator_index"] / 100.0
     table = pd.DataFrame({"series": t["series"], "period": t["period"],
                           "then_year": then, "constant": t["nominal"],
                           "deflator_index": t["deflator_index"], "status": t["status"]})
+    if res.has_interpolation:
+        table["interpolated"] = t["interpolated"].to_numpy()
     return BudgetConversion("to-then", res.base_label, table, res, res.warnings)

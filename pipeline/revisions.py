@@ -231,7 +231,7 @@ def _trim(s: Series, first_month: int, last_month: int) -> Series:
 def revision_impact(series: Sequence[Series], old: Series, new: Series,
                     base: str | Span | pd.Period, *, to: Frequency | None = None,
                     kind: Kind | None = None, fy_start: int | None = None,
-                    interpolate: bool = False) -> RevisionImpact:
+                    interpolate: bool | str = False) -> RevisionImpact:
     """Deflate ``series`` with both vintages and report how every real value and growth
     rate moved. Periods outside the span both vintages cover are left out (WS304)."""
     if not series:

@@ -21,6 +21,10 @@ Sheets (in this order):
   contribution in percentage points, the total and the residual (total - sum of parts),
   with the status of each value. Written by :func:`write_contributions_sheets`, which
   ``realbasis total --out x.xlsx`` (:func:`write_total_workbook`) uses too.
+* **Revision band** — when revision bands are given (context ``bands``): for each
+  deflator with a revision history, the sentences, the range past revisions imply for
+  its preliminary values and for the real values and real growth resting on them, the
+  distribution of past revisions by age and the method.
 * **Method** — base period, alignment rules (the engine's method note), seasonal
   adjustment, index vintages, the total's method, warnings, cautions, how the file was
   made.
@@ -64,6 +68,7 @@ SHEET_SUMMARY = "Summary"
 SHEET_DATA = "Real terms"
 SHEET_INDEXES = "Indexes used"
 SHEET_FLAGS = "Status flags"
+SHEET_BAND = "Revision band"
 SHEET_METHOD = "Method"
 SHEET_AUDIT = "Audit trail"
 SHEET_BUDGET = "Budget"
@@ -186,7 +191,7 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
                    fix="Export CSV or JSON instead, or deflate fewer series at a time.")
     wb = Workbook(write_only=True)
     taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_DATA, SHEET_INDEXES, SHEET_FLAGS,
-                                 SHEET_METHOD, SHEET_AUDIT)}
+                                 SHEET_BAND, SHEET_METHOD, SHEET_AUDIT)}
     _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
     _budget_sheets(wb, context.get("budget"), taken)
     write_data_sheet(wb, export_table(result), SHEET_DATA)
@@ -197,6 +202,8 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
         write_contributions_sheets(wb, context["total"], taken)
     _indexes(wb.create_sheet(SHEET_INDEXES), result)
     _flags(wb.create_sheet(SHEET_FLAGS), result, table)
+    if context.get("bands"):
+        _bands(wb.create_sheet(SHEET_BAND), context["bands"])
     _method(wb.create_sheet(SHEET_METHOD), result, context)
     if context.get("audit"):
         _audit(wb.create_sheet(SHEET_AUDIT), context["audit"])
@@ -262,6 +269,17 @@ def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
     if result.worst_status != "final":
         _append(ws, [_Cell("• Some figures here rest on preliminary or projected index "
                            "values: see the sheet 'Status flags'.", font=_BOLD)])
+    bands = context.get("bands") or ()
+    if bands:
+        _append(ws, [])
+        _append(ws, [_Cell("Revision risk", font=_BOLD)])
+        for b in bands:
+            for line in (b.statements if b.available else
+                         [f"{b.name}: no revision band ("
+                          + "; ".join(w.message for w in b.warnings if w.code == "WS310")
+                          + ")."]):
+                _append(ws, ["• " + line])
+        _append(ws, ["• Details and method: see the sheet 'Revision band'."])
 
 
 def _adjusted_wide(table: Any, deflator: str) -> Any:
@@ -372,7 +390,59 @@ def _flags(ws: Any, result: Any, table: Any) -> None:
 
 
 _KNOWN = {"title", "command", "seasonal", "sources", "files", "workspace", "audit", "notes",
-          "cautions", "generated_at", "base", "total", "budget"}
+          "cautions", "generated_at", "base", "total", "budget", "bands"}
+
+
+def _frame_rows(ws: Any, frame: Any, fmts: Mapping[str, str]) -> None:
+    _append(ws, list(frame.columns), font=_BOLD)
+    for rec in frame.itertuples(index=False):
+        _append(ws, [_flagged(v) if c == "status" else v for c, v in
+                     zip(frame.columns, rec, strict=True)],
+                fmts=[fmts.get(c) for c in frame.columns])
+
+
+def _bands(ws: Any, bands: Sequence[Any]) -> None:
+    _widths(ws, {1: 26, 2: 14, 3: 14, 4: 14, 5: 14, 6: 14, 7: 16, 8: 16, 9: 16, 10: 14})
+    _append(ws, [_Cell("Revision risk of figures resting on preliminary index values",
+                       font=_TITLE)])
+    _append(ws, ["The range the index's own past revisions imply: an empirical quantile "
+                 "band, not a forecast. Preliminary values will be revised."])
+    pct = "0.000"
+    fmts = {"value": _INDEX, "low": _INDEX, "high": _INDEX, "final": _INDEX,
+            "low_pct": pct, "high_pct": pct, "revision_pct": pct, "mean_pct": pct,
+            "median_pct": pct, "min_pct": pct, "max_pct": pct, "real": _MONEY,
+            "real_low": _MONEY, "real_high": _MONEY, "growth_pct": pct,
+            "growth_low_pct": pct, "growth_high_pct": pct}
+    for b in bands:
+        _append(ws, [])
+        _append(ws, [_Cell(f"{b.name} (vintage {b.current or 'not stated'})", font=_BOLD)])
+        if not b.available:
+            for w in b.warnings:
+                _append(ws, [w.code, _Cell(w.render().replace("\n", "; "), wrap=True)])
+        for line in b.statements:
+            _append(ws, ["", _Cell(line, wrap=True)])
+        if not b.real_band.empty:
+            _append(ws, [])
+            _append(ws, [_Cell(f"Real values and real growth (year on year), constant "
+                               f"{b.base} dollars", font=_BOLD)])
+            _frame_rows(ws, b.real_band, fmts)
+        if b.available:
+            _append(ws, [])
+            _append(ws, [_Cell("Index values: current and the band", font=_BOLD)])
+            _frame_rows(ws, b.index_band, fmts)
+        _append(ws, [])
+        _append(ws, [_Cell("Past revisions by age (months since first release), percent",
+                           font=_BOLD)])
+        if b.history.by_age.empty:
+            _append(ws, ["None measured."])
+        else:
+            _frame_rows(ws, b.history.by_age, fmts)
+        _append(ws, [])
+        _append(ws, [_Cell("Method", font=_BOLD)])
+        for line in b.method_note():
+            _append(ws, ["", _Cell(line, wrap=True)])
+        for w in b.warnings if b.available else ():
+            _append(ws, [w.code, _Cell(w.render().replace("\n", "; "), wrap=True)])
 
 
 def _seasonal_lines(result: Any) -> list[str]:
@@ -400,6 +470,8 @@ def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
         ("Total of parts", list(context["total"].method_note())
          if context.get("total") is not None else []),
         ("Input files", _lines(context.get("sources")) + _lines(context.get("files"))),
+        ("Revision risk", [line for b in (context.get("bands") or ())
+                           for line in b.method_note()[:1]]),
         ("Warnings", [p.render().replace("\n", "; ") for p in _all_warnings(result, context)]
          or ["None."]),
         ("Cautions", [str(c) for c in (context.get("cautions") or CAUTIONS)]),
@@ -638,6 +710,25 @@ def workspace_result(ws: Any, *, base: str | None = None,
     return deflate(money, defl, base, to=freq, fy_start=fiscal_start_of(ws)), used, notes
 
 
+def workspace_bands(ws: Any, result: Any, used: Mapping[str, str]) -> tuple[Any, ...]:
+    """Revision bands (:func:`pipeline.revision_risk.revision_band`) of every deflator of
+    ``result`` the workspace holds in more than one vintage, for the same series, base
+    and frequency, banding the vintage ``used`` (as :func:`workspace_result` returns)."""
+    from .revision_risk import revision_band
+
+    bands = []
+    for name in result.deflator_names:
+        vins = ws.indexes.get(name) or {}
+        if len(vins) < 2:
+            continue
+        current = used.get(name) or _latest(vins)
+        money = [_trim(ws.series[n], [vins[current]])[0] for n in result.series_names
+                 if n in ws.series]
+        bands.append(revision_band(vins, money, result.base, current=current,
+                                   to=result.frequency))
+    return tuple(bands)
+
+
 def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
                      deflators: Sequence[str] | None = None,
                      series: Sequence[str] | None = None, to: Any = None,
@@ -661,6 +752,7 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
     events = store.audit(ws.id) if store is not None else []
     uploads = [f"{e.detail.get('filename')} ({e.detail.get('size')} bytes, sha256 "
                f"{e.detail.get('sha256')})" for e in events if e.event == "upload"]
+    bands = workspace_bands(ws, result, used) if Path(path).suffix.lower() != ".csv" else ()
     context: dict[str, Any] = {
         "workspace": f"{ws.name} (id {ws.id}, version {ws.version})",
         "command": command or f"realbasis workspace export {ws.id}",
@@ -668,10 +760,12 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
         "notes": notes or None,
         "audit": events or None,
         "total": total,
+        "bands": bands or None,
     }
     if Path(path).suffix.lower() != ".xlsx":
         context = {"workspace": context["workspace"], "command": context["command"],
-                   "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items())}
+                   "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items()),
+                   "bands": bands or None}
     out = write_result(result, path, **{k: v for k, v in context.items() if v is not None})
     if store is not None and not current_access().read_only:
         store.record_use(ws.id, used, purpose=f"export {Path(path).name}", actor=actor)

@@ -77,10 +77,10 @@ def test_interpolated_calendar_index_averages_the_two_calendar_years(demo):
     cci = demo["indexes"]["Construction cost index"]
     chk = serve_check(bus, [cci], "FY2025", fy_start=7, interpolate=True)
     assert chk.fits[0].verdict == "serves" and chk.fits[0].interpolated
-    res = deflate([bus], [cci], "FY2025", fy_start=7, interpolate=True)
     c = cci.values
     # July-June years: each fiscal year is half of each calendar year it spans (common
     # practice); the straight line between mid-year values gives exactly that average
+    res = deflate([bus], [cci], "FY2025", fy_start=7, interpolate="linear")
     fy = {y: (c[pd.Period(str(y - 1), "Y-DEC")] + c[pd.Period(str(y), "Y-DEC")]) / 2
           for y in (2025, 2026, 2030)}
     idx = res.index_frame(0)["Bus operations"]
@@ -88,6 +88,24 @@ def test_interpolated_calendar_index_averages_the_two_calendar_years(demo):
     assert idx[pd.Period("2030", "Y-JUN")] == pytest.approx(100 * fy[2030] / fy[2025])
     assert res.has_interpolation and bool(res.interpolated.all())
     assert any(w.code == "PE208" for w in res.warnings)
+    # the default, proportional Denton, keeps every calendar year's published average in
+    # its months (IMF QNA Manual 2017, ch. 6), so the fiscal years sit close to the
+    # half-and-half average without equalling it
+    from pipeline.benchmark import interpolate as denton
+    from pipeline.model import MONTHLY
+
+    months = denton(cci, MONTHLY, method="denton").series.values
+    yearly = months.groupby(months.index.year).mean()
+    for y in (2015, 2020, 2025):
+        assert yearly[y] == pytest.approx(c[pd.Period(str(y), "Y-DEC")], rel=1e-10)
+    res_d = deflate([bus], [cci], "FY2025", fy_start=7, interpolate=True)
+    idx_d = res_d.index_frame(0)["Bus operations"]
+    fy_d = months.groupby(months.index.asfreq("Y-JUN")).mean()
+    assert idx_d[pd.Period("2026", "Y-JUN")] == pytest.approx(
+        100 * fy_d[pd.Period("2026", "Y-JUN")] / fy_d[pd.Period("2025", "Y-JUN")])
+    assert idx_d[pd.Period("2026", "Y-JUN")] == pytest.approx(100 * fy[2026] / fy[2025],
+                                                              rel=2e-3)
+    assert res_d.has_interpolation and bool(res_d.interpolated.all())
 
 
 def test_monthly_revenue_and_a_quarterly_index(demo):

@@ -4,7 +4,8 @@
                       [--to M|Q|A|FY] [--fiscal-start 1-12] [--kind flow|stock] [--out PATH]
                       [--sa none|stl|stl-robust|x13|classical] [--sa-order deflate-first|adjust-first]
                       [--sa-model auto|multiplicative|additive] [--sa-interpolate]
-                      [--outlay-rates [NAME=]R0,R1,...] [--budget-out PATH] [--interpolate]
+                      [--outlay-rates [NAME=]R0,R1,...] [--budget-out PATH]
+                      [--interpolate [denton|linear]] [--interpolate-indicator INDEX_FILE]
 
 Every money (flow or stock) series of SERIES_FILE is deflated by every index column of
 every --index file. ``--out`` ending in .csv, .json or .xlsx writes that file; without it
@@ -32,12 +33,13 @@ from pipeline.commands._remedies import CLI
 from pipeline.deflate import DeflationResult, deflate
 from pipeline.errors import Problem, fail
 from pipeline.errors import register as register_code
-from pipeline.export import neutralise_frame, write_result
+from pipeline.export import export_table, neutralise_frame, write_result
 from pipeline.model import ANNUAL, CAUTIONS, MONTHLY, Frequency, Series
 
 CL251 = register_code("CL251", "no money series in the series file")
 CL252 = register_code("CL252", "no index column in an index file")
 CL253 = register_code("CL253", "fiscal start month needed for --to FY")
+CL260 = register_code("CL260", "an interpolation indicator needs Denton interpolation")
 
 TO_CHOICES = ("M", "Q", "A", "FY")
 
@@ -60,8 +62,56 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--out", metavar="PATH", default=None,
                    help="write .csv, .json or .xlsx; default: print the table (CSV) to stdout")
     add_sa_arguments(p)
+    add_interpolation_arguments(p)
     add_growth_arguments(p)
     add_budget_arguments(p)
+
+
+def add_interpolation_arguments(p: argparse.ArgumentParser, *, indicator: bool = True) -> None:
+    """``--interpolate [denton|linear]`` (and ``--interpolate-indicator``): allow a deflator
+    less frequent than the series (pipeline.benchmark). Without it such a deflator is
+    refused (PE204), so interpolation never happens unasked."""
+    from pipeline.benchmark import DEFAULT_METHOD, METHODS
+
+    p.add_argument("--interpolate", nargs="?", const=DEFAULT_METHOD, choices=METHODS,
+                   default=None, metavar="denton|linear",
+                   help="interpolate a deflator less frequent than the series to the series' "
+                   "periods: denton (the default when the option is given alone) keeps each "
+                   "published period's average, linear draws straight lines between "
+                   "mid-period values; every value resting on an interpolated index value is "
+                   "flagged (column interpolated). Without it such a deflator is refused")
+    if indicator:
+        p.add_argument("--interpolate-indicator", dest="interpolate_indicator",
+                       metavar="INDEX_FILE", default=None,
+                       help="a more frequent price index whose movement guides the Denton "
+                       "interpolation (default: none, the smoothest path)")
+
+
+def interpolation_options(args: argparse.Namespace) -> dict[str, object]:
+    """The engine's ``interpolate`` (and ``indicators``) arguments from the options."""
+    method = getattr(args, "interpolate", None)
+    path = getattr(args, "interpolate_indicator", None)
+    options: dict[str, object] = {"interpolate": method or False}
+    if path is None:
+        return options
+    if method != "denton":
+        raise fail(CL260, "--interpolate-indicator guides a Denton interpolation",
+                   expected="--interpolate (or --interpolate denton) with it",
+                   found=f"--interpolate {method}" if method else "no --interpolate",
+                   fix="Add --interpolate, or leave out --interpolate-indicator.")
+    from pipeline.ingest import read_file
+
+    intake = read_file(path, fy_start=getattr(args, "fiscal_start", None)
+                       or getattr(args, "fy_start", None))
+    intake.raise_for_errors()
+    found = [s for s in intake.series if s.kind == "index"]
+    if len(found) != 1:
+        kinds = ", ".join(f"{s.name!r} ({s.kind})" for s in intake.series) or "no series"
+        raise fail(CL252, "the --interpolate-indicator file must hold one price index",
+                   expected="one index column", found=kinds, file=str(path),
+                   fix="Give a file with the one indicator index.")
+    options["indicators"] = found[0]
+    return options
 
 
 def add_sa_arguments(p: argparse.ArgumentParser) -> None:
@@ -163,8 +213,7 @@ def compute(args: argparse.Namespace, inputs: Inputs) -> DeflationResult:
     if getattr(args, "outlay_rates", None):
         return compute_authority(args, inputs, series)
     return deflate(series, inputs.deflators, args.base, to=target_frequency(args, inputs),
-                   kind=args.kind, fy_start=args.fiscal_start,
-                   interpolate=getattr(args, "interpolate", False))
+                   kind=args.kind, fy_start=args.fiscal_start, **interpolation_options(args))
 
 
 def emit(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> None:
@@ -177,7 +226,8 @@ def emit(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> N
         sys.stderr.write(f"wrote {path} ({result.dollars_label}; {rows} series x deflator "
                          f"pairs, {result.frequency.describe()})\n")
         return
-    neutralise_frame(result.table()).to_csv(sys.stdout, index=False, lineterminator="\r\n")
+    neutralise_frame(export_table(result)).to_csv(sys.stdout, index=False,
+                                                   lineterminator="\r\n")
     sys.stdout.flush()
     for line in result.method_note():
         sys.stderr.write(f"# {line}\n")
@@ -281,8 +331,10 @@ CL254 = register_code("CL254", "outlay rates for every series given twice")
 
 
 def add_budget_arguments(p: argparse.ArgumentParser) -> None:
-    """Budget options: outlay-weighted authority (pipeline.outlay), the budget table
-    (pipeline.budget) and interpolation of a deflator whose periods do not fit."""
+    """Budget options: outlay-weighted authority (pipeline.outlay) and the budget table
+    (pipeline.budget). Interpolation of a deflator whose periods do not fit the series'
+    (calendar years for July fiscal years) is ``--interpolate``
+    (add_interpolation_arguments)."""
     p.add_argument("--outlay-rates", dest="outlay_rates", action="append", default=None,
                    metavar="[NAME=]R0,R1,...",
                    help="deflate budget authority through its outlay rates: the shares spent "
@@ -293,11 +345,6 @@ def add_budget_arguments(p: argparse.ArgumentParser) -> None:
                    help="also write the budget table (every program by year in then-year "
                    "and constant dollars, totals, real growth) as .csv, .json or .xlsx; "
                    "needs results by year (--to FY or yearly series)")
-    p.add_argument("--interpolate", action="store_true",
-                   help="let a deflator whose periods do not fit the series' (calendar years "
-                   "for July fiscal years, quarters for monthly results) serve by "
-                   "interpolation; every value resting on it is flagged (column "
-                   "'interpolated')")
 
 
 def outlay_plan(args: argparse.Namespace, names: tuple[str, ...]
@@ -328,7 +375,7 @@ def compute_authority(args: argparse.Namespace, inputs: Inputs,
     return deflate_authority(series, inputs.deflators, args.base,
                              outlay_plan(args, tuple(s.name for s in series)),
                              to=target_frequency(args, inputs), fy_start=args.fiscal_start,
-                             interpolate=getattr(args, "interpolate", False))
+                             **interpolation_options(args))
 
 
 def emit_budget(args: argparse.Namespace, inputs: Inputs, result: DeflationResult) -> None:
