@@ -28,4 +28,7 @@ SCREEN: Mapping[str, str] = {
     "projection_rate": "Type the rate in percent a year, e.g. 2.5.",
     "base_period": "Type another base period.",
     "project_index": "Extend the index under 'Project out-years' on the Deflator shelf.",
+    "part_pairs": "On Real terms choose 'Total of parts, each by its own deflator' and pick "
+                  "a deflator for every part under 'Each part's deflator', then press "
+                  "'Save these choices to the workspace'.",
 }

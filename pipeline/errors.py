@@ -79,6 +79,7 @@ REMEDIES: Mapping[str, str] = {
     "projection_rate": "give the assumed annual rate",
     "base_period": "choose another base period",
     "project_index": "project the index over the missing periods",
+    "part_pairs": "pair every part of the total with the price index it is deflated by",
 }
 """Remedy keys a problem may carry, with what each asks of the user in neutral words.
 Every face renders every key (a test checks the command line's and the dashboard's

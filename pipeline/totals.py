@@ -512,20 +512,21 @@ def _check_request(parts: Sequence[Series], deflators: Sequence[Series],
                                  "among the parts", expected=f"one of {_fmt_names(names)}",
                                  found=repr(s_name), series=s_name,
                                  fix="Pair only series that are parts of the total (check "
-                                 "the spelling).").problems[0])
+                                 "the spelling).", remedy="part_pairs").problems[0])
         if d_name not in defl_names:
             problems.append(fail(DF202, f"a pair names the deflator {d_name!r}, which is not "
                                  "given", expected=f"one of {_fmt_names(sorted(defl_names))}",
                                  found=repr(d_name), series=s_name, column=d_name,
                                  fix="Pair each part with one of the price indexes given "
-                                 "(check the spelling), or give that index.").problems[0])
+                                 "(check the spelling), or give that index.",
+                                 remedy="part_pairs").problems[0])
     unpaired = [n for n in names if n not in pairs]
     if unpaired:
         problems.append(fail(DF201, f"{len(unpaired)} part(s) have no deflator paired with "
                              "them", expected="one deflator for every part",
                              found=f"no pair for {_fmt_names(unpaired)}", series=unpaired[0],
-                             fix="Pair every part with the price index it is deflated by."
-                             ).problems[0])
+                             fix="Pair every part with the price index it is deflated by.",
+                             remedy="part_pairs").problems[0])
     if problems:
         raise RealbasisError(problems)
     kinds = {kind or s.kind for s in parts}

@@ -980,7 +980,7 @@ def workspace_total(ws: Any, *, base: str | None = None,
                    "not hold", expected="series of the workspace",
                    found=", ".join(repr(n) for n in missing), series=missing[0],
                    fix="Pair only series of the workspace (a series may have been renamed "
-                       "or removed).")
+                       "or removed).", remedy="part_pairs")
     freq = _frequency(to if to is not None else settings.get("frequency", "auto"), parts,
                       list(defl.values()))
     total = total_of_parts(parts, list(defl.values()), pairs, base, chain=chain,  # type: ignore[arg-type]

@@ -105,3 +105,31 @@ def test_remedy_survives_as_warning_and_dict():
     p = fail("PE102", "m", fix="f", remedy="fiscal_start").problems[0]
     assert p.as_warning().remedy == "fiscal_start"
     assert p.as_dict()["remedy"] == "fiscal_start"
+
+
+def test_part_pairs_fix_on_each_face(monkeypatch):
+    """A total whose parts are not all paired with a deflator (DF201) or whose pair names
+    a deflator that is not given (DF202): the command line names --pair, the dashboard
+    its own controls, exports keep the neutral fix."""
+    from conftest import monthly_series
+
+    from pipeline.totals import total_of_parts
+
+    a = monthly_series("A", [1.0] * 24)
+    b = monthly_series("B", [2.0] * 24)
+    ix = monthly_series("Index", [100.0] * 24, kind="index", unit="index")
+    with pytest.raises(RealbasisError) as info:
+        total_of_parts([a, b], [ix], {"A": "Index", "B": "No such index"}, "2023")
+    codes = {p.code for p in info.value.problems}
+    assert codes == {"DF202"}
+    with pytest.raises(RealbasisError) as info2:
+        total_of_parts([a, b], [ix], {"A": "Index"}, "2023")
+    assert info2.value.code == "DF201"
+    for err in (info.value, info2.value):
+        assert all(p.remedy == "part_pairs" for p in err.problems)
+        cli = err.render(CLI)
+        assert "--pair SERIES=DEFLATOR" in cli and "Real terms" not in cli
+        shown = [problem_dict(p) for p in err.problems]
+        assert all("Each part's deflator" in d["fix"] for d in shown)
+        assert not OPTION.search(str(shown))
+        assert not OPTION.search(err.render()) and "Real terms" not in err.render()

@@ -28,6 +28,8 @@ CLI: Mapping[str, str] = {
     "projection_rate": "Pass --rate 2.5% (or --rate 0.025); per year: --rate FY2027=3%.",
     "base_period": "Pass another --base.",
     "project_index": "Extend the index first with realbasis index project (--rate, --until).",
+    "part_pairs": "Pass one --pair SERIES=DEFLATOR for every part, with the names as the "
+                  "files spell them (realbasis check lists them).",
 }
 
 
