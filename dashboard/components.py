@@ -178,3 +178,17 @@ def dropdown(control_id: str, *, multi: bool = False, clearable: bool = False,
 def screen(title: str, intro: str, *children: Any) -> html.Div:
     return html.Div([html.H2(title), html.P(intro, className="rb-intro"), *children],
                     className="rb-screen-body")
+
+
+def band_view(statements: Sequence[str], notes: Sequence[str | None] = (), *,
+              title: str = "Revision risk of the preliminary values") -> html.Section | None:
+    """The revision band in words: the sentences the engine gives ("past revisions of this
+    index would put it between ...") and plain notes (e.g. why there is no band)."""
+    notes = [n for n in notes if n]
+    if not statements and not notes:
+        return None
+    children: list[Any] = [html.H3(title)]
+    if statements:
+        children.append(html.Ul([html.Li(s) for s in statements]))
+    children += [html.P(n) for n in notes]
+    return html.Section(children, className="rb-band", role="status")

@@ -244,3 +244,181 @@ def empty_figure(message: str) -> go.Figure:
                       annotations=[{"text": message, "showarrow": False, "font": {"size": 14},
                                     "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5}])
     return fig
+
+
+# --------------------------------------------------------------------------- totals and bands
+# Every text given to plotly below (series and index names are user text) goes through
+# plain(): plotly renders a small HTML subset in titles, legends and hover labels, so
+# '<' and '&' are turned into entities, which plotly shows as the characters themselves.
+
+PATTERNS = ("", "/", "\\", "x", ".", "-", "|", "+")
+TOTAL_COLOUR = "#000000"
+RESIDUAL_COLOUR = "#D55E00"
+REVISION_FILL = "rgba(213, 94, 0, 0.18)"    # vermillion, light: the revision band
+
+
+def plain(text: object) -> str:
+    """User text made safe for plotly's text rendering (shown as typed, never markup)."""
+    import html
+
+    return html.escape(str(text), quote=False)
+
+
+def part_style(i: int) -> dict[str, str]:
+    """Colour, dash and bar pattern of the i-th part (the same in every chart)."""
+    return {"colour": LINE_COLOURS[i % len(LINE_COLOURS)], "dash": DASHES[i % len(DASHES)],
+            "marker": MARKERS[i % len(MARKERS)], "pattern": PATTERNS[i % len(PATTERNS)]}
+
+
+def _shade_rows(fig: go.Figure, status: Sequence[str], rows: int) -> None:
+    """Preliminary and projected stretches shaded across every row of a subplot figure."""
+    for which, fill, text in (("preliminary", PRELIM_FILL, "preliminary index"),
+                              ("projected", PROJECTED_FILL, "projected")):
+        for a, b in _stretches(status, which):
+            for r in range(1, rows + 1):
+                fig.add_vrect(x0=a - 0.5, x1=b + 0.5, fillcolor=fill, line_width=0,
+                              layer="below", row=r, col=1,
+                              annotation_text=text if r == 1 else None,
+                              annotation_position="top left", annotation_font_size=11)
+
+
+def total_figure(levels: pd.DataFrame, *, parts: Sequence[str], part_status: Mapping[str,
+                 Sequence[str]], total_status: Sequence[str], title: str, unit: str,
+                 total_label: str, residual_note: str) -> go.Figure:
+    """The parts, their total and the residual (total minus the sum of the parts).
+
+    ``levels``: rows = period labels, columns = the parts, ``total`` and ``residual``
+    (:meth:`pipeline.totals.TotalResult.levels_frame`). The residual has a panel of its
+    own under the levels, always drawn (a flat zero line for an additive total)."""
+    from plotly.subplots import make_subplots
+
+    fig = make_subplots(rows=2, cols=1, shared_xaxes=True, row_heights=[0.72, 0.28],
+                        vertical_spacing=0.07)
+    x = [str(p) for p in levels.index]
+    hover = f"%{{y:,.1f}} {plain(unit)}"
+    for i, name in enumerate(parts):
+        st = part_style(i)
+        status = [str(s) for s in part_status.get(name, ["final"] * len(x))]
+        solid, dashed = _split_projected(x, _num(levels[name]), status)
+        fig.add_trace(go.Scatter(x=x, y=solid, name=plain(name), mode="lines",
+                                 line={"color": st["colour"], "dash": st["dash"], "width": 1.6},
+                                 hovertemplate=hover, legendgroup=plain(name)), row=1, col=1)
+        if any(v is not None for v in dashed):
+            fig.add_trace(go.Scatter(x=x, y=dashed, name=plain(f"{name} (projected)"),
+                                     mode="lines", line={"color": st["colour"], "dash": "dash"},
+                                     hovertemplate=hover, legendgroup=plain(name)), row=1, col=1)
+    status = [str(s) for s in total_status]
+    solid, dashed = _split_projected(x, _num(levels["total"]), status)
+    fig.add_trace(go.Scatter(x=x, y=solid, name=plain(total_label), mode="lines",
+                             line={"color": TOTAL_COLOUR, "width": 3}, hovertemplate=hover,
+                             legendgroup="total"), row=1, col=1)
+    if any(v is not None for v in dashed):
+        fig.add_trace(go.Scatter(x=x, y=dashed, name=plain(f"{total_label} (projected)"),
+                                 mode="lines", line={"color": TOTAL_COLOUR, "dash": "dash",
+                                                     "width": 3},
+                                 hovertemplate=hover, legendgroup="total"), row=1, col=1)
+    fig.add_trace(go.Scatter(x=x, y=_num(levels["residual"]), name=plain(residual_note),
+                             mode="lines", line={"color": RESIDUAL_COLOUR, "dash": "dashdot",
+                                                 "width": 2},
+                             hovertemplate=hover, legendgroup="residual"), row=2, col=1)
+    _shade_rows(fig, status, 2)
+    _layout(fig, plain(title), plain(unit), x=x)
+    fig.update_yaxes(title_text="residual", tickformat=",.1f", row=2, col=1, zeroline=True,
+                     zerolinecolor="#777777")
+    fig.update_xaxes(showticklabels=False, row=1, col=1)
+    fig.update_layout(legend={"y": 1.02}, margin={"t": 110})
+    return fig
+
+
+def contributions_figure(contributions: pd.DataFrame, total_growth: pd.Series, *,
+                         status: Sequence[str], title: str, growth_label: str) -> go.Figure:
+    """Contributions to the total's real growth, stacked bars in percentage points, one
+    colour and pattern per part, with the total's real growth as a line: the bars of a
+    period add up to the line's point.
+
+    ``contributions``: rows = period labels, columns = parts (percentage points);
+    ``total_growth``: the total's real growth in percent on the same rows."""
+    fig = go.Figure()
+    x = [str(p) for p in contributions.index]
+    for i, name in enumerate(contributions.columns):
+        st = part_style(i)
+        fig.add_trace(go.Bar(x=x, y=_num(contributions[name]), name=plain(name),
+                             marker={"color": st["colour"],
+                                     "pattern": {"shape": st["pattern"], "solidity": 0.35,
+                                                 "fgcolor": "#ffffff"},
+                                     "line": {"width": 0}},
+                             hovertemplate="%{y:+,.2f} pp"))
+    fig.add_trace(go.Scatter(x=x, y=_num(total_growth.reindex(contributions.index)),
+                             name=plain(growth_label), mode="lines+markers",
+                             line={"color": TOTAL_COLOUR, "width": 2},
+                             marker={"symbol": "diamond", "size": 7, "color": TOTAL_COLOUR},
+                             hovertemplate="%{y:+,.2f} %"))
+    _shade(fig, [str(s) for s in status])
+    _layout(fig, plain(title), "percentage points", x=x)
+    fig.update_layout(barmode="relative", bargap=0.25, margin={"t": 110}, legend={"y": 1.02})
+    fig.update_yaxes(tickformat="+,.1f", zeroline=True, zerolinecolor="#777777")
+    return fig
+
+
+def add_band(fig: go.Figure, x: Sequence[str], low: Sequence[object], high: Sequence[object],
+             *, name: str, unit: str = "", row: int | None = None) -> go.Figure:
+    """Shade the range between ``low`` and ``high`` at the periods ``x`` (a category axis
+    already holding them): the revision band over a preliminary stretch."""
+    hover = f"%{{y:,.1f}} {plain(unit)}" if unit else "%{y:,.2f}"
+    where = {"row": row, "col": 1} if row else {}
+    fig.add_trace(go.Scatter(x=list(x), y=_num(low), mode="lines", showlegend=False,
+                             line={"width": 0.8, "color": RESIDUAL_COLOUR, "dash": "dot"},
+                             name=plain(f"{name}: low"), legendgroup="band",
+                             hovertemplate="low " + hover), **where)
+    fig.add_trace(go.Scatter(x=list(x), y=_num(high), mode="lines", fill="tonexty",
+                             fillcolor=REVISION_FILL,
+                             line={"width": 0.8, "color": RESIDUAL_COLOUR, "dash": "dot"},
+                             name=plain(name), legendgroup="band",
+                             hovertemplate="high " + hover), **where)
+    return fig
+
+
+def revision_band_figure(index: Mapping[str, Sequence[object]],
+                         real: Mapping[str, Sequence[object]] | None, *, title: str,
+                         index_label: str, real_label: str, band_label: str,
+                         unit: str) -> go.Figure:
+    """The revision band in two panels: the index's current vintage (top) and the chosen
+    series in real terms (bottom), each with the range past revisions imply shaded over
+    the preliminary stretch. Each mapping: x, y, status (the line) and band_x, low, high
+    (the band)."""
+    from plotly.subplots import make_subplots
+
+    rows = 2 if real else 1
+    fig = make_subplots(rows=rows, cols=1, vertical_spacing=0.14,
+                        subplot_titles=[plain(index_label), *([plain(real_label)] if real else [])])
+    for r, (part, colour, u) in enumerate(((index, LINE_COLOURS[2], ""),
+                                           *(((real, LINE_COLOURS[0], unit),) if real else ())),
+                                          start=1):
+        x = [str(v) for v in part["x"]]
+        status = [str(s) for s in part["status"]]
+        solid, dashed = _split_projected(x, _num(part["y"]), status)
+        hover = f"%{{y:,.1f}} {plain(u)}" if u else "%{y:,.3f}"
+        name = index_label if r == 1 else real_label
+        fig.add_trace(go.Scatter(x=x, y=solid, name=plain(name), mode="lines",
+                                 line={"color": colour, "width": 2}, hovertemplate=hover),
+                      row=r, col=1)
+        if any(v is not None for v in dashed):
+            fig.add_trace(go.Scatter(x=x, y=dashed, name=plain(f"{name} (projected)"),
+                                     mode="lines", line={"color": colour, "dash": "dash"},
+                                     hovertemplate=hover), row=r, col=1)
+        add_band(fig, [str(v) for v in part["band_x"]], part["low"], part["high"],
+                 name=band_label, unit=u, row=r)
+        if r > 1:
+            fig.data[-1].showlegend = False
+        for a, b in _stretches(status, "preliminary"):
+            fig.add_vrect(x0=a - 0.5, x1=b + 0.5, fillcolor=PRELIM_FILL, line_width=0,
+                          layer="below", row=r, col=1)
+        fig.update_xaxes(type="category", row=r, col=1)
+        vals, text = _category_ticks(x)
+        fig.update_xaxes(tickmode="array", tickvals=vals, ticktext=text, row=r, col=1)
+    _layout(fig, plain(title), "", categories=False)
+    fig.update_yaxes(title_text="index", tickformat=",.1f", row=1, col=1)
+    if real:
+        fig.update_yaxes(title_text=plain(unit), row=2, col=1)
+    fig.update_layout(margin={"t": 120}, legend={"y": 1.06}, hovermode="x unified")
+    return fig

@@ -90,6 +90,20 @@ RT_SA_METHOD = "rt-sa-method"
 RT_SA_ALL = "rt-sa-all"
 RT_SA_PROGRESS = "rt-sa-progress"
 RT_SA_MESSAGE = "rt-sa-message"
+RT_DEFLATOR_BOX = "rt-deflator-box"   # the one-deflator field (hidden for a total of parts)
+RT_PARTS_BOX = "rt-parts-box"       # the total of parts' choices (shown for it only)
+RT_PAIRS = "rt-pairs"               # one deflator picker per part, built by a callback
+RT_PAIR = "rt-pair"                 # pattern-matching type: {"type": RT_PAIR, "part": name}
+RT_CHAIN = "rt-chain"               # none | fisher | annual
+RT_CONTRIB_BOX = "rt-contrib-box"   # contributions chart and table (total of parts only)
+RT_BASIS = "rt-basis"               # period | yoy | annual
+RT_CONTRIB_FIGURE = "rt-contrib-figure"
+RT_CONTRIB_TABLE = "rt-contrib-table"
+
+
+def rt_pair(part: str) -> dict[str, str]:
+    """The id of the deflator picker of one part of a total."""
+    return {"type": RT_PAIR, "part": part}
 
 # Deflator spread
 SP_SERIES = "sp-series"
@@ -115,6 +129,8 @@ RV_TABLE = "rv-table"
 RV_SUMMARY = "rv-summary"
 RV_METHOD = "rv-method"
 RV_WARNINGS = "rv-warnings"
+RV_BAND = "rv-band"                 # revision risk: statements, tables, method
+RV_BAND_FIGURE = "rv-band-figure"   # the index band
 
 # Share and export (dashboard/screens/share.py)
 SX_SCOPE = "sx-scope"               # what the downloads contain (saved choices)

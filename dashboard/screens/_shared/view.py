@@ -119,11 +119,19 @@ def series_options(ws: Workspace, *, with_total: bool = True) -> list[dict[str, 
     if with_total:
         for (_, _, unit), names in total_groups(ws).items():
             s = ws.series[names[0]]
-            opts.append({"label": f"Total of {len(names):,} series: {names[0]} + "
-                                  f"{len(names) - 1:,} more ({unit or 'unit not stated'}, "
+            opts.append({"label": f"Total of {len(names):,} series under one deflator: "
+                                  f"{parts_text(names)} ({unit or 'unit not stated'}, "
                                   f"{s.frequency.describe()})",
                          "value": f"{TOTAL}|{names[0]}"})
     return opts
+
+
+def parts_text(names: Sequence[str], most: int = 6) -> str:
+    """'A, B, C and D' (the first ``most``, then 'and n more')."""
+    names = list(names)
+    if len(names) > most:
+        return ", ".join(names[:most]) + f" and {len(names) - most:,} more"
+    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
 
 
 def choose(current: Any, options: list[dict[str, Any]], *preferred: Any) -> Any:
@@ -153,6 +161,24 @@ def total_groups(ws: Workspace) -> dict[tuple[str, str, str], list[str]]:
     return {k: v for k, v in groups.items() if len(v) > 1}
 
 
+def total_members(ws: Workspace, group_of: str | None = None) -> list[str]:
+    """The series a total sums: those sharing the frequency, kind and unit of
+    ``group_of`` (default: the largest such group). UI004 when no two series can be
+    totalled."""
+    groups = total_groups(ws)
+    if not groups:
+        raise fail(UI004, "no two series share a frequency, kind and unit, so none can be "
+                          "totalled", expected="series of one frequency and unit",
+                   found=", ".join(f"{n} ({s.unit}, {s.frequency})" for n, s in ws.series.items()),
+                   fix="Choose a single series.")
+    names = max(groups.values(), key=len)
+    if group_of is not None:
+        for members in groups.values():
+            if group_of in members:
+                names = members
+    return names
+
+
 def pick_series(ws: Workspace, key: str, group_of: str | None = None) -> Series:
     """A money series by name, or the total of all series that share the frequency,
     kind and unit of ``group_of`` (default: the largest such group)."""
@@ -165,17 +191,7 @@ def pick_series(ws: Workspace, key: str, group_of: str | None = None) -> Series:
                        expected="a series listed on the intake screen", found=repr(key),
                        fix="Choose another series.")
         return s
-    groups = total_groups(ws)
-    if not groups:
-        raise fail(UI004, "no two series share a frequency, kind and unit, so none can be "
-                          "totalled", expected="series of one frequency and unit",
-                   found=", ".join(f"{n} ({s.unit}, {s.frequency})" for n, s in ws.series.items()),
-                   fix="Choose a single series.")
-    names = max(groups.values(), key=len)
-    if group_of is not None:
-        for members in groups.values():
-            if group_of in members:
-                names = members
+    names = total_members(ws, group_of)
     parts = [ws.series[n] for n in names]
     first = parts[0]
     frame = pd.concat([p.values for p in parts], axis=1)
@@ -476,3 +492,66 @@ def add_intake(ws: Workspace, series: Sequence[Series]) -> tuple[Workspace, str]
                + (f" ({replaced:,} replaced an earlier one of the same name)" if replaced else "")
                + ".")
     return dataclasses.replace(ws, series=money, indexes=indexes), summary
+
+
+# --------------------------------------------------------------------------- revision band
+
+
+@dataclass(frozen=True)
+class BandView:
+    """What a screen shows of the revision band of one index (and the real figures on it):
+    the engine's :class:`pipeline.revision_risk.RevisionBand` (None when the index is held
+    in one vintage), the sentences to show, a plain note when there is no band, the method
+    lines and the warnings."""
+
+    index: str
+    band: Any
+    statements: tuple[str, ...]
+    note: str | None
+    method: tuple[str, ...]
+    warnings: tuple[Problem, ...]
+
+    @property
+    def available(self) -> bool:
+        return self.band is not None and bool(self.band.available)
+
+    def real_rows(self, series: str) -> pd.DataFrame:
+        """The real band of one series (periods whose real value moves within the band)."""
+        if not self.available or self.band.real_band.empty:
+            return pd.DataFrame(columns=["period", "real", "real_low", "real_high"])
+        rb = self.band.real_band
+        return rb[rb["series"] == series].reset_index(drop=True)
+
+
+def revision_band_for(ws: Workspace, index: str, series: Sequence[Series] = (),
+                      base: str | None = None, *, current: str | None = None,
+                      to: Frequency | None = None) -> BandView:
+    """The revision band of ``index`` (pipeline.revision_risk.revision_band) for the
+    screens: banding the vintage ``current`` (default the latest) and, with money
+    ``series`` and a ``base``, the real values resting on it. With one vintage there is
+    no band and the note says why in plain words."""
+    from pipeline.revision_risk import WS310, WS311, revision_band
+
+    vins = ws.indexes.get(index) or {}
+    if len(vins) < 2:
+        return BandView(index, None, (), (
+            f"No revision band: {index} is held in one vintage only, so there is no record "
+            "of how its preliminary values were revised. Add earlier releases of the index "
+            "(each with its as-of date) on Data intake to measure one."), (), ())
+    band = revision_band(vins, list(series), base if series else None, current=current, to=to)
+    note = None
+    if not band.available:
+        refused = [w for w in band.warnings if w.code in (WS310, WS311)]
+        if refused and refused[0].code == WS311:
+            note = (f"No revision band: vintage {band.current or 'not stated'} of {index} has "
+                    "no preliminary values, so nothing here rests on values still to be "
+                    "revised.")
+        else:
+            note = (f"No revision band: {index} is held in {len(vins):,} vintages, but they "
+                    f"record only {band.history.count:,} past revision(s) of preliminary "
+                    f"values; a band needs at least {band.min_revisions:,}.")
+    elif series and band.real_band.empty:
+        note = (f"The real figures shown do not rest on the preliminary values of {index}, "
+                "so the revision band does not reach them.")
+    shown = tuple(w for w in band.warnings if w.code not in (WS310, WS311))
+    return BandView(index, band, band.statements, note, band.method_note(), shown)

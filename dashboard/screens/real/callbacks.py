@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from dash import Dash, Input, Output, State, no_update
+from dash import ALL, Dash, Input, Output, State, no_update
 
 from pipeline.errors import RealbasisError
 
@@ -36,34 +36,64 @@ def register(app: Dash) -> None:
         ws = rb.data.load(r)
         return (*view.options_for(ws, series, deflator), shown_base(ws, base))
 
+    pair = {"type": ids.RT_PAIR, "part": ALL}
+
     @app.callback(
-        Output(ids.RT_TITLE, "children"), Output(ids.RT_FIGURE, "figure"),
-        Output(ids.RT_WARNINGS, "children"), Output(ids.RT_GROWTH, "children"),
-        Output(ids.RT_METHOD, "children"),
-        Input(ids.RT_SERIES, "value"), Input(ids.RT_DEFLATOR, "value"),
-        Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"), Input(ids.RT_SA, "value"),
-        State(ids.WORKSPACE, "data"),
+        Output(ids.RT_PAIRS, "children"), Output(ids.RT_PARTS_BOX, "hidden"),
+        Output(ids.RT_DEFLATOR_BOX, "hidden"),
+        Input(ids.RT_SERIES, "value"), Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"),
+        State(pair, "value"), State(pair, "id"), State(ids.WORKSPACE, "data"),
     )
-    def _compute(series: Any, deflator: Any, base: Any, freq: Any, sa: Any, ref: Any) -> Any:
+    def _pairs(series: Any, base: Any, freq: Any, values: Any, pair_ids: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.outputs(rb.data.load(r), series, deflator, base, freq, "sa" in (sa or []))
+        return view.pairs_panel(rb.data.load(r), series, base, freq,
+                                view.pair_values(pair_ids, values))
+
+    @app.callback(Output(ids.RT_CHAIN, "value"), Input(ids.WORKSPACE, "data"),
+                  State(ids.RT_CHAIN, "value"))
+    def _chain(ref: Any, chain: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        return no_update if r is None else view.saved_chain(rb.data.load(r), chain)
+
+    @app.callback(
+        Output(ids.RT_TITLE, "children"), Output(ids.RT_FIGURE, "figure"),
+        Output(ids.RT_WARNINGS, "children"), Output(ids.RT_GROWTH, "children"),
+        Output(ids.RT_METHOD, "children"), Output(ids.RT_CONTRIB_FIGURE, "figure"),
+        Output(ids.RT_CONTRIB_TABLE, "children"), Output(ids.RT_CONTRIB_BOX, "style"),
+        Input(ids.RT_SERIES, "value"), Input(ids.RT_DEFLATOR, "value"),
+        Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"), Input(ids.RT_SA, "value"),
+        Input(pair, "value"), Input(ids.RT_CHAIN, "value"), Input(ids.RT_BASIS, "value"),
+        State(pair, "id"), State(ids.WORKSPACE, "data"),
+    )
+    def _compute(series: Any, deflator: Any, base: Any, freq: Any, sa: Any, values: Any,
+                 chain: Any, basis: Any, pair_ids: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update
+        return view.screen_outputs(rb.data.load(r), series, deflator, base, freq,
+                                   "sa" in (sa or []), view.pair_values(pair_ids, values),
+                                   chain, basis)
 
     @app.callback(
         Output(ids.WORKSPACE, "data", allow_duplicate=True), Output(ids.RT_SAVED, "children"),
         Input(ids.RT_SAVE, "n_clicks"),
         State(ids.RT_SERIES, "value"), State(ids.RT_DEFLATOR, "value"),
         State(ids.RT_BASE, "value"), State(ids.RT_FREQ, "value"), State(ids.RT_SA, "value"),
+        State(pair, "value"), State(pair, "id"), State(ids.RT_CHAIN, "value"),
         State(ids.WORKSPACE, "data"), prevent_initial_call=True,
     )
-    def _save(n: Any, series: Any, deflator: Any, base: Any, freq: Any, sa: Any, ref: Any) -> Any:
+    def _save(n: Any, series: Any, deflator: Any, base: Any, freq: Any, sa: Any, values: Any,
+              pair_ids: Any, chain: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None or not n:
             return no_update, no_update
         try:
             saved = rb.data.save(view.save_choices(rb.data.load(r), series, deflator, base, freq,
-                                              "sa" in (sa or [])), action="real-terms choices")
+                                                   "sa" in (sa or []),
+                                                   pairs=view.pair_values(pair_ids, values),
+                                                   chain=chain), action="real-terms choices")
         except RealbasisError as err:
             return no_update, f" Not saved: {err.problems[0].message}"
         return WorkspaceRef(saved.id, saved.version).as_dict(), f" Saved as version {saved.version:,}."

@@ -10,14 +10,47 @@ from ... import ids
 from ...components import cautions_view, dropdown, field, progress_bar, screen
 from ...figures import empty_figure
 from .._shared.view import frequency_options
-from .view import SA_METHODS
+from .view import BASES, CHAINS, HIDDEN, SA_METHODS
+
+
+def _choice(key: str, words: tuple[str, str]) -> dict[str, object]:
+    return {"label": html.Span([html.Strong(words[0]), " — ", words[1]]), "value": key}
+
+
+def parts_box() -> html.Div:
+    """The total of parts' choices: a deflator per part (built by a callback, offering the
+    deflators that can serve each part) and how the parts are put together."""
+    return html.Div([
+        html.H3("Each part's deflator", className="rb-subhead"),
+        html.Div(id=ids.RT_PAIRS, className="rb-controls"),
+        field("How the parts are put together",
+              dcc.RadioItems(id=ids.RT_CHAIN, value="none", className="rb-radio",
+                             options=[_choice(k, w) for k, w in CHAINS.items()],
+                             inputStyle={"marginRight": "6px"}), ids.RT_CHAIN, wide=True),
+    ], id=ids.RT_PARTS_BOX, hidden=True, className="rb-parts")
+
+
+def contributions_box() -> html.Div:
+    """Contributions to the total's real growth (a total of parts only)."""
+    return html.Div([
+        html.H3("Contributions to real growth", className="rb-subhead"),
+        field("Growth measured", dcc.RadioItems(
+            id=ids.RT_BASIS, value="period", inline=True, className="rb-radio",
+            options=[{"label": w, "value": k} for k, w in BASES.items()],
+            inputStyle={"marginRight": "6px"}, labelStyle={"marginRight": "16px"}),
+            ids.RT_BASIS, wide=True),
+        dcc.Loading(dcc.Graph(id=ids.RT_CONTRIB_FIGURE, figure=empty_figure(""),
+                              config={"displaylogo": False, "responsive": True},
+                              className="rb-graph", style={"height": "440px"}), type="dot"),
+        html.Div(id=ids.RT_CONTRIB_TABLE),
+    ], id=ids.RT_CONTRIB_BOX, style=HIDDEN)
 
 
 def layout() -> html.Div:
     controls = html.Div([
         field("Series", dropdown(ids.RT_SERIES, placeholder="Choose a series"), ids.RT_SERIES),
-        field("Deflator", dropdown(ids.RT_DEFLATOR, placeholder="Choose a price index"),
-              ids.RT_DEFLATOR),
+        html.Div(field("Deflator", dropdown(ids.RT_DEFLATOR, placeholder="Choose a price index"),
+                       ids.RT_DEFLATOR), id=ids.RT_DEFLATOR_BOX, className="rb-field-box"),
         field("Base period", dcc.Input(id=ids.RT_BASE, type="text", debounce=True,
                                        placeholder="e.g. 2024, FY2025, 2024Q1",
                                        className="rb-input"), ids.RT_BASE,
@@ -39,11 +72,13 @@ def layout() -> html.Div:
         "A nominal series and the same series in constant dollars of the base period you "
         "choose, with growth split exactly into price and real growth.",
         controls,
+        parts_box(),
         html.H3(id=ids.RT_TITLE, className="rb-result-title"),
         dcc.Loading(dcc.Graph(id=ids.RT_FIGURE, figure=empty_figure("Loading…"),
                               config={"displaylogo": False, "responsive": True},
                               className="rb-graph", style={"height": "460px"}), type="dot"),
         html.Div(id=ids.RT_WARNINGS),
+        contributions_box(),
         html.Div(id=ids.RT_GROWTH),
         html.Div(id=ids.RT_METHOD),
         html.Details([

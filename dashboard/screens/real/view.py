@@ -7,6 +7,16 @@ the result into the title, figure, warnings, growth tables and method note the c
 return. :func:`save_choices` keeps the screen's choices in the workspace settings (the
 exports use them); :func:`adjust_all` adjusts every monthly and quarterly series in a
 background job.
+
+A **total of parts, each by its own deflator** (series choice ``__parts__|<first part>``):
+:func:`pair_choices` offers each part the deflators that can serve it
+(pipeline.compare.serve_check), :func:`compute_total` totals them through
+pipeline.workbook.workspace_total (additive, chained Fisher or annual overlap), and
+:func:`total_outputs` shows parts, total and residual, the contributions to real growth
+and the board-pack table. :func:`screen_outputs` is what the callback calls for either
+choice. The **revision band** of the deflator (pipeline.revision_risk, through
+``_shared.view.revision_band_for``) is drawn on the real line when the deflator is held in
+several vintages and the figures rest on its preliminary values.
 """
 
 from __future__ import annotations
@@ -24,6 +34,7 @@ from pipeline.model import Frequency, Series, Workspace
 
 from ...components import (
     Column,
+    band_view,
     method_view,
     notice,
     problems_view,
@@ -31,19 +42,32 @@ from ...components import (
     warnings_view,
 )
 from ...data import DataAccess, WorkspaceRef
-from ...figures import empty_figure, real_terms_figure
+from ...figures import (
+    add_band,
+    contributions_figure,
+    empty_figure,
+    real_terms_figure,
+    total_figure,
+)
 from .._shared.view import (
+    TOTAL,
     UI005,
+    BandView,
     ProgressFn,
     base_for,
     choose,
     deflator_options,
     error_dicts,
+    latest_vintage,
     parse_frequency,
+    parts_text,
     pick_index,
     pick_series,
     problem_dicts,
+    revision_band_for,
     series_options,
+    total_groups,
+    total_members,
     trim_to_cover,
 )
 
@@ -67,6 +91,9 @@ class Computed:
     deflator_name: str
     vintage: str
     left_out: str | None = None    # periods of the series the deflator does not reach
+    parts: tuple[str, ...] = ()    # the series summed, for a total under one deflator
+    deflated: Series | None = None  # the series as deflated (cut to the deflator's span)
+    to: Frequency | None = None    # the result frequency asked of the engine
 
 
 def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
@@ -85,7 +112,8 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
     d = pick_index(ws, deflator, vintage)
     s, cut = trim_to_cover(original, [d])
     base_text = base_for(s, base)
-    res = deflate([s], [d], base_text, to=parse_frequency(to, s, [d]))
+    freq = parse_frequency(to, s, [d])
+    res = deflate([s], [d], base_text, to=freq)
     nominal = res.nominal_series(s.name)
     real = res.real_series(s.name, 0)
     status = res.status_frame(0)[s.name].reindex(nominal.index)
@@ -109,10 +137,14 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
         "nominal": nominal.to_numpy(), "real": real.to_numpy(),
         "deflator_index": index_used.to_numpy(), "status": status.astype(str).to_numpy(),
     })
+    parts = (tuple(total_members(ws, series_key.split("|", 1)[1] if "|" in series_key
+                                 else None)) if series_key.startswith(TOTAL) else ())
     return Computed(frame, nominal, real, res.frequency, res.base_label, res.dollars_label,
                     s.unit or "unit not stated", tuple(method), tuple(warnings), s.name,
                     d.name, d.vintage or "",
-                    left_out_text(ws, original, s, d) if cut else None)
+                    left_out_text(ws, original, s, d) if cut else None,
+                    parts, s, freq)
+
 
 
 def _covers(index: Series, s: Series) -> bool:
@@ -154,7 +186,8 @@ def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Serie
 
 def real_title(c: Computed, *, sa: bool = False) -> str:
     adj = ", seasonally adjusted" if sa else ""
-    return (f"{c.series_name} in {c.dollars_label} ({c.unit}{adj}), "
+    held = f" ({parts_text(c.parts)}, summed, then deflated)" if c.parts else ""
+    return (f"{c.series_name}{held} in {c.dollars_label} ({c.unit}{adj}), "
             f"deflated by {c.deflator_name}")
 
 
@@ -277,7 +310,7 @@ def recent_columns(unit: str, dollars: str, yearly: bool) -> tuple[Column, ...]:
 
 
 def options_for(ws: Workspace, series: Any, deflator: Any) -> tuple[Any, ...]:
-    s_opts = series_options(ws)
+    s_opts = series_options(ws) + parts_options(ws)
     d_opts = deflator_options(ws)
     saved = ws.settings
     return (s_opts, choose(series, s_opts, saved.get("series")),
@@ -313,11 +346,44 @@ def outputs(ws: Workspace, series: str | None, deflator: str | None, base: str |
               caption="Latest periods"),
     ], className="rb-tables")
     status_note = _status_note(c.frame)
+    bv, band_notes = real_band(ws, c, base, sa=sa)
+    if bv is not None and bv.available:
+        rows = bv.real_rows(c.series_name)
+        if not rows.empty:
+            add_band(fig, list(rows["period"]), list(rows["real_low"]), list(rows["real_high"]),
+                     name=band_label(bv), unit=c.unit)
     warn = html.Div([notice(c.left_out, "warn"), notice(status_note, "warn"),
-                     warnings_view(problem_dicts(c.warnings))])
+                     band_view(bv.statements if bv else (), band_notes),
+                     warnings_view(problem_dicts((*c.warnings, *(bv.warnings if bv else ()))))])
     vintage = f" Index vintage: {c.vintage}." if c.vintage else ""
+    band_method = bv.method if bv is not None and bv.available else ()
     return (title, fig, warn, growth,
-            method_view((*c.method, f"Deflator: {c.deflator_name}.{vintage}")))
+            method_view((*c.method, f"Deflator: {c.deflator_name}.{vintage}", *band_method)))
+
+
+def real_band(ws: Workspace, c: Computed, base: str | None, *, sa: bool = False
+              ) -> tuple[BandView | None, list[str]]:
+    """The revision band of the deflator for the real figures shown, when they rest on
+    preliminary values (None otherwise), and the notes to show with it (why there is no
+    band; that the band is drawn without seasonal adjustment)."""
+    if "preliminary" not in set(c.frame["status"]) or c.deflated is None:
+        return None, []
+    bv = revision_band_for(ws, c.deflator_name, [c.deflated], base_for(c.deflated, base),
+                           current=c.vintage if c.vintage in ws.indexes.get(c.deflator_name, {})
+                           else None, to=c.to)
+    notes = [bv.note] if bv.note else []
+    if sa and bv.available:
+        notes.append("The band is measured on the figures before seasonal adjustment and is "
+                     "not drawn on the adjusted line; switch seasonal adjustment off to see "
+                     "it on the chart.")
+        return dataclasses.replace(bv, statements=()), notes
+    return bv, notes
+
+
+def band_label(bv: BandView) -> str:
+    lo, hi = bv.band.quantiles
+    return (f"range past revisions of {bv.index} imply ({lo:.0%}–{hi:.0%} quantiles, "
+            f"{bv.band.revisions_used:,} revisions)")
 
 
 def _status_note(frame: Any) -> str | None:
@@ -331,11 +397,26 @@ def _status_note(frame: Any) -> str | None:
     return " ".join(parts) or None
 
 
-def save_choices(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any, sa: bool
-                 ) -> Workspace:
+def save_choices(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any, sa: bool,
+                 *, pairs: dict[str, Any] | None = None, chain: Any = None) -> Workspace:
+    """The screen's choices in the workspace settings (the exports read them). For a total
+    of parts, ``settings["total"] = {"pairs": {part: deflator}, "chain": ...}`` too (the
+    audit workbook then gets its Contributions sheets); the base saved is the one the
+    figures used. Other choices leave a saved total as it is."""
     settings = dict(ws.settings)
     settings.update({"series": series, "deflator": deflator, "base": base or "",
                      "frequency": freq or "auto", "seasonal_adjustment": bool(sa)})
+    if is_parts(series):
+        resolved = resolve_pairs(ws, series, pairs, base, freq)
+        chosen = {p: d for p, d in resolved.items() if d != LEAVE_OUT}
+        if not chosen:
+            raise fail(UI005, "every part is left out of the total",
+                       expected="a deflator for at least one part", found="no part chosen",
+                       fix="Pick a deflator for the parts to total.", remedy="part_pairs")
+        settings["total"] = {"pairs": chosen, "chain": str(chain or "none")}
+        settings["base"] = base_for(ws.series[next(iter(chosen))], base)
+        if not settings.get("deflator") or settings["deflator"] not in ws.indexes:
+            settings["deflator"] = next(iter(chosen.values()))
     return dataclasses.replace(ws, settings=settings)
 
 
@@ -352,3 +433,358 @@ def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
     return (WorkspaceRef(saved.id, saved.version),
             html.Div([notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
                       method_view(lines[1:], title="How they were adjusted")]))
+
+
+# --------------------------------------------------------------------------- total of parts
+
+PARTS = "__parts__"
+LEAVE_OUT = "__leave_out__"
+HIDDEN: dict[str, str] = {"display": "none"}
+SHOWN: dict[str, str] = {}
+CHAINS: dict[str, tuple[str, str]] = {
+    "none": ("Additive",
+             "the parts in constant dollars of the base period, summed. The parts add up "
+             "exactly (no residual), but every period is valued at base-period prices, which "
+             "weigh parts whose prices have moved far from the base too much or too little."),
+    "fisher": ("Chained Fisher, period to period",
+               "each change is valued at the prices of that period and the one before, so "
+               "the total follows shifts between parts (as national accounts do). Chained "
+               "dollars do not add up: the residual shows by how much."),
+    "annual": ("Annual overlap",
+               "each year valued at the previous year's average prices and linked at the "
+               "annual average (national accounts practice for monthly and quarterly "
+               "figures). The parts do not add up exactly: the residual shows by how much."),
+}
+BASES: dict[str, str] = {
+    "period": "On the period before",
+    "yoy": "On the same period a year earlier",
+    "annual": "Annual totals on the year before",
+}
+CONTRIB_PERIODS = 36  # periods the contributions chart shows (annual basis: every year)
+TABLE_PERIODS = 4     # periods the board-pack table on screen shows (the workbook: all)
+
+
+def is_parts(key: Any) -> bool:
+    return isinstance(key, str) and key.startswith(PARTS + "|")
+
+
+def parts_options(ws: Workspace) -> list[dict[str, str]]:
+    """One 'total of parts, each by its own deflator' choice per group of like series
+    (same frequency, kind and unit), naming the parts it holds."""
+    opts = []
+    for (_, _, unit), names in total_groups(ws).items():
+        s = ws.series[names[0]]
+        opts.append({"label": f"Total of parts, each by its own deflator: {parts_text(names)} "
+                              f"({unit or 'unit not stated'}, {s.frequency.describe()})",
+                     "value": f"{PARTS}|{names[0]}"})
+    return opts
+
+
+def parts_of(ws: Workspace, key: str) -> list[str]:
+    """The parts a 'total of parts' choice holds."""
+    return total_members(ws, key.split("|", 1)[1] if "|" in key else None)
+
+
+@dataclass(frozen=True)
+class PairChoice:
+    """One part's deflator picker: the deflators that can serve it, the value to show, and
+    why the others are not offered."""
+
+    part: str
+    options: tuple[dict[str, str], ...]
+    value: str
+    not_offered: tuple[str, ...]
+
+
+def _saved_pairs(ws: Workspace, parts: list[str]) -> dict[str, str] | None:
+    """The saved total's pairs when it is a total of these parts (else None)."""
+    from pipeline.workbook import saved_total
+
+    spec = saved_total(ws)
+    if spec is None or not set(spec["pairs"]) & set(parts):
+        return None
+    return spec["pairs"]
+
+
+def pair_choices(ws: Workspace, key: str, base: str | None, freq: str | None,
+                 current: dict[str, Any] | None = None) -> list[PairChoice]:
+    """Each part of the total with the deflators that can serve it at the chosen base and
+    result frequency (pipeline.compare.serve_check: those covering all or part of its
+    periods), plus 'leave this part out'. The value shown: the one on screen if still
+    offered, else the saved total's pair, else the screen's one deflator, else the first
+    deflator that serves every period."""
+    from pipeline.compare import serve_check
+
+    parts = parts_of(ws, key)
+    candidates = [pick_index(ws, name) for name in ws.indexes]
+    saved = _saved_pairs(ws, parts)
+    current = current or {}
+    out = []
+    for name in parts:
+        s = ws.series[name]
+        try:
+            check = serve_check(s, candidates, base_for(s, base), to=freq or "auto")
+        except RealbasisError:  # an unreadable base: offer every index, the total says why
+            check = None
+        if check is None:
+            usable, serving, reasons = [d.name for d in candidates], set(), {}
+        else:
+            usable, serving, reasons = list(check.usable), set(check.serving), check.reasons()
+        options = [{"label": _pair_label(d, s, check, d in serving), "value": d}
+                   for d in usable]
+        options.append({"label": "Leave this part out of the total", "value": LEAVE_OUT})
+        values = [o["value"] for o in options]
+        preferred = [current.get(name)]
+        if saved is not None:
+            preferred.append(saved.get(name, LEAVE_OUT))
+        preferred += [ws.settings.get("deflator"), *[d for d in usable if d in serving]]
+        value = next((v for v in preferred if v in values), values[0])
+        out.append(PairChoice(name, tuple(options), value,
+                              tuple(r for d, r in reasons.items() if d not in usable)))
+    return out
+
+
+def _pair_label(name: str, s: Series, check: Any, serves: bool) -> str:
+    """'Producer index (results quarterly; covers part of the periods)'."""
+    if check is None:
+        return name
+    notes = []
+    f = check.fit(name).frequency  # the results' frequency with this deflator
+    if f is not None and f != s.frequency:
+        notes.append(f"results {f.describe()}")
+    if not serves:
+        notes.append("covers part of the periods")
+    return f"{name} ({'; '.join(notes)})" if notes else name
+
+
+def saved_chain(ws: Workspace, current: Any) -> str:
+    """The chain choice when a workspace opens: the saved total's, else the one shown."""
+    from pipeline.workbook import saved_total
+
+    spec = saved_total(ws)
+    if spec is not None and spec["chain"] in CHAINS:
+        return spec["chain"]
+    return current if current in CHAINS else "none"
+
+
+def pair_values(pair_ids: Any, values: Any) -> dict[str, Any]:
+    """The pickers' values by part, from a pattern-matching callback's ids and values."""
+    return {i["part"]: v for i, v in zip(pair_ids or [], values or [], strict=False)
+            if isinstance(i, dict) and "part" in i}
+
+
+def pairs_panel(ws: Workspace, key: Any, base: Any, freq: Any, current: dict[str, Any]
+                ) -> tuple[Any, bool, bool]:
+    """The pickers of a total of parts (one per part), whether the parts box is hidden,
+    and whether the one-deflator field is hidden."""
+    from dash import dcc
+
+    from ... import ids
+    from ...components import field
+
+    if not is_parts(key):
+        return [], True, False
+    try:
+        choices = pair_choices(ws, key, base, freq, current)
+    except RealbasisError as err:
+        return problems_view(error_dicts(err), title="Cannot total"), False, True
+    rows = []
+    for c in choices:
+        pid = ids.rt_pair(c.part)
+        rows.append(field(c.part, dcc.Dropdown(id=pid, options=list(c.options), value=c.value,
+                                               clearable=False, className="rb-dropdown"),
+                          f"rt-pair-{c.part}",
+                          hint="; ".join(c.not_offered) if c.not_offered else None))
+    return rows, False, True
+
+
+@dataclass(frozen=True)
+class TotalComputed:
+    total: Any                       # pipeline.totals.TotalResult
+    pairs: dict[str, str]            # the parts held, each with its deflator
+    left_out: tuple[str, ...]        # parts of the group left out of the total
+    used: dict[str, str]             # index vintages used
+    notes: tuple[str, ...]           # where parts were cut to their deflator's span
+    base: str
+    unit: str
+    bands: tuple[BandView, ...]
+
+
+def resolve_pairs(ws: Workspace, key: str, values: dict[str, Any] | None, base: str | None,
+                  freq: str | None) -> dict[str, str]:
+    """Every part's deflator (or LEAVE_OUT): the pickers' values, filled in with the
+    defaults of :func:`pair_choices` for parts without one (the pickers are built after the
+    first computation)."""
+    parts = parts_of(ws, key)
+    values = {k: v for k, v in (values or {}).items() if k in parts and v}
+    if all(p in values for p in parts):
+        return {p: str(values[p]) for p in parts}
+    return {c.part: c.value for c in pair_choices(ws, key, base, freq, values)}
+
+
+def compute_total(ws: Workspace, key: str, values: dict[str, Any] | None, chain: str | None,
+                  base: str | None, freq: str | None) -> TotalComputed:
+    """The total of the parts, each deflated by its own deflator, put together additively
+    or chain-linked (pipeline.workbook.workspace_total -> pipeline.totals.total_of_parts),
+    with the revision band of every deflator held in several vintages."""
+    from pipeline.workbook import workspace_total
+
+    pairs = resolve_pairs(ws, key, values, base, freq)
+    chosen = {p: d for p, d in pairs.items() if d != LEAVE_OUT}
+    left = tuple(p for p, d in pairs.items() if d == LEAVE_OUT)
+    if not chosen:
+        raise fail(UI005, "every part is left out of the total",
+                   expected="a deflator for at least one part", found="no part chosen",
+                   fix="Pick a deflator for the parts to total.", remedy="part_pairs")
+    first = ws.series[next(iter(chosen))]
+    base_text = base_for(first, base)
+    total, used, notes = workspace_total(ws, base=base_text, pairs=chosen,
+                                         chain=chain or "none", to=freq or "auto")
+    notes = [n.replace(" is exported from ", " is shown from ") for n in notes]
+    bands = []
+    for d in dict.fromkeys(chosen.values()):
+        parts = [p for p, dd in chosen.items() if dd == d]
+        status = total.part_status[:, [total.part_names.index(p) for p in parts]]
+        if not (status == 1).any():  # nothing of these parts rests on a preliminary value
+            continue
+        index = ws.indexes[d][used.get(d) or latest_vintage(ws.indexes[d])]
+        money = [trim_to_cover(ws.series[p], [index])[0] for p in parts]
+        bands.append(revision_band_for(ws, d, money, base_text, current=used.get(d),
+                                       to=total.frequency))
+    return TotalComputed(total, chosen, left, used, tuple(notes), base_text,
+                         total.unit or "unit not stated", tuple(bands))
+
+
+def total_title(t: TotalComputed) -> str:
+    return (f"Total of {len(t.pairs):,} part(s), each by its own deflator, in "
+            f"{t.total.dollars_label} ({t.unit}): {t.total.chain_words}")
+
+
+def holds_text(t: TotalComputed) -> str:
+    held = "; ".join(f"{p} by {d}" for p, d in t.pairs.items())
+    out = f"This total holds {len(t.pairs):,} part(s): {held}."
+    if t.left_out:
+        out += f" Left out: {parts_text(t.left_out)}."
+    return out
+
+
+TABLE_COLUMNS = (
+    Column("period", "Period"),
+    Column("component", "Part"),
+    Column("nominal", "Nominal", "number", 1),
+    Column("real", "Real", "number", 1),
+    Column("real_growth", "Real growth", "percent", 2),
+    Column("contribution_pp", "Contribution (percentage points)", "number", 2),
+    Column("status", "Status"),
+)
+
+
+def _statuses(ranks: Any) -> list[str]:
+    from pipeline.model import STATUSES
+
+    return [STATUSES[int(r)] for r in ranks]
+
+
+def contributions_view(t: TotalComputed, basis: str) -> tuple[Any, Any]:
+    """The contributions chart (stacked bars in percentage points adding up to the
+    total's real growth, the line) and the board-pack table of the latest periods."""
+    total = t.total
+    contrib = total.contributions_frame(basis)
+    growth = total.growth_frame(basis)["total"]
+    tbl = total.table(basis, status=True)
+    status = tbl[tbl["component"] == "total"].set_index("period")["status"]
+    keep = contrib.notna().any(axis=1) | growth.notna()
+    contrib, growth = contrib[keep], growth[keep]
+    many = basis != "annual" and len(contrib) > CONTRIB_PERIODS
+    if many:
+        contrib, growth = contrib.iloc[-CONTRIB_PERIODS:], growth.iloc[-CONTRIB_PERIODS:]
+    words = BASES.get(basis, basis).lower()
+    span = f", latest {CONTRIB_PERIODS:,} periods" if many else ""
+    fig = contributions_figure(
+        contrib, growth, status=[str(status.get(p, "final")) for p in contrib.index],
+        title=f"Contributions to the total's real growth, {words} (percentage points; "
+              f"{total.dollars_label}{span})",
+        growth_label=f"Total's real growth (%, {total.dollars_label})")
+    latest = [p for p in dict.fromkeys(tbl["period"]) if p in set(contrib.index)][-TABLE_PERIODS:]
+    rows = tbl[tbl["period"].isin(latest)].copy()
+    rows["real_growth"] = rows["real_growth_pct"] / 100.0
+    rows = rows.iloc[::-1]
+    order = {p: i for i, p in enumerate(reversed(latest))}
+    comp = {c: i for i, c in enumerate([*total.part_names, "total", "residual"])}
+    rows = rows.assign(_p=rows["period"].map(order), _c=rows["component"].map(comp))
+    rows = rows.sort_values(["_p", "_c"]).drop(columns=["_p", "_c"])
+    caption = (f"Board-pack table, {words}, in {total.dollars_label} ({t.unit}): the parts' "
+               "contributions add up to the total's real growth; latest "
+               f"{len(latest):,} period(s), newest first (the audit workbook's Contributions "
+               "sheets hold every period).")
+    return fig, table(TABLE_COLUMNS, rows.to_dict("records"), caption=caption)
+
+
+def total_outputs(ws: Workspace, key: str, values: dict[str, Any] | None, chain: str | None,
+                  basis: str | None, base: str | None, freq: str | None) -> tuple[Any, ...]:
+    """What Real terms shows for a total of parts: title, the chart of parts, total and
+    residual, notes, the total's growth table, the method note, the contributions chart,
+    the board-pack table and the contributions box's style."""
+    try:
+        t = compute_total(ws, key, values, chain, base, freq)
+    except RealbasisError as err:
+        return ("These figures cannot be computed", empty_figure("See the problems below."),
+                problems_view(error_dicts(err), title="Cannot compute"), None,
+                method_view(()), empty_figure(""), None, HIDDEN)
+    total = t.total
+    levels = total.levels_frame()
+    part_status = {name: _statuses(total.part_status[:, i])
+                   for i, name in enumerate(total.part_names)}
+    total_status = _statuses(total.total_status)
+    resid = ("Residual: total minus the sum of the parts (0: an additive total adds up)"
+             if total.chain == "none" else
+             "Residual: chained total minus the sum of the parts")
+    fig = total_figure(levels, parts=list(total.part_names), part_status=part_status,
+                       total_status=total_status,
+                       title=f"Parts, total and residual in {total.dollars_label} ({t.unit})",
+                       unit=t.unit, total_label=f"Total ({total.dollars_label})",
+                       residual_note=resid)
+    try:
+        contrib_fig, contrib_table = contributions_view(t, basis or "period")
+    except RealbasisError as err:
+        contrib_fig, contrib_table = empty_figure("See the problems below."), problems_view(
+            error_dicts(err), title="Cannot compute contributions")
+    periods = total.periods
+    nominal = pd.Series(total.total_nominal, index=periods)
+    real = pd.Series(total.total_real, index=periods)
+    try:
+        summary = growth_summary(nominal, real, total.frequency, annualise=False)
+    except RealbasisError:
+        summary = []
+    growth = html.Div(table(GROWTH_COLUMNS, summary,
+                            caption=f"Growth of the total ({total.dollars_label}): (1 + nominal) "
+                                    "= (1 + real) × (1 + prices), prices being the implicit "
+                                    "deflator of the total"), className="rb-tables")
+    status_note = _status_note(pd.DataFrame({"status": total_status}))
+    band_statements = [s for b in t.bands for s in b.statements]
+    band_notes = [b.note for b in t.bands if b.note]
+    if any(b.available for b in t.bands):
+        band_notes.append("The band is drawn on the chart when one series is chosen with its "
+                          "deflator.")
+    warn = html.Div([notice(holds_text(t), "info"), notice(status_note, "warn"),
+                     band_view(band_statements, band_notes),
+                     warnings_view(problem_dicts((*total.warnings,
+                                                  *(w for b in t.bands for w in b.warnings))))])
+    vintages = "; ".join(f"{d}: vintage {v or 'not stated'}" for d, v in t.used.items())
+    method = (*total.method_note(), *t.notes,
+              *([f"Left out of the total: {parts_text(t.left_out)}."] if t.left_out else []),
+              f"Index vintages: {vintages}.",
+              *(line for b in t.bands if b.available for line in b.method))
+    return (total_title(t), fig, warn, growth, method_view(method), contrib_fig,
+            contrib_table, SHOWN)
+
+
+def screen_outputs(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any, sa: bool,
+                   pairs: dict[str, Any] | None = None, chain: Any = "none",
+                   basis: Any = "period") -> tuple[Any, ...]:
+    """Everything the Real terms callback returns, for one series, a total under one
+    deflator or a total of parts each by its own deflator: title, figure, notes, growth
+    tables, method note, contributions chart, board-pack table, contributions box style."""
+    if is_parts(series):
+        return total_outputs(ws, series, pairs, chain, basis, base, freq)
+    return (*outputs(ws, series, deflator, base, freq, sa), empty_figure(""), None, HIDDEN)

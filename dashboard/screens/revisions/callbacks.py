@@ -56,3 +56,15 @@ def register(app: Dash) -> None:
         if r is None:
             return no_update
         return view.outputs(rb.data.load(r), index, old, new, series, base)
+
+    @app.callback(
+        Output(ids.RV_BAND_FIGURE, "figure"), Output(ids.RV_BAND, "children"),
+        Input(ids.RV_INDEX, "value"), Input(ids.RV_NEW, "value"),
+        Input(ids.RV_SERIES, "value"), Input(ids.RV_BASE, "value"),
+        State(ids.WORKSPACE, "data"),
+    )
+    def _band(index: Any, new: Any, series: Any, base: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update
+        return view.band_outputs(rb.data.load(r), index, new, series, base)

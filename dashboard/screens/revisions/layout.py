@@ -32,5 +32,16 @@ def layout() -> html.Div:
         html.Div(id=ids.RV_TABLE),
         html.Div(id=ids.RV_WARNINGS),
         html.Div(id=ids.RV_METHOD),
+        html.Section([
+            html.H3("Revision risk: the range past revisions imply", className="rb-subhead"),
+            html.P("From every vintage of the index held here: how much values of each age "
+                   "were revised later, and the band that puts around the later vintage's "
+                   "preliminary values and the real figures resting on them.",
+                   className="rb-intro"),
+            dcc.Loading(dcc.Graph(id=ids.RV_BAND_FIGURE, figure=empty_figure(""),
+                                  config={"displaylogo": False, "responsive": True},
+                                  className="rb-graph", style={"height": "560px"}), type="dot"),
+            html.Div(id=ids.RV_BAND),
+        ], className="rb-band-box"),
         cautions_view(),
     )

@@ -16,7 +16,15 @@ from dash import html
 from pipeline.errors import Problem, RealbasisError, fail
 from pipeline.model import Workspace
 
-from ...components import Column, method_view, notice, problems_view, table, warnings_view
+from ...components import (
+    Column,
+    band_view,
+    method_view,
+    notice,
+    problems_view,
+    table,
+    warnings_view,
+)
 from ...figures import empty_figure, revisions_figure
 from .._shared.view import (
     UI005,
@@ -143,3 +151,117 @@ def outputs(ws: Workspace, index: Any, old: Any, new: Any, series: Any, base: An
     return (html.Div([html.H3(rv.title, className="rb-result-title"), notice(rv.summary, "info")]),
             fig, moved,
             warnings_view(problem_dicts(rv.warnings)), method_view(rv.method))
+
+
+# --------------------------------------------------------------------------- revision band
+
+BAND_CONTEXT = 24  # periods before the preliminary stretch the band chart shows
+
+INDEX_BAND_COLUMNS = (
+    Column("period", "Period"),
+    Column("value", "Index (preliminary)", "number", 3),
+    Column("low", "Low", "number", 3),
+    Column("high", "High", "number", 3),
+    Column("age_months", "Age (months since release)"),
+    Column("ages_pooled", "Ages pooled"),
+    Column("revisions_used", "Past revisions used"),
+)
+
+
+def real_band_columns(unit: str, dollars: str) -> tuple[Column, ...]:
+    return (
+        Column("period", "Period"),
+        Column("real", f"Real ({unit}, {dollars})", "number", 1),
+        Column("real_low", "Low", "number", 1),
+        Column("real_high", "High", "number", 1),
+        Column("growth", "Real growth on a year earlier", "percent", 2),
+        Column("growth_low", "Low", "percent", 2),
+        Column("growth_high", "High", "percent", 2),
+        Column("status", "Status"),
+    )
+
+
+def _tail_from(labels: list[str], first_band: str | None, context: int) -> int:
+    """Position to start a chart at: ``context`` periods before the band's first period."""
+    if first_band is None or first_band not in labels:
+        return max(0, len(labels) - context)
+    return max(0, labels.index(first_band) - context)
+
+
+def band_outputs(ws: Workspace, index: Any, new: Any, series: Any, base: Any
+                 ) -> tuple[Any, Any]:
+    """The revision band of the chosen index's later vintage (pipeline.revision_risk) for
+    the chosen series: a chart of the index band and the real band, the sentences, the
+    tables and the method note (or, with one vintage, a plain note why there is none)."""
+    from pipeline.deflate import deflate
+
+    from ...figures import revision_band_figure
+    from .._shared.view import revision_band_for, trim_to_cover
+
+    if not index or index not in ws.indexes:
+        return empty_figure(""), None
+    try:
+        d = pick_index(ws, index, new if new in ws.indexes[index] else None)
+        s = pick_series(ws, series) if series else None
+        money = trim_to_cover(s, [d])[0] if s is not None else None
+        base_text = base_for(money, base) if money is not None else None
+        to = parse_frequency("auto", money, [d]) if money is not None else None
+        bv = revision_band_for(ws, index, [money] if money is not None else [], base_text,
+                               current=d.vintage if d.vintage in ws.indexes[index] else new,
+                               to=to)
+        if not bv.available:
+            return (empty_figure(bv.note or "No revision band."),
+                    band_view((), [bv.note]))
+        band = bv.band
+        ib = band.index_band
+        labels = list(d.frequency.labels(d.index))
+        start = _tail_from(labels, str(ib["period"].iloc[0]), BAND_CONTEXT)
+        st = d.status_or_final()
+        index_part = {"x": labels[start:], "y": list(d.values.iloc[start:]),
+                      "status": [str(v) for v in st.iloc[start:]],
+                      "band_x": list(ib["period"]), "low": list(ib["low"]),
+                      "high": list(ib["high"])}
+        real_part = None
+        real_rows: list[dict[str, Any]] = []
+        rows = bv.real_rows(money.name) if money is not None else pd.DataFrame()
+        dollars = f"constant {band.base} dollars"
+        if money is not None and not rows.empty:
+            res = deflate([money], [d], base_text, to=to)
+            real = res.real_series(money.name, 0)
+            rstatus = res.status_frame(0)[money.name].reindex(real.index).astype(str)
+            rl = list(res.frequency.labels(real.index))
+            rs = _tail_from(rl, str(rows["period"].iloc[0]), BAND_CONTEXT)
+            real_part = {"x": rl[rs:], "y": list(real.iloc[rs:]), "status": list(rstatus[rs:]),
+                         "band_x": list(rows["period"]), "low": list(rows["real_low"]),
+                         "high": list(rows["real_high"])}
+            real_rows = [{**r, "growth": r["growth_pct"] / 100,
+                          "growth_low": r["growth_low_pct"] / 100,
+                          "growth_high": r["growth_high_pct"] / 100}
+                         for r in rows.iloc[::-1].to_dict("records")]
+        lo, hi = band.quantiles
+        band_label = (f"range past revisions imply ({lo:.0%}–{hi:.0%} quantiles, "
+                      f"{band.revisions_used:,} revisions)")
+        unit = (money.unit or "unit not stated") if money is not None else ""
+        title = (f"Revision band of {index}, vintage {band.current or 'not stated'}"
+                 + (f", and {money.name} in {dollars} ({unit})" if real_part else ""))
+        fig = revision_band_figure(index_part, real_part, title=title,
+                                   index_label=f"{index} (vintage {band.current})",
+                                   real_label=(f"{money.name}, real ({dollars})"
+                                               if money is not None else ""),
+                                   band_label=band_label, unit=unit)
+    except RealbasisError as err:
+        return (empty_figure("See the problems below."),
+                problems_view(error_dicts(err), title="No revision band"))
+    section = html.Div([
+        band_view(bv.statements, [bv.note]),
+        table(INDEX_BAND_COLUMNS, ib.iloc[::-1].to_dict("records"),
+              caption=f"Index band: each preliminary value of {index} and the range past "
+                      "revisions of values of its age imply, latest first"),
+        (table(real_band_columns(unit, dollars), real_rows,
+               caption=f"Real band of {money.name} ({unit}): periods whose real value or "
+                       "growth moves within the band, latest first")
+         if real_rows else None),
+        warnings_view(problem_dicts(bv.warnings)),
+        method_view(bv.method, title="How the revision band was measured"),
+    ], className="rb-tables")
+    return fig, section

@@ -75,7 +75,44 @@ def scope_text(ws: Workspace) -> list[str]:
     if result.worst_status != "final":
         lines.append("Some figures rest on preliminary or projected index values; the "
                      "workbook's 'Status flags' sheet lists them.")
-    return lines
+    return lines + total_scope(ws) + band_scope(ws, result, used)
+
+
+def total_scope(ws: Workspace) -> list[str]:
+    """What the workbook holds of the saved total of parts (its Contributions sheets)."""
+    from pipeline.workbook import saved_total, workspace_total
+
+    if saved_total(ws) is None:
+        return []
+    try:
+        total, _used, _notes = workspace_total(ws)
+    except RealbasisError as err:
+        return [f"The saved total of parts cannot be computed ({err.problems[0].code}: "
+                f"{err.problems[0].message}); the workbook leaves out its Contributions "
+                "sheets."]
+    held = "; ".join(f"{p} by {d}" for p, d in total.pairs)
+    return [f"Audit workbook: Contributions sheets of the saved total of "
+            f"{len(total.part_names):,} part(s) ({held}), {total.chain_words}, in "
+            f"{total.dollars_label}, with the residual line."]
+
+
+def band_scope(ws: Workspace, result: Any, used: dict[str, str]) -> list[str]:
+    """Which revision bands the workbook and the JSON carry."""
+    from pipeline.workbook import workspace_bands
+
+    try:
+        bands = workspace_bands(ws, result, used)
+    except RealbasisError:
+        return []
+    out = []
+    for b in bands:
+        if b.available:
+            out.append(f"Workbook and JSON: the revision band of {b.name} (vintage "
+                       f"{b.current or 'not stated'}, {b.revisions_used:,} past revisions).")
+        else:
+            out.append(f"Workbook and JSON: no revision band of {b.name} (too few past "
+                       "revisions); the reason is recorded.")
+    return out
 
 
 def safe_filename(text: str) -> str:
