@@ -636,3 +636,35 @@ def test_chart_image_carries_every_caution_and_the_base(tmp_path):
     for caution in CAUTIONS:
         assert caution in notes
     assert "constant 2024 dollars" in fig.layout.title.text
+
+
+def test_downloads_carry_the_saved_total_and_the_revision_band(demo):
+    """A total of parts saved on Real terms reaches the audit workbook as its Contributions
+    sheets (through pipeline.workbook.export_workspace), and the chained consumer index's
+    four demo vintages give the revision band in the workbook and the JSON."""
+    import io
+
+    import openpyxl
+
+    from dashboard.screens.real.view import save_choices
+    from dashboard.screens.share.view import export_file, scope_text
+
+    pairs = {"Apparel revenue": "Producer index for apparel and outdoor goods",
+             "Footwear revenue": "Chained consumer index",
+             "Outdoor gear revenue": "Producer index for apparel and outdoor goods",
+             "Home goods revenue": "Fixed-basket consumer index"}
+    ws = save_choices(demo, "__parts__|Apparel revenue", "Chained consumer index", "2024",
+                      "auto", False, pairs=pairs, chain="fisher")
+    lines = " ".join(scope_text(ws))
+    assert "Contributions sheets of the saved total of 4 part(s)" in lines
+    assert "revision band of Chained consumer index" in lines
+    data, _name = export_file(ws, "xlsx", None)
+    wb = openpyxl.load_workbook(io.BytesIO(data), read_only=True)
+    assert {"Contributions", "Contributions - year on year", "Contributions - annual",
+            "Revision band"} <= set(wb.sheetnames)
+    rows = [r for r in wb["Contributions"].iter_rows(values_only=True) if any(r)]
+    assert any("residual" in (str(c) for c in r) for r in rows)
+    data, _name = export_file(ws, "json", None)
+    bands = json.loads(data)["revision_bands"]
+    assert [(b["index"], b["available"]) for b in bands] == [("Chained consumer index", True)]
+    assert bands[0]["revisions_used"] == 28

@@ -113,3 +113,232 @@ def test_real_terms_say_which_out_years_the_deflator_does_not_reach(demo: Worksp
                        "auto", False)[1]
     dashed = [t for t in fig.data if t.name.endswith("(projected)")]
     assert dashed and all(t.line.dash == "dash" for t in dashed)
+
+
+# --------------------------------------------------------------------------- total of parts
+
+HARBOURLINE_PAIRS = {  # each segment by its own deflator (illustrative demo data)
+    "Apparel revenue": "Producer index for apparel and outdoor goods",
+    "Footwear revenue": "Chained consumer index",
+    "Outdoor gear revenue": "Producer index for apparel and outdoor goods",
+    "Home goods revenue": "Fixed-basket consumer index",
+}
+PARTS_KEY = "__parts__|Apparel revenue"
+
+
+def _bars_and_line(fig):
+    import numpy as np
+
+    bars = [t for t in fig.data if t.type == "bar"]
+    line = next(t for t in fig.data if t.type == "scatter")
+    stacked = np.array([[np.nan if v is None else v for v in b.y] for b in bars]).sum(axis=0)
+    growth = np.array([np.nan if v is None else v for v in line.y], dtype=float)
+    return list(bars[0].x), stacked, growth
+
+
+def test_both_totals_say_which_parts_they_hold(demo: Workspace):
+    series_opts, *_ = view.options_for(demo, None, None)
+    labels = [o["label"] for o in series_opts]
+    simple = next(lab for lab in labels if lab.startswith("Total of 4 series under one deflator"))
+    parts = next(lab for lab in labels if lab.startswith("Total of parts, each by its own"))
+    for lab in (simple, parts):
+        assert "Apparel revenue, Footwear revenue, Outdoor gear revenue and Home goods revenue" \
+            in lab
+    title, *_ = view.outputs(demo, "__total__|Apparel revenue", "Chained consumer index", "2024",
+                             "auto", False)
+    assert "Apparel revenue, Footwear revenue, Outdoor gear revenue and Home goods revenue" \
+        in title and "constant 2024 dollars" in title
+    out = view.screen_outputs(demo, PARTS_KEY, None, "2024", "auto", False, HARBOURLINE_PAIRS,
+                              "fisher", "period")
+    assert "chained 2024 dollars" in out[0] and "4 part(s)" in out[0]
+    shown = str(out[2].to_plotly_json())
+    assert "Footwear revenue by Chained consumer index" in shown
+
+
+def test_each_part_is_offered_only_the_deflators_that_can_serve_it(small: Workspace):
+    from conftest import monthly_series
+
+    # Two parts 2023-01..2024-12; "Old index" stops in 2021, so it cannot serve them
+    # (pipeline.compare.serve_check decides, the picker only shows its answer).
+    other = monthly_series("Other sales", [50.0] * 24)
+    old = monthly_series("Old index", [100.0] * 24, start="2020-01", kind="index",
+                         unit="index", vintage="2021-12-31")
+    ws = dataclasses.replace(small, series={**small.series, "Other sales": other},
+                             indexes={**small.indexes, "Old index": {"2021-12-31": old}})
+    key = next(o["value"] for o in view.parts_options(ws))
+    choices = view.pair_choices(ws, key, "2023", "auto")
+    assert [c.part for c in choices] == ["Sales", "Other sales"]
+    for c in choices:
+        values = [o["value"] for o in c.options]
+        assert "Old index" not in values and {"Index A", "Index B"} <= set(values)
+        assert values[-1] == view.LEAVE_OUT
+        assert any("Old index" in why for why in c.not_offered)
+    # the pickers are pattern-matching dropdowns, one per part; the one-deflator field hides
+    rows, parts_hidden, deflator_hidden = view.pairs_panel(ws, key, "2023", "auto", {})
+    assert not parts_hidden and deflator_hidden and len(rows) == 2
+    assert '"part": "Sales"' in str(rows[0].to_plotly_json()).replace("'", '"')
+    assert view.pairs_panel(ws, "Sales", "2023", "auto", {})[1:] == (True, False)
+
+
+def test_additive_total_is_the_sum_of_the_parts_each_deflated_by_its_own(demo: Workspace):
+    # Constant-dollar parts add up (fixed-base deflation; IMF QNA Manual 2017, ch. 8): the
+    # additive total equals the sum of each part deflated alone, real = nominal x I(B)/I(t).
+    t = view.compute_total(demo, PARTS_KEY, HARBOURLINE_PAIRS, "none", "2024", "auto")
+    levels = t.total.levels_frame()
+    alone = sum(view.compute_real(demo, p, d, "2024").frame.set_index("period")["real"]
+                for p, d in HARBOURLINE_PAIRS.items())
+    assert (levels["total"] - alone.reindex(levels.index)).abs().max() < 1e-6
+    assert (levels["residual"].fillna(0) == 0).all()
+    out = view.total_outputs(demo, PARTS_KEY, HARBOURLINE_PAIRS, "none", "period", "2024",
+                             "auto")
+    resid = next(tr for tr in out[1].data if tr.name.startswith("Residual"))
+    assert set(v for v in resid.y if v is not None) == {0.0}  # drawn, flat at zero
+
+
+def test_same_deflator_for_every_part_makes_the_chain_add_up(demo: Workspace):
+    # Proportionality (ILO/IMF CPI Manual 2004, ch. 16, the tests of index formulas): when
+    # every part's price moves alike, the Fisher volume index is the ratio of the sums of
+    # the parts, so the chained total moves exactly as the additive one. (Its level differs
+    # by one constant: the chained total is scaled so that its base-year average equals
+    # the nominal one, the reference-year convention of national accounts, while monthly
+    # constant-dollar parts average to slightly less or more than nominal in the base year.)
+    import numpy as np
+
+    same = {p: "Chained consumer index" for p in HARBOURLINE_PAIRS}
+    fisher = view.compute_total(demo, PARTS_KEY, same, "fisher", "2024", "auto").total
+    additive = view.compute_total(demo, PARTS_KEY, same, "none", "2024", "auto").total
+    ratio = fisher.total_real / additive.total_real
+    assert np.allclose(ratio, ratio[0], rtol=1e-12, atol=0)
+    assert abs(ratio[0] - 1) < 2e-3
+    _x1, _stacked, growth = _bars_and_line(view.total_outputs(
+        demo, PARTS_KEY, same, "fisher", "period", "2024", "auto")[5])
+    _x, _stacked_add, growth_add = _bars_and_line(view.total_outputs(
+        demo, PARTS_KEY, same, "none", "period", "2024", "auto")[5])
+    assert np.allclose(growth, growth_add, equal_nan=True)
+
+
+@pytest.mark.parametrize("chain", ["none", "fisher", "annual"])
+@pytest.mark.parametrize("basis", ["period", "yoy", "annual"])
+def test_contribution_bars_add_up_to_the_total_growth_line(demo: Workspace, chain, basis):
+    # Contributions to real growth add up exactly to the total's real growth (BEA
+    # contributions formula; Reinsdorf, Diewert and Ehemann 2002; DESIGN.md): the chart's
+    # stacked bars of each period equal the line's point.
+    import numpy as np
+
+    out = view.total_outputs(demo, PARTS_KEY, HARBOURLINE_PAIRS, chain, basis, "2024", "auto")
+    assert out[7] == view.SHOWN
+    _x, stacked, growth = _bars_and_line(out[5])
+    ok = ~np.isnan(growth)
+    assert ok.sum() >= (2 if basis == "annual" else 12)
+    assert np.allclose(stacked[ok], growth[ok], atol=1e-9)
+    assert "percentage points" in out[5].layout.title.text
+    assert ("chained 2024 dollars" if chain != "none" else "constant 2024 dollars") in \
+        out[5].layout.title.text
+    table_text = str(out[6].to_plotly_json())
+    assert "residual" in table_text and "Contribution (percentage points)" in table_text
+
+
+def test_chained_total_shows_the_residual_and_says_why(demo: Workspace):
+    out = view.total_outputs(demo, PARTS_KEY, HARBOURLINE_PAIRS, "fisher", "period", "2024",
+                             "auto")
+    resid = next(tr for tr in out[1].data if tr.name.startswith("Residual"))
+    assert max(abs(v) for v in resid.y if v is not None) > 0
+    method = str(out[4].to_plotly_json())
+    assert "never hidden" in method and "parts no longer add up" in method
+    # the preliminary stretch is shaded on both panels
+    assert any(s.fillcolor and "230, 159, 0" in s.fillcolor for s in out[1].layout.shapes)
+
+
+def test_total_of_parts_is_saved_and_restored(access: DataAccess, demo: Workspace):
+    ws = access.create("totals")
+    ws = access.save(dataclasses.replace(ws, series=demo.series, indexes=demo.indexes,
+                                         settings=dict(demo.settings)), action="setup")
+    pairs = dict(HARBOURLINE_PAIRS, **{"Home goods revenue": view.LEAVE_OUT})
+    saved = access.save(view.save_choices(ws, PARTS_KEY, "Chained consumer index", "", "auto",
+                                          False, pairs=pairs, chain="annual"),
+                        action="real-terms choices")
+    back = access.load(WorkspaceRef(saved.id, saved.version))
+    assert back.settings["total"] == {"pairs": {k: v for k, v in HARBOURLINE_PAIRS.items()
+                                                if k != "Home goods revenue"},
+                                      "chain": "annual"}
+    assert back.settings["base"] == "2025"  # the base the figures used is what is saved
+    assert view.saved_chain(back, "none") == "annual"
+    restored = {c.part: c.value for c in view.pair_choices(back, PARTS_KEY, "2025", "auto")}
+    assert restored == pairs  # the part left out stays out
+    _series_opts, series_value, *_ = view.options_for(back, None, None)
+    assert series_value == PARTS_KEY
+    # and the engine's export reads the same total (pipeline.workbook.workspace_total)
+    from pipeline.workbook import workspace_total
+
+    total, _used, _notes = workspace_total(back)
+    assert total.chain == "annual" and "Home goods revenue" not in total.part_names
+    # every part left out: a coded problem in the screen's words, nothing saved
+    with pytest.raises(RealbasisError) as err:
+        view.save_choices(back, PARTS_KEY, None, "2024", "auto", False,
+                          pairs={p: view.LEAVE_OUT for p in HARBOURLINE_PAIRS})
+    from dashboard.screens._shared.view import problem_dict
+
+    assert "Each part's deflator" in problem_dict(err.value.problems[0])["fix"]
+
+
+def test_chart_texts_are_escaped_for_plotly(small: Workspace):
+    from conftest import monthly_series
+
+    evil = "<img src=x onerror=alert(1)> & Co"
+    ws = dataclasses.replace(small, series={**small.series,
+                                            evil: monthly_series(evil, [7.0] * 24)})
+    key = next(o["value"] for o in view.parts_options(ws))
+    out = view.total_outputs(ws, key, {"Sales": "Index A", evil: "Index B"}, "fisher", "period",
+                             "2023", "auto")
+    names = [tr.name for tr in (*out[1].data, *out[5].data)]
+    assert "&lt;img src=x onerror=alert(1)&gt; &amp; Co" in names
+    assert not any("<img" in (n or "") for n in names)
+
+
+# --------------------------------------------------------------------------- revision band
+
+
+def test_real_terms_band_on_the_demo(demo: Workspace):
+    # The demo holds four vintages of the chained consumer index (illustrative): the real
+    # line gets the band over its preliminary stretch, with the sentences and the method.
+    _title, fig, warn, _growth, method = view.outputs(demo, "Apparel revenue",
+                                                     "Chained consumer index", "2024", "auto",
+                                                     False)
+    band = [tr for tr in fig.data if tr.name and tr.name.startswith("range past revisions")]
+    assert len(band) == 2 and band[1].fill == "tonexty"
+    assert band[0].x[0] == "2025-11" and band[0].x[-1] == "2026-09"  # the preliminary stretch
+    assert all(lo <= hi for lo, hi in zip(band[0].y, band[1].y, strict=True))
+    shown = str(warn.to_plotly_json())
+    assert "past revisions of this index would put it between" in shown
+    note = str(method.to_plotly_json())
+    assert "10 % and 90 % quantiles" in note and "28 past revision(s)" in note
+    # seasonally adjusted: the band is not drawn on the adjusted line, and the screen says so
+    _t, fig_sa, warn_sa, *_ = view.outputs(demo, "Apparel revenue", "Chained consumer index",
+                                           "2024", "auto", True)
+    assert not any((tr.name or "").startswith("range past") for tr in fig_sa.data)
+    assert "switch seasonal adjustment off" in str(warn_sa.to_plotly_json())
+
+
+def test_real_terms_band_absent_with_one_vintage(demo: Workspace):
+    vins = demo.indexes["Chained consumer index"]
+    latest = max(vins)
+    ws = dataclasses.replace(demo, indexes={**demo.indexes,
+                                            "Chained consumer index": {latest: vins[latest]}})
+    _t, fig, warn, _g, method = view.outputs(ws, "Apparel revenue", "Chained consumer index",
+                                             "2024", "auto", False)
+    assert not any((tr.name or "").startswith("range past") for tr in fig.data)
+    shown = str(warn.to_plotly_json())
+    assert "No revision band" in shown and "one vintage only" in shown
+    assert "Revision band of" not in str(method.to_plotly_json())
+    # all final figures: no band and no note about it
+    _t, fig, warn, *_ = view.outputs(demo, "Apparel revenue", "Fixed-basket consumer index",
+                                     "2024", "auto", False)
+    assert "revision" not in str(warn.to_plotly_json()).lower()
+
+
+def test_total_of_parts_carries_the_band_of_a_revised_deflator(demo: Workspace):
+    out = view.total_outputs(demo, PARTS_KEY, HARBOURLINE_PAIRS, "fisher", "period", "2024",
+                             "auto")
+    shown = str(out[2].to_plotly_json())
+    assert "Footwear revenue: real growth" in shown  # the part on the revised deflator
+    assert "Revision band of Chained consumer index" in str(out[4].to_plotly_json())

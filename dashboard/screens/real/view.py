@@ -347,7 +347,7 @@ def outputs(ws: Workspace, series: str | None, deflator: str | None, base: str |
     ], className="rb-tables")
     status_note = _status_note(c.frame)
     bv, band_notes = real_band(ws, c, base, sa=sa)
-    if bv is not None and bv.available:
+    if bv is not None and bv.available and not sa:
         rows = bv.real_rows(c.series_name)
         if not rows.empty:
             add_band(fig, list(rows["period"]), list(rows["real_low"]), list(rows["real_high"]),
