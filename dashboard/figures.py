@@ -276,10 +276,17 @@ def _shade_rows(fig: go.Figure, status: Sequence[str], rows: int) -> None:
                               ("projected", PROJECTED_FILL, "projected")):
         for a, b in _stretches(status, which):
             for r in range(1, rows + 1):
+                label = {"annotation_text": text, "annotation_position": "top left",
+                         "annotation_font_size": 11} if r == 1 else {}
                 fig.add_vrect(x0=a - 0.5, x1=b + 0.5, fillcolor=fill, line_width=0,
-                              layer="below", row=r, col=1,
-                              annotation_text=text if r == 1 else None,
-                              annotation_position="top left", annotation_font_size=11)
+                              layer="below", row=r, col=1, **label)
+
+
+def _title_over_legend(fig: go.Figure, top: int = 150) -> None:
+    """Keep a figure's own title clear of a legend that may take two or three rows: the
+    title at the top of the figure, the legend just above the plot, room between."""
+    fig.update_layout(title={"y": 0.985, "yref": "container", "yanchor": "top"},
+                      legend={"y": 1.02, "yanchor": "bottom"}, margin={"t": top})
 
 
 def total_figure(levels: pd.DataFrame, *, parts: Sequence[str], part_status: Mapping[str,
@@ -326,7 +333,7 @@ def total_figure(levels: pd.DataFrame, *, parts: Sequence[str], part_status: Map
     fig.update_yaxes(title_text="residual", tickformat=",.1f", row=2, col=1, zeroline=True,
                      zerolinecolor="#777777")
     fig.update_xaxes(showticklabels=False, row=1, col=1)
-    fig.update_layout(legend={"y": 1.02}, margin={"t": 110})
+    _title_over_legend(fig)
     return fig
 
 
@@ -355,7 +362,8 @@ def contributions_figure(contributions: pd.DataFrame, total_growth: pd.Series, *
                              hovertemplate="%{y:+,.2f} %"))
     _shade(fig, [str(s) for s in status])
     _layout(fig, plain(title), "percentage points", x=x)
-    fig.update_layout(barmode="relative", bargap=0.25, margin={"t": 110}, legend={"y": 1.02})
+    fig.update_layout(barmode="relative", bargap=0.25)
+    _title_over_legend(fig, 130)
     fig.update_yaxes(tickformat="+,.1f", zeroline=True, zerolinecolor="#777777")
     return fig
 
@@ -420,5 +428,7 @@ def revision_band_figure(index: Mapping[str, Sequence[object]],
     fig.update_yaxes(title_text="index", tickformat=",.1f", row=1, col=1)
     if real:
         fig.update_yaxes(title_text=plain(unit), row=2, col=1)
-    fig.update_layout(margin={"t": 120}, legend={"y": 1.06}, hovermode="x unified")
+    fig.update_layout(hovermode="x unified")
+    _title_over_legend(fig, 170)
+    fig.update_layout(legend={"y": 1.08})  # above the first panel's own title
     return fig

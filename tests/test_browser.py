@@ -346,3 +346,153 @@ def test_fiscal_budget_in_real_terms_and_whole_labels(server: str, browser: Any,
     assert "Rail operations (USD thousands, fiscal years starting July)" in \
         page.inner_text("#rt-series")
     page.close()
+
+
+def _part_shot(page: Any, selector: str, folder: Path, name: str) -> None:
+    """A screenshot of one part of the page at full size (easier to look at closely)."""
+    page.wait_for_timeout(300)
+    page.locator(selector).screenshot(path=str(folder / f"dashboard-{name}.png"))
+
+
+def _pick(page: Any, control: Any, search: str, value: str) -> None:
+    """Open a dcc.Dropdown (a locator), search ``search`` and click the option whose value
+    is ``value`` (values need not match the labels)."""
+    control.click()
+    content = page.locator(".dash-dropdown-content[data-state=open]")
+    content.wait_for()
+    content.locator("input.dash-dropdown-search").fill(search)
+    content.locator(f"[role=option]:has(input[value='{value}'])").first.click()
+    if content.count():
+        page.keyboard.press("Escape")
+    content.wait_for(state="detached")
+
+
+def _pair(page: Any, part: str) -> Any:
+    import json
+
+    dom_id = json.dumps({"part": part, "type": "rt-pair"}, sort_keys=True,
+                        separators=(",", ":"))
+    return page.locator(f"[id='{dom_id}']")
+
+
+def test_total_of_parts_contributions_workbook_and_revision_band(server: str, browser: Any,
+                                                                 tmp_path: Path,
+                                                                 output_dir: Path):
+    """Harbourline's four segments (illustrative demo), each by its own deflator, chained
+    Fisher: the residual line and the contributions chart; saved, the audit workbook from
+    Share and export holds the Contributions sheet; the revision band of the chained
+    consumer index (four demo vintages) on Revisions and on Real terms."""
+    import openpyxl
+
+    page = browser.new_page(viewport={"width": 1300, "height": 1000})
+    problems: list[str] = []
+    page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}")
+            if m.type == "error" else None)
+    page.on("pageerror", lambda e: problems.append(f"page error: {e}"))
+    page.goto(server)
+    page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+    page.click("#rb-nav-real")
+    page.wait_for_function("document.querySelector('#rt-title').innerText.includes('constant')",
+                           timeout=60_000)
+
+    # --- the total of parts, each by its own deflator
+    _pick(page, page.locator("#rt-series"), "Total of parts", "__parts__|Apparel revenue")
+    page.wait_for_selector("#rt-parts-box:not([hidden])", timeout=30_000)
+    assert page.locator("#rt-deflator-box").is_hidden()
+    pairs = {"Apparel revenue": "Producer index for apparel and outdoor goods",
+             "Footwear revenue": "Chained consumer index",
+             "Outdoor gear revenue": "Producer index for apparel and outdoor goods",
+             "Home goods revenue": "Fixed-basket consumer index"}
+    for part, deflator in pairs.items():
+        _pair(page, part).wait_for(timeout=30_000)
+        _pick(page, _pair(page, part), deflator, deflator)
+    page.check("#rt-chain input[value='fisher']")
+    page.wait_for_function(
+        "document.querySelector('#rt-title').innerText.includes('chained 2024 dollars') && "
+        "document.querySelector('#rt-warnings').innerText.includes("
+        "'Home goods revenue by Fixed-basket consumer index')", timeout=30_000)
+    page.wait_for_function(
+        "(() => { const g = document.querySelector('#rt-figure .js-plotly-plot');"
+        " return g && g.data.some(t => t.name.startsWith('Residual') &&"
+        " t.y.some(v => v !== null && Math.abs(v) > 0)); })()", timeout=30_000)
+    page.wait_for_function(
+        "(() => { const g = document.querySelector('#rt-contrib-figure .js-plotly-plot');"
+        " return g && g.data.filter(t => t.type === 'bar').length === 4; })()",
+        timeout=30_000)
+    assert "Residual = chained total" in page.inner_text("#rt-method")
+    _shot(page, output_dir, "real-terms-total-of-parts")
+    _part_shot(page, "#rt-parts-box", output_dir, "part-total-choices")
+    _part_shot(page, "#rt-figure", output_dir, "part-total-figure")
+    _part_shot(page, "#rt-warnings", output_dir, "part-total-notes")
+    page.check("#rt-basis input[value='yoy']")
+    page.wait_for_function("document.querySelector('#rt-contrib-table').innerText.includes("
+                           "'on the same period a year earlier')", timeout=30_000)
+    # the bars of each period add up to the total's growth line, as drawn in the browser
+    gap = page.evaluate(
+        "(() => { const g = document.querySelector('#rt-contrib-figure .js-plotly-plot');"
+        " const bars = g.data.filter(t => t.type === 'bar');"
+        " const line = g.data.find(t => t.type === 'scatter'); let worst = 0;"
+        " line.y.forEach((v, i) => { if (v === null) return;"
+        "   const s = bars.reduce((a, b) => a + (b.y[i] || 0), 0);"
+        "   worst = Math.max(worst, Math.abs(s - v)); }); return worst; })()")
+    assert gap < 1e-9
+    page.locator("#rt-contrib-box").scroll_into_view_if_needed()
+    _shot(page, output_dir, "real-terms-contributions-yoy")
+    _part_shot(page, "#rt-contrib-box", output_dir, "part-contributions")
+
+    # --- saved with the workspace (the demo goes to a copy), then the workbook
+    page.click("#rt-save")
+    page.wait_for_function("document.querySelector('#rt-saved').innerText.includes("
+                           "'Saved as version')", timeout=30_000)
+    page.wait_for_function("document.querySelector('#rb-workspace-label').innerText"
+                           ".includes('My copy of the demo')", timeout=30_000)
+    page.click("#rb-nav-share")
+    page.wait_for_selector("#rb-screen-share:not([hidden])")
+    page.wait_for_function("document.querySelector('#sx-scope').innerText.includes("
+                           "'Contributions sheets of the saved total')", timeout=30_000)
+    with page.expect_download(timeout=120_000) as info:
+        page.click("#sx-dl-xlsx")
+    path = tmp_path / info.value.suggested_filename
+    info.value.save_as(str(path))
+    wb = openpyxl.load_workbook(path, read_only=True)
+    assert "Contributions" in wb.sheetnames and "Revision band" in wb.sheetnames
+    text = " ".join(str(c) for r in wb["Contributions"].iter_rows(values_only=True)
+                    for c in r if c is not None)
+    assert "residual" in text and "Footwear revenue" in text
+    _shot(page, output_dir, "share-with-total")
+    _part_shot(page, "#sx-scope", output_dir, "part-share-scope")
+
+    # --- the revision band on Revisions
+    page.click("#rb-nav-revisions")
+    page.wait_for_selector("#rb-screen-revisions:not([hidden])")
+    page.wait_for_function("document.querySelector('#rv-band').innerText.includes("
+                           "'past revisions of this index would put it between')",
+                           timeout=60_000)
+    page.wait_for_function(
+        "(() => { const g = document.querySelector('#rv-band-figure .js-plotly-plot');"
+        " return g && g.data.filter(t => t.fill === 'tonexty').length === 2; })()",
+        timeout=30_000)
+    page.locator("#rv-band-figure").scroll_into_view_if_needed()
+    _shot(page, output_dir, "revisions-band")
+    _part_shot(page, "#rv-band-figure", output_dir, "part-revisions-band-figure")
+    _part_shot(page, "#rv-band", output_dir, "part-revisions-band-tables")
+
+    # --- and on Real terms, for one series under the revised deflator
+    page.click("#rb-nav-real")
+    _pick(page, page.locator("#rt-series"), "Apparel revenue", "Apparel revenue")
+    page.wait_for_selector("#rt-deflator-box:not([hidden])", timeout=30_000)
+    _choose(page, "rt-deflator", ["Chained consumer index"])
+    page.wait_for_function("document.querySelector('#rt-warnings').innerText.includes("
+                           "'past revisions of this index would put it between')",
+                           timeout=30_000)
+    page.wait_for_function(
+        "(() => { const g = document.querySelector('#rt-figure .js-plotly-plot');"
+        " return g && g.data.some(t => t.name.startsWith('range past revisions') &&"
+        " t.fill === 'tonexty'); })()", timeout=30_000)
+    assert page.locator("#rt-contrib-box").is_hidden()
+    assert "quantiles" in page.inner_text("#rt-method")
+    _shot(page, output_dir, "real-terms-band")
+    _part_shot(page, "#rt-figure", output_dir, "part-real-band-figure")
+    _part_shot(page, "#rt-warnings", output_dir, "part-real-band-notes")
+    assert problems == [], "\n".join(problems)
+    page.close()

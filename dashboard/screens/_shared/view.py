@@ -555,3 +555,23 @@ def revision_band_for(ws: Workspace, index: str, series: Sequence[Series] = (),
                 "so the revision band does not reach them.")
     shown = tuple(w for w in band.warnings if w.code not in (WS310, WS311))
     return BandView(index, band, band.statements, note, band.method_note(), shown)
+
+
+def band_width_note(rows: pd.DataFrame, unit: str) -> str | None:
+    """How wide the real band is at its widest, in words, so a band too narrow to see at
+    the chart's scale is still stated (None when there is no band)."""
+    if rows.empty:
+        return None
+    width = (pd.to_numeric(rows["real_high"]) - pd.to_numeric(rows["real_low"])).abs()
+    i = width.idxmax()
+    real = abs(float(rows.loc[i, "real"]))
+    share = f" ({100 * float(width[i]) / real:,.2f} % of the real value)" if real else ""
+    return (f"The band is at most {float(width[i]):,.1f} {unit} wide{share}, in "
+            f"{rows.loc[i, 'period']}; where it is thinner than the line, zoom in on the "
+            "shaded stretch to see it.")
+
+
+def quantile_words(quantiles: Sequence[float]) -> str:
+    """'10 %–90 % quantiles'."""
+    lo, hi = quantiles
+    return f"{100 * lo:.0f} %–{100 * hi:.0f} % quantiles"

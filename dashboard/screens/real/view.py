@@ -22,6 +22,7 @@ several vintages and the figures rest on its preliminary values.
 from __future__ import annotations
 
 import dataclasses
+import json
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -54,6 +55,7 @@ from .._shared.view import (
     UI005,
     BandView,
     ProgressFn,
+    band_width_note,
     base_for,
     choose,
     deflator_options,
@@ -64,6 +66,7 @@ from .._shared.view import (
     pick_index,
     pick_series,
     problem_dicts,
+    quantile_words,
     revision_band_for,
     series_options,
     total_groups,
@@ -352,6 +355,7 @@ def outputs(ws: Workspace, series: str | None, deflator: str | None, base: str |
         if not rows.empty:
             add_band(fig, list(rows["period"]), list(rows["real_low"]), list(rows["real_high"]),
                      name=band_label(bv), unit=c.unit)
+            band_notes.append(band_width_note(rows, c.unit))
     warn = html.Div([notice(c.left_out, "warn"), notice(status_note, "warn"),
                      band_view(bv.statements if bv else (), band_notes),
                      warnings_view(problem_dicts((*c.warnings, *(bv.warnings if bv else ()))))])
@@ -381,8 +385,7 @@ def real_band(ws: Workspace, c: Computed, base: str | None, *, sa: bool = False
 
 
 def band_label(bv: BandView) -> str:
-    lo, hi = bv.band.quantiles
-    return (f"range past revisions of {bv.index} imply ({lo:.0%}–{hi:.0%} quantiles, "
+    return (f"range past revisions of {bv.index} imply ({quantile_words(bv.band.quantiles)}, "
             f"{bv.band.revisions_used:,} revisions)")
 
 
@@ -591,9 +594,12 @@ def pairs_panel(ws: Workspace, key: Any, base: Any, freq: Any, current: dict[str
     rows = []
     for c in choices:
         pid = ids.rt_pair(c.part)
+        # the label points at the control's id as the browser sees it (Dash writes a
+        # pattern-matching id as JSON with sorted keys)
+        dom_id = json.dumps(pid, sort_keys=True, separators=(",", ":"))
         rows.append(field(c.part, dcc.Dropdown(id=pid, options=list(c.options), value=c.value,
                                                clearable=False, className="rb-dropdown"),
-                          f"rt-pair-{c.part}",
+                          dom_id,
                           hint="; ".join(c.not_offered) if c.not_offered else None))
     return rows, False, True
 

@@ -196,7 +196,12 @@ def band_outputs(ws: Workspace, index: Any, new: Any, series: Any, base: Any
     from pipeline.deflate import deflate
 
     from ...figures import revision_band_figure
-    from .._shared.view import revision_band_for, trim_to_cover
+    from .._shared.view import (
+        band_width_note,
+        quantile_words,
+        revision_band_for,
+        trim_to_cover,
+    )
 
     if not index or index not in ws.indexes:
         return empty_figure(""), None
@@ -238,8 +243,7 @@ def band_outputs(ws: Workspace, index: Any, new: Any, series: Any, base: Any
                           "growth_low": r["growth_low_pct"] / 100,
                           "growth_high": r["growth_high_pct"] / 100}
                          for r in rows.iloc[::-1].to_dict("records")]
-        lo, hi = band.quantiles
-        band_label = (f"range past revisions imply ({lo:.0%}–{hi:.0%} quantiles, "
+        band_label = (f"range past revisions imply ({quantile_words(band.quantiles)}, "
                       f"{band.revisions_used:,} revisions)")
         unit = (money.unit or "unit not stated") if money is not None else ""
         title = (f"Revision band of {index}, vintage {band.current or 'not stated'}"
@@ -253,7 +257,7 @@ def band_outputs(ws: Workspace, index: Any, new: Any, series: Any, base: Any
         return (empty_figure("See the problems below."),
                 problems_view(error_dicts(err), title="No revision band"))
     section = html.Div([
-        band_view(bv.statements, [bv.note]),
+        band_view(bv.statements, [bv.note, band_width_note(rows, unit) if real_part else None]),
         table(INDEX_BAND_COLUMNS, ib.iloc[::-1].to_dict("records"),
               caption=f"Index band: each preliminary value of {index} and the range past "
                       "revisions of values of its age imply, latest first"),
