@@ -711,8 +711,11 @@ def workspace_result(ws: Any, *, base: str | None = None,
     interp = bool(settings.get("interpolate"))
     rates = saved_rates(ws, chosen)
     if rates:
-        result = _authority_result(money, defl, base, rates, freq, fy, interp, notes)
+        result = _authority_result([ws.series[n] for n in chosen], defl, base, rates, freq,
+                                   fy, interp, notes)
         if result is not None:
+            for name in [n for n in used if n not in result.deflator_names]:
+                used.pop(name)
             return result, used, notes
     return deflate(money, defl, base, to=freq, fy_start=fy, interpolate=interp), used, notes
 
@@ -729,25 +732,53 @@ def saved_rates(ws: Any, names: Sequence[str]) -> dict[str, Any]:
 def _authority_result(money: list[Any], defl: list[Any], base: str, rates: Mapping[str, Any],
                       freq: Any, fy: int | None, interp: bool, notes: list[str]) -> Any:
     """The series with saved outlay rates deflated as budget authority
-    (:func:`pipeline.outlay.deflate_authority`), the years whose outlays the deflators do
-    not reach left out (noted); None when the results are not by year (noted: rates are
-    shares per year)."""
+    (:func:`pipeline.outlay.deflate_authority`): a deflator that cannot reach the outlay
+    years even of the base is left out, the years whose outlays the others do not reach
+    are cut (both noted); None when the results are not by year (noted: rates are shares
+    per year)."""
     from .outlay import cut_to_reach, deflate_authority
 
     years = freq if freq is not None else (
         money[0].frequency if len({m.frequency for m in money}) == 1 else None)
+    # ``money`` is the series as held (not yet cut to the deflators' span)
     if years is None or years.code not in ("A", "FY"):
         notes.append("Outlay rates saved for " + ", ".join(repr(n) for n in rates)
                      + " are not used: the results are "
                      + (years.describe() if years is not None else "not by year")
                      + ", and outlay rates are shares per year.")
         return None
+    from .outlay import DF022
+
+    rated = [s for s in money if s.name in rates]
+    kept, first_error = [], None
+    for d in defl:  # a deflator that cannot reach the outlay years is left out, and named
+        trial = [cut_to_reach(_trim(s, [d])[0], [d], rates[s.name], years)[0]
+                 for s in rated]
+        try:
+            deflate_authority(trial, [d], base, dict(rates), to=freq, fy_start=fy,
+                              interpolate=interp)
+        except RealbasisError as err:
+            gap = next((p for p in err.problems if p.code == DF022), None)
+            if gap is None:
+                raise
+            first_error = first_error or err
+            notes.append(f"{d.name} is left out: {gap.message} ({gap.found}).")
+            continue
+        kept.append(d)
+    if not kept:
+        raise first_error  # type: ignore[misc]
+    # cut to what the deflators kept cover (the notes on cutting are made again for them)
+    notes[:] = [n for n in notes if "the periods every chosen deflator covers" not in n]
+    money = list(money)
     for i, s in enumerate(money):
+        money[i], note = _trim(s, kept)
+        if note:
+            notes.append(note)
         if s.name in rates:
-            money[i], note = cut_to_reach(s, defl, rates[s.name], years)
+            money[i], note = cut_to_reach(money[i], kept, rates[s.name], years)
             if note:
                 notes.append(note)
-    return deflate_authority(money, defl, base, dict(rates), to=freq, fy_start=fy,
+    return deflate_authority(money, kept, base, dict(rates), to=freq, fy_start=fy,
                              interpolate=interp)
 
 
