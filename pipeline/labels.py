@@ -328,7 +328,7 @@ def _frequency(key: str, fy_start: int | None) -> Frequency:
             "FY": Frequency("FY", s), "FQ": Frequency("Q", s)}[key]
 
 
-def _date_frequency(ordinals: np.ndarray, fy_start: int | None) -> str:
+def date_frequency(ordinals: np.ndarray, fy_start: int | None) -> str:
     """For a column of ISO dates only: 'M', or 'Q'/'A'/'FY' when spacing says so."""
     u = np.unique(ordinals)
     if len(u) < 2:
@@ -350,7 +350,7 @@ def _date_frequency(ordinals: np.ndarray, fy_start: int | None) -> str:
     return "M"
 
 
-def _to_periods(ordinals: np.ndarray, key: str, fy_start: int | None) -> pd.PeriodIndex:
+def to_periods(ordinals: np.ndarray, key: str, fy_start: int | None) -> pd.PeriodIndex:
     monthly = pd.PeriodIndex(pd.arrays.PeriodArray(ordinals.astype("int64"),
                                                    dtype=pd.PeriodDtype("M")))
     freq = _frequency(key, fy_start)
@@ -393,7 +393,7 @@ def _parse_label(text: str, fy_start: int | None) -> tuple[pd.Period, Frequency]
     _needs_fy(kind, fy_start, {}, [text])
     key = _freq_key(kind)[0]
     ords = _first_month_ordinal(kind, u.year, u.sub, fy_start or 1)
-    idx = _to_periods(ords, key, fy_start)
+    idx = to_periods(ords, key, fy_start)
     return idx[0], _frequency(key, fy_start)
 
 
@@ -442,15 +442,15 @@ def finish(parsed: ParsedColumn, mask: np.ndarray | None = None) -> tuple[pd.Per
     key = keys.pop() if keys else "M"
     ords = parsed.ordinals[sel]
     if key == "M" and good.any() and (parsed.kinds[good] == DATE).all():
-        key = _date_frequency(parsed.ordinals[good], parsed.fy_start)
-    return _to_periods(ords, key, parsed.fy_start), key
+        key = date_frequency(parsed.ordinals[good], parsed.fy_start)
+    return to_periods(ords, key, parsed.fy_start), key
 
 
 def frequency_of(key: str, fy_start: int | None) -> Frequency:
     return _frequency(key, fy_start)
 
 
-_FREQ_WORDS = {"M": "monthly", "Q": "quarterly", "A": "calendar years", "FY": "fiscal years",
+FREQ_WORDS = {"M": "monthly", "Q": "quarterly", "A": "calendar years", "FY": "fiscal years",
                "FQ": "fiscal quarters"}
 
 
@@ -476,7 +476,7 @@ def parse_label_column(values: Sequence[str], fy_start: int | None = None, *,
         p = int(pos_good[first[list(keys).index(minority)]])
         row = int(rows[p]) if rows is not None else p + 1
         found = "; ".join(
-            f"{_FREQ_WORDS[k]}: {counts[k]} labels, first {values[int(pos_good[f])]!r}"
+            f"{FREQ_WORDS[k]}: {counts[k]} labels, first {values[int(pos_good[f])]!r}"
             for k, f in zip(keys, first, strict=True))
         raise fail(PE103, "the period labels mix frequencies", expected="one frequency per period column",
                    found=found,

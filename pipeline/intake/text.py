@@ -1,0 +1,186 @@
+"""Stage 2 for text files: decode the bytes, find the delimiter and the first record of
+the table, and read every cell as text.
+
+Encodings: UTF-8 with or without BOM, UTF-16 with BOM, else Windows-1252. Delimiters
+(tab, semicolon, comma) are counted outside quoted fields record by record (RFC 4180: a
+quoted field may hold the delimiter, doubled quotes and line breaks); rows are the file
+line where each record starts."""
+
+from __future__ import annotations
+
+import csv
+import io
+import re
+
+import numpy as np
+import pandas as pd
+
+from ..errors import fail
+from ..settings import Settings
+from .codes import IN003, IN004, IN007
+from .problems import clip
+from .source import Source
+from .table import MAX_TITLE_ROWS, Grid
+
+DELIMITERS = {"\t": "tab", ";": "semicolon", ",": "comma"}
+
+
+def decode(data: bytes, name: str) -> tuple[str, str]:
+    """(text, encoding) or IN004."""
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        try:
+            return data.decode("utf-16"), "utf-16"
+        except UnicodeDecodeError:
+            pass
+    elif b"\x00" not in data:
+        try:
+            return data.decode("utf-8-sig"), ("utf-8-sig" if data.startswith(b"\xef\xbb\xbf")
+                                              else "utf-8")
+        except UnicodeDecodeError:
+            pass
+        try:
+            return data.decode("cp1252"), "cp1252"
+        except UnicodeDecodeError:
+            pass
+    raise fail(IN004, "the file is not text in an encoding intake reads",
+               expected="UTF-8 (with or without BOM), UTF-16 with BOM, or Windows-1252 text; "
+                        "or a workbook (.xlsx, .xls, .ods)",
+               found="bytes that are none of these" + (" (it contains NUL bytes)" if b"\x00" in data else ""),
+               fix="Save the file as 'CSV UTF-8' or as an .xlsx workbook.", file=name)
+
+
+def records(text: str, sep: str, limit: int | None = None) -> tuple[list[int], list[int]]:
+    """Quote-aware split of ``text`` into records (RFC 4180: a field that starts with a
+    double quote runs to the closing quote; inside it delimiters, line breaks and doubled
+    quotes ``""`` are data; a quote inside an unquoted field is an ordinary character, as
+    in ``pandas.read_csv``). Returns per record the number of delimiters outside quotes
+    (-1 for a blank line) and the 1-based line where the record starts. Stops after
+    ``limit`` records; an unreadable rest (e.g. a field over the csv module's size limit)
+    ends the lists early."""
+    counts: list[int] = []
+    starts: list[int] = []
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=sep, quotechar='"',
+                        doublequote=True, skipinitialspace=False, strict=False)
+    line = 0
+    try:
+        for record in reader:
+            starts.append(line + 1)
+            blank = len(record) == 0 or (len(record) == 1 and not record[0].strip())
+            counts.append(-1 if blank else len(record) - 1)
+            line = reader.line_num
+            if limit is not None and len(counts) >= limit:
+                break
+    except csv.Error:
+        pass
+    return counts, starts
+
+
+def _head(text: str) -> str:
+    """The first 200,000 characters, cut after the last complete line."""
+    if len(text) <= 200_000:
+        return text
+    head = text[:200_000]
+    cut = max(head.rfind("\n"), head.rfind("\r"))
+    return head[: cut + 1] if cut > 0 else head
+
+
+def sniff(text: str) -> tuple[str, int]:
+    """(delimiter, number of records above the header: title lines and blank lines).
+
+    Delimiters are counted outside quoted fields, record by record (a quoted field may
+    hold the delimiter, doubled quotes and line breaks), over the first 60 records; the
+    delimiter is the one whose count is the same on most records, and the header is the
+    first record with that count."""
+    head = _head(text)
+    per_sep = {sep: records(head, sep, 60)[0] for sep in ("\t", ";", ",")}
+    best, best_score = ",", -1.0
+    for sep, all_counts in per_sep.items():
+        counts = [c for c in all_counts if c >= 0]
+        if not counts or max(counts) == 0:
+            continue
+        mode = max(set(counts), key=counts.count)
+        score = counts.count(mode) + (0.5 if counts[0] > 0 else 0) + (0.1 if mode > 0 else 0)
+        if mode > 0 and score > best_score:
+            best, best_score = sep, score
+    nonblank = [(i, c) for i, c in enumerate(per_sep[best]) if c >= 0]
+    if not nonblank:
+        return best, 0
+    values = [c for _, c in nonblank]
+    mode = max(set(values), key=values.count)
+    if mode == 0:
+        return best, 0
+    first = next(i for i, c in nonblank if c == mode)
+    return best, first
+
+
+def _record_lines(data: bytes, text: str, sep: str) -> np.ndarray | None:
+    """1-based file line where each record starts, when some quoted field spans lines;
+    None when every record is one line (no quote character, or every line break has an
+    even number of quotes before it). Quote parity is only the cheap trigger; the lines
+    themselves come from the quote-aware :func:`records`."""
+    if b'"' not in data:
+        return None
+    raw = np.frombuffer(data, dtype=np.uint8)
+    quotes = np.flatnonzero(raw == 34)
+    before = np.searchsorted(quotes, np.flatnonzero(raw == 10))  # quotes before each line break
+    if not (before % 2).any():
+        return None
+    _, starts = records(text, sep)
+    return np.asarray(starts, dtype=np.int64) if starts else None
+
+
+def read(src: Source, settings: Settings) -> Grid:
+    """The cells of a text file (every cell text), from the first record of the table."""
+    data, name = src.data, src.name
+    text, encoding = decode(data, name)
+    if not text.strip():
+        raise fail(IN003, "the file is empty", expected="a header row and at least one data row",
+                   found="only blank text", fix="Choose the file that holds the data.", file=name)
+    sep, skip = sniff(text)
+    # read enough rows to see whether there are more than max_rows data rows: blank lines
+    # and title rows do not count as data, so allow for them (counted without a loop)
+    raw = np.frombuffer(data if encoding != "utf-16" else text.encode("utf-8"), dtype=np.uint8)
+    nl = np.flatnonzero(raw == 10)
+    starts = np.r_[0, nl + 1]
+    ends = np.r_[nl, len(raw)]
+    length = ends - starts
+    blank_lines = int((length == 0).sum() + ((length == 1) & (raw[np.minimum(starts, len(raw) - 1)] == 13)).sum())
+    nrows = settings.max_rows + 2 + MAX_TITLE_ROWS + blank_lines
+    # file line of each record (only differs from the record number when a quoted field
+    # holds a line break)
+    lines = _record_lines(raw.tobytes() if encoding == "utf-16" else data, text, sep)
+
+    def line_of(record: int) -> int:  # 0-based record number -> 1-based file line
+        if lines is not None and 0 <= record < len(lines):
+            return int(lines[record])
+        return record + 1
+
+    try:
+        # the C reader decodes bytes itself (faster than a Python text buffer)
+        buf = (io.BytesIO(data) if encoding in ("utf-8", "utf-8-sig", "cp1252")
+               else io.StringIO(text))
+        df = pd.read_csv(buf, encoding=encoding if isinstance(buf, io.BytesIO) else None,
+                         sep=sep, header=None, dtype=str, keep_default_na=False,
+                         na_filter=False, skip_blank_lines=False, skiprows=skip, nrows=nrows,
+                         engine="c", quotechar='"', skipinitialspace=False)
+    except pd.errors.EmptyDataError:
+        raise fail(IN003, "the file has no rows", expected="a header row and data rows",
+                   found="nothing to read", fix="Choose the file that holds the data.",
+                   file=name) from None
+    except (pd.errors.ParserError, ValueError, OverflowError) as e:
+        msg = str(e)
+        m = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", msg)
+        if m:
+            raise fail(IN007, "a row has more cells than the header",
+                       expected=f"{m.group(1)} cells per row (as in the header)",
+                       found=f"{m.group(3)} cells", row=line_of(int(m.group(2)) - 1),
+                       fix="Remove the extra cells or quote cells that contain the delimiter.",
+                       file=name) from None
+        raise fail(IN007, "the text cannot be read as a table", expected="delimited rows",
+                   found=clip(msg.splitlines()[0], 200) if msg else type(e).__name__,
+                   fix="Save the data as a plain CSV with one header row.", file=name) from None
+    rows = np.arange(len(df)) + 1 + skip
+    if lines is not None and len(lines) >= skip + len(df):
+        rows = lines[skip: skip + len(df)]
+    return Grid(df, np.asarray(rows), "csv", encoding, DELIMITERS[sep],
+                skipped=line_of(skip) - 1)
