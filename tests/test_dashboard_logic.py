@@ -554,6 +554,10 @@ def test_spread_band_runs_from_the_lowest_to_the_highest_real_value():
     assert [(s.x0, s.x1) for s in fig.layout.shapes] == [(0.5, 1.5)]
 
 
+# the dashboard's preview still reads workbooks with pandas.read_excel, which warns about
+# its future default engine now that python-calamine (the intake's workbook reader) is
+# installed; the preview moves to pipeline.ingest.preview with the dashboard's next change
+@pytest.mark.filterwarnings("ignore:The default engine for reading 'xlsx' files")
 def test_workbook_sheet_can_be_chosen(access: DataAccess, tmp_path: Path):
     import io
 

@@ -74,6 +74,24 @@ class Cells:
     vintage_column: str | None = None
 
 
+@dataclass
+class WideCells:
+    """A wide table kept as columns (internal): one period column shared by every series
+    column, the value cells as a 2-D array (rows x series), parsed column-wise in bulk."""
+
+    period: pd.Series  # str, one per row
+    values: np.ndarray  # object (rows x series) of str
+    row: np.ndarray  # file row of each row
+    names: list[str]
+    columns: list[str]  # header of each series column
+    period_column: str
+    headers: Mapping[str, str]
+    units: Mapping[str, str | None]
+    references: dict[str, str | None]
+    status: pd.Series | None = None  # one per row, applies to every series
+    status_column: str | None = None
+
+
 @dataclass(frozen=True)
 class Plan:
     """What each column is: the layout and the position of each role."""
@@ -125,7 +143,7 @@ def period_share(col: pd.Series, fy_start: int | None, *, years_count: bool = Tr
         return 1.0 if e.code == labels.PE106 else 0.0
     ok = parsed.keys != ""
     if not years_count:
-        ok &= parsed.kinds != labels.YEAR
+        ok &= ~np.isin(parsed.kinds, (labels.YEAR, labels.YMNUM))
     return float(ok.mean())
 
 
@@ -170,15 +188,15 @@ def recognise(t: Table, fy_start: int | None) -> Plan:
     # wide: a period column found by its name, else the first column by its content,
     # else periods across the header row (one row per series: budget tables), else any
     # other column by content (plain numbers such as 2019 do not count there: amounts)
-    if period is not None and period_share(t.cells[period], fy_start) >= 0.8:
+    if period is not None and period_share(t.col(period), fy_start) >= 0.8:
         return wide(period)
-    if period_share(t.cells[0], fy_start) >= 0.8:
+    if period_share(t.col(0), fy_start) >= 0.8:
         return wide(0)
     heads = pd.Series(t.header[1:], dtype=str)
     if len(heads) and period_share(heads, fy_start) >= 0.8:
         return Plan("wide", {"series": 0}, transposed=True)
     for i in range(1, len(t.header)):
-        if i != period and period_share(t.cells[i], fy_start, years_count=False) >= 0.8:
+        if i != period and period_share(t.col(i), fy_start, years_count=False) >= 0.8:
             return wide(i)
     raise fail(IN009, "no column of periods found",
                expected="a column of period labels (" + labels.ACCEPTED + "), or periods across the header row",
@@ -190,22 +208,22 @@ def recognise(t: Table, fy_start: int | None) -> Plan:
 def units_row(t: Table, period: int) -> tuple[Table, dict[str, str]]:
     """A second header row of units (blank period cell, text that is no number under
     the series columns, e.g. ``,USD thousands,index``) is taken as the units and removed."""
-    if len(t.cells) < 2:
+    if len(t.values) < 2:
         return t, {}
-    first = t.cells.iloc[0]
-    if first.iloc[period].strip():
+    first = t.values[0]
+    if str(first[period]).strip():
         return t, {}
-    cells = {t.header[i]: str(first.iloc[i]).strip() for i in range(len(t.header)) if i != period}
+    cells = {t.header[i]: str(first[i]).strip() for i in range(len(t.header)) if i != period}
     filled = {h: v for h, v in cells.items() if v}
     if not filled:
         return t, {}
     _, bad, _ = parse_cells(pd.Series(list(filled.values()), dtype=str), ".")
     if not bad.all():
         return t, {}
-    return t.replace(cells=t.cells.iloc[1:], rows=t.rows[1:]), filled
+    return t.replace(values=t.values[1:], rows=t.rows[1:]), filled
 
 
-def cells(t: Table, plan: Plan) -> tuple[Cells, list[Problem], Table]:
+def cells(t: Table, plan: Plan) -> tuple[Cells | WideCells, list[Problem], Table]:
     """The long table of value cells for ``plan``, problems met on the way, and the table
     without a units row (when there was one)."""
     if plan.layout == "sdmx":
@@ -223,11 +241,15 @@ def cells(t: Table, plan: Plan) -> tuple[Cells, list[Problem], Table]:
     if plan.transposed:
         return _transposed(t), [], t
     t, row_units = units_row(t, plan.roles["period"])
-    return (*_wide(t, plan.roles, row_units), t)
+    if "vintage" in plan.roles:  # one series per name and vintage: the long path
+        return (*_wide(t, plan.roles, row_units), t)
+    return (*_wide_columns(t, plan.roles, row_units), t)
 
 
-def _wide(t: Table, roles: Mapping[str, int],
-          row_units: Mapping[str, str] | None = None) -> tuple[Cells, list[Problem]]:
+def _value_columns(t: Table, roles: Mapping[str, int],
+                   row_units: Mapping[str, str] | None) -> tuple[list[int], list[str], dict, dict, dict, list[Problem]]:
+    """Series columns of a wide table: positions, series names, headers, units and
+    reference periods (and IN025 for columns of notes)."""
     name = t.file
     problems: list[Problem] = []
     p = roles["period"]
@@ -243,7 +265,7 @@ def _wide(t: Table, roles: Mapping[str, int],
     if not value_cols:
         raise fail(IN018, "the file has a period column but no series columns",
                    expected="one column of values per series next to the period column",
-                   found="only " + ", ".join(repr(clip(h)) for h in t.header),
+                   found="only " + ", ".join(repr(clip(h)) for h in t.header[:10]),
                    fix="Add the value columns, one per series.", file=name, sheet=t.sheet)
     split = {t.header[i]: split_header(t.header[i]) for i in value_cols}
     short = [split[t.header[i]][0] for i in value_cols]
@@ -252,10 +274,39 @@ def _wide(t: Table, roles: Mapping[str, int],
     if len(value_cols) == 1 and norm(names[0]) in VALUE_NAMES:
         # 'date,value' files: the file name is the better series name
         names = [Path(name).stem or names[0]]
-    n = len(t.cells)
+    headers = dict(zip(names, (t.header[i] for i in value_cols), strict=True))
+    row_units = row_units or {}
+    units = {nm: row_units.get(t.header[i]) or split[t.header[i]][1]
+             for nm, i in zip(names, value_cols, strict=True)}
+    references: dict[str, str | None] = {}
+    for nm, i in zip(names, value_cols, strict=True):
+        ref = REFERENCE.search(row_units.get(t.header[i], ""))
+        references[nm] = ref.group("ref").strip() if ref else split[t.header[i]][2]
+    return value_cols, names, headers, units, references, problems
+
+
+def _wide_columns(t: Table, roles: Mapping[str, int],
+                  row_units: Mapping[str, str] | None = None) -> tuple[WideCells, list[Problem]]:
+    value_cols, names, headers, units, references, problems = _value_columns(t, roles, row_units)
+    p = roles["period"]
+    vals = t.values[:, value_cols] if value_cols != list(range(p + 1, t.values.shape[1])) \
+        else t.values[:, p + 1:]
+    w = WideCells(t.col(p), vals, t.rows, names,
+                  [t.header[i] for i in value_cols], t.header[p], headers, units, references)
+    if "status" in roles:
+        w.status = t.col(roles["status"])
+        w.status_column = t.header[roles["status"]]
+    return w, problems
+
+
+def _wide(t: Table, roles: Mapping[str, int],
+          row_units: Mapping[str, str] | None = None) -> tuple[Cells, list[Problem]]:
+    value_cols, names, headers, units, references, problems = _value_columns(t, roles, row_units)
+    p = roles["period"]
+    n = len(t.values)
     k = len(value_cols)
-    vals = t.cells[value_cols].to_numpy(dtype=object).reshape(-1)  # row-major
-    period = np.repeat(t.cells[p].to_numpy(dtype=object), k)
+    vals = t.values[:, value_cols].reshape(-1)  # row-major
+    period = np.repeat(t.values[:, p], k)
     rows = np.repeat(t.rows, k)
     columns = np.tile(np.array([t.header[i] for i in value_cols], dtype=object), n)
     series = np.tile(np.array(names, dtype=object), n)
@@ -263,31 +314,25 @@ def _wide(t: Table, roles: Mapping[str, int],
                  pd.Series(vals, dtype=str), rows, columns,
                  np.full(len(vals), t.header[p], dtype=object))
     if "status" in roles:
-        long.status = pd.Series(np.repeat(t.cells[roles["status"]].to_numpy(dtype=object), k), dtype=str)
+        long.status = pd.Series(np.repeat(t.values[:, roles["status"]], k), dtype=object)
         long.status_column = t.header[roles["status"]]
     if "vintage" in roles:
-        long.vintage = pd.Series(np.repeat(t.cells[roles["vintage"]].to_numpy(dtype=object), k),
-                                 dtype=str)
+        long.vintage = pd.Series(np.repeat(t.values[:, roles["vintage"]], k), dtype=object)
         long.vintage_column = t.header[roles["vintage"]]
-    long.headers = dict(zip(names, (t.header[i] for i in value_cols), strict=True))
-    row_units = row_units or {}
-    long.units = {nm: row_units.get(t.header[i]) or split[t.header[i]][1]
-                  for nm, i in zip(names, value_cols, strict=True)}
-    long.references = {}
-    for nm, i in zip(names, value_cols, strict=True):
-        ref = REFERENCE.search(row_units.get(t.header[i], ""))
-        long.references[nm] = ref.group("ref").strip() if ref else split[t.header[i]][2]
+    long.headers = headers
+    long.units = units
+    long.references = references
     return long, problems
 
 
 def _transposed(t: Table) -> Cells:
     """Periods across the header row; first column names the series."""
     heads = t.header[1:]
-    names = t.cells[0].str.strip()
+    names = t.col(0).str.strip()
     if not len(heads):
         raise fail(IN018, "no period columns", file=t.file)
     k = len(heads)
-    vals = t.cells[list(range(1, k + 1))].to_numpy(dtype=object).reshape(-1)
+    vals = t.values[:, 1: k + 1].reshape(-1)
     split = {nm: split_header(nm) for nm in names}
     short = [split[nm][0] for nm in names]
     use_short = len({s.casefold() for s in short}) == len(short)
@@ -304,8 +349,8 @@ def _transposed(t: Table) -> Cells:
 
 
 def _long(t: Table, roles: Mapping[str, int]) -> Cells:
-    c = t.cells
-    n = len(c)
+    c = {i: t.col(i) for i in range(t.values.shape[1])}
+    n = len(t.values)
     long = Cells(ustrip(c[roles["series"]]), c[roles["period"]], c[roles["value"]], t.rows,
                  np.full(n, t.header[roles["value"]], dtype=object),
                  np.full(n, t.header[roles["period"]], dtype=object))
@@ -326,15 +371,15 @@ def _sdmx(t: Table, roles: Mapping[str, int]) -> Cells:
     p = roles["period"]
     dims = [i for i in range(len(upper)) if i < p and upper[i] not in SDMX_STRUCT
             and upper[i] not in SDMX_ATTRS]
-    c = t.cells
-    n = len(c)
+    c = {i: t.col(i) for i in range(t.values.shape[1])}
+    n = len(t.values)
     if dims:
         codes = [c[i].str.split(":", n=1).str[0].str.strip() for i in dims]
         key = codes[0]
         for part in codes[1:]:
             key = key + "." + part
     else:
-        key = pd.Series(["series"] * n, dtype=str, index=c.index)
+        key = pd.Series(["series"] * n, dtype=object)
     long = Cells(key, c[p], c[roles["value"]], t.rows,
                  np.full(n, t.header[roles["value"]], dtype=object),
                  np.full(n, t.header[p], dtype=object))
@@ -356,3 +401,48 @@ def _sdmx(t: Table, roles: Mapping[str, int]) -> Cells:
         refs = dict(zip(first["k"], first["b"], strict=True))
     long.references = refs
     return long
+
+
+_YEAR_NAMES = frozenset({"year", "yr", "years"})
+_QUARTER_NAMES = frozenset({"quarter", "qtr", "q", "quarters"})
+_MONTH_NAMES = frozenset({"month", "mon", "m", "months"})
+
+
+def combine_period_columns(t: Table) -> tuple[Table, str | None]:
+    """Separate year and quarter (or year and month) columns become one period column
+    in place of the year column (``1959`` and ``1`` -> ``1959Q1``; ``2024`` and ``3`` or
+    ``Mar`` -> ``2024-03``). Both must be named so and hold years and quarters 1-4
+    (``Q1``) or months 1-12 (month names) in at least 80% of the filled cells."""
+    normed = [norm(h) for h in t.header]
+    year = next((i for i, h in enumerate(normed) if h in _YEAR_NAMES), None)
+    if year is None:
+        return t, None
+    for names, what, top in ((_QUARTER_NAMES, "quarters", 4), (_MONTH_NAMES, "months", 12)):
+        sub = next((i for i, h in enumerate(normed) if h in names), None)
+        if sub is None:
+            continue
+        y = t.col(year).str.strip().str.replace(r"\.0+$", "", regex=True)
+        s = t.col(sub).str.strip().str.upper().str.replace(r"\.0+$", "", regex=True)
+        s = s.str.replace(r"^Q(?=[1-4]$)", "", regex=True)
+        if top == 12:
+            month = s.str[:3].map(labels._MONTHS)
+            s = s.where(month.isna(), month.astype("Int64").astype(str))
+        filled = (y != "") | (s != "")
+        num = pd.to_numeric(s, errors="coerce")
+        ok = y.str.fullmatch(r"[12]\d{3}") & num.between(1, top) & (num % 1 == 0)
+        if not filled.any() or ok[filled].mean() < 0.8:
+            continue
+        n = num.where(ok).astype("Int64").astype(str)
+        label = (y + "Q" + n) if top == 4 else (y + "-" + n.str.zfill(2))
+        label = label.where(ok, (t.col(year).str.strip() + " " + t.col(sub).str.strip())
+                            .str.strip())
+        keep = [c for c in range(len(t.header)) if c != sub]
+        cells = t.values[:, keep].copy()
+        cells[:, keep.index(year)] = label.to_numpy(dtype=object)
+        header = tuple(h for c, h in enumerate(t.header) if c != sub)
+        joined = "period" if "period" not in normed else f"{t.header[year]} {t.header[sub]}"
+        header = tuple((joined if c == year else h) for c, h in zip(keep, header, strict=True))
+        note = (f"Columns {clip(t.header[year])!r} and {clip(t.header[sub])!r} combined into "
+                f"{what} (e.g. {label.iloc[0]!r}).")
+        return t.replace(header=header, values=cells), note
+    return t, None

@@ -11,7 +11,7 @@ import pandas as pd
 
 from .. import labels
 from .codes import IN010
-from .layout import Cells, Plan
+from .layout import Cells, Plan, WideCells
 from .problems import Problems, cell_problems
 from .table import Table
 
@@ -30,7 +30,7 @@ def check_shared_column(t: Table, plan: Plan, fy_start: int | None) -> None:
     if plan.layout != "wide" or plan.transposed:
         return
     p = plan.roles["period"]
-    labels.parse_label_column(t.cells[p], fy_start, file=t.file, column=t.header[p], rows=t.rows)
+    labels.parse_label_column(t.col(p), fy_start, file=t.file, column=t.header[p], rows=t.rows)
 
 
 def read(cells: Cells, text: pd.Series, series: np.ndarray, fy_start: int | None,
@@ -48,3 +48,19 @@ def read(cells: Cells, text: pd.Series, series: np.ndarray, fy_start: int | None
                   fix="Write the period in an accepted form, e.g. 2024-01, 2024Q1, FY2025.",
                   file=file, sheet=sheet, per_row=cells.headers is not None)
     return Periods(text, parsed), keep & ~bad
+
+
+def read_column(w: WideCells, text: pd.Series, fy_start: int | None, all_missing: np.ndarray,
+                sink: Problems, *, file: str, sheet: str | None) -> tuple[Periods, np.ndarray]:
+    """The period column of a wide table: (periods, rows whose period parsed). A row whose
+    period is no label gets one IN010 (a blank period on a row without values is nothing)."""
+    parsed = labels.parse_values(text, fy_start,
+                                 where={"file": file, "sheet": sheet, "column": w.period_column})
+    ok = parsed.keys != ""
+    empty = (text == "").to_numpy() & all_missing
+    cell_problems(sink, IN010, "the period is not a period label", ~ok & ~empty, rows=w.row,
+                  columns=w.period_column, series=None, found=text.to_numpy(dtype=object),
+                  expected=labels.ACCEPTED,
+                  fix="Write the period in an accepted form, e.g. 2024-01, 2024Q1, FY2025.",
+                  file=file, sheet=sheet, per_row=True)
+    return Periods(text, parsed), ok

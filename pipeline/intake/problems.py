@@ -84,7 +84,7 @@ def cell_problems(sink: Problems, code: str, message: str, mask: np.ndarray, *,
                   rows: np.ndarray, columns: np.ndarray | str | None,
                   series: np.ndarray | None, found: np.ndarray, expected: str, fix: str,
                   file: str, sheet: str | None, periods: np.ndarray | None = None,
-                  severity: str = "error", per_row: bool = False) -> int:
+                  severity: str = "error", per_row: bool = False, remedy_key: str = "") -> int:
     """Add one problem per cell in ``mask`` (or per file row with ``per_row``), building
     at most the room left for ``code``; returns how many there were in all.
 
@@ -106,7 +106,22 @@ def cell_problems(sink: Problems, code: str, message: str, mask: np.ndarray, *,
                          series=None if per_row or series is None else (clip(series[p]) or None),
                          period=None if periods is None else (str(periods[p]) or None))
         sink.add(Problem(code, message, expected, echo(found[p]), fix, where,
-                         severity))  # type: ignore[arg-type]
+                         severity, remedy_key))  # type: ignore[arg-type]
     sink.counted(code, total - len(build))
     return total
+
+
+def grid_problems(sink: Problems, code: str, message: str, mask: np.ndarray, *,
+                  rows: np.ndarray, columns: list[str], series: list[str], found: np.ndarray,
+                  periods: np.ndarray | None = None, **kw: object) -> int:
+    """:func:`cell_problems` for a (rows x columns) ``mask`` over a wide table, in file
+    order; the per-cell arrays are built only for the cells in the mask."""
+    r, c = np.nonzero(mask)
+    if not len(r):
+        return 0
+    return cell_problems(sink, code, message, np.ones(len(r), dtype=bool), rows=rows[r],
+                         columns=np.asarray(columns, dtype=object)[c],
+                         series=np.asarray(series, dtype=object)[c], found=found[r, c],
+                         periods=None if periods is None else periods[r],
+                         **kw)  # type: ignore[arg-type]
 

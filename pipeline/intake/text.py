@@ -160,7 +160,7 @@ def read(src: Source, settings: Settings) -> Grid:
         buf = (io.BytesIO(data) if encoding in ("utf-8", "utf-8-sig", "cp1252")
                else io.StringIO(text))
         df = pd.read_csv(buf, encoding=encoding if isinstance(buf, io.BytesIO) else None,
-                         sep=sep, header=None, dtype=str, keep_default_na=False,
+                         sep=sep, header=None, dtype=object, keep_default_na=False,
                          na_filter=False, skip_blank_lines=False, skiprows=skip, nrows=nrows,
                          engine="c", quotechar='"', skipinitialspace=False)
     except pd.errors.EmptyDataError:
@@ -182,5 +182,5 @@ def read(src: Source, settings: Settings) -> Grid:
     rows = np.arange(len(df)) + 1 + skip
     if lines is not None and len(lines) >= skip + len(df):
         rows = lines[skip: skip + len(df)]
-    return Grid(df, np.asarray(rows), "csv", encoding, DELIMITERS[sep],
+    return Grid(df.to_numpy(dtype=object), np.asarray(rows), "csv", encoding, DELIMITERS[sep],
                 skipped=line_of(skip) - 1)

@@ -8,17 +8,18 @@ other cells go through the text clean-up."""
 from __future__ import annotations
 
 import re
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
-from .codes import IN011, IN016, IN023
+from .codes import IN011, IN016, IN023, IN030
 from .problems import Problems, cell_problems
 
 if TYPE_CHECKING:
-    from .layout import Cells
+    from .layout import Cells, WideCells
 
 MISSING = frozenset({"", "n/a", "na", "nan", "-", "--", "—", "–", "..", "...", "…", "null",
                      "none", "#n/a", "n.a.", "n.a"})
@@ -31,6 +32,12 @@ STATUS_WORDS = {
     "projected": "projected", "projection": "projected", "forecast": "projected",
     "proj": "projected", "budget": "projected",
 }
+# Status markers printed beside values (common practice in agencies' tables): p
+# preliminary, e estimated (preliminary), f forecast (projected), r revised (final).
+DEFAULT_MARKERS = {"p": "preliminary", "e": "preliminary", "f": "projected", "r": "final"}
+# a number with one letter glued to it or after it: 312.5p, 312.5 p, 312.5(p), 312.5 (p)
+_MARKED = re.compile(r"^(?P<num>.*?[\d)])\s*(?:\((?P<m1>[A-Za-z])\)|(?P<m2>[A-Za-z]))$")
+
 # SDMX observation status (SDMX Content-Oriented Guidelines, code list CL_OBS_STATUS,
 # from memory): P = provisional -> preliminary, F = forecast -> projected; every other
 # code (A normal, B break, E estimated, ...) says nothing about revision -> final.
@@ -73,15 +80,21 @@ def parse_numbers(values: pd.Series, decimal: str = ".") -> tuple[np.ndarray, np
     return out, bad
 
 
-def parse_cells(values: pd.Series, decimal: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def parse_cells(values: pd.Series, decimal: str,
+                markers: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(values, not-a-number mask, missing mask). Plain numbers take the C fast path
-    (``pandas.to_numeric``); only the other cells go through the text clean-up."""
+    (``pandas.to_numeric``); only the other cells go through the text clean-up. With
+    ``markers`` (an object array of '' as long as ``values``) a status letter after a
+    number is taken off and written there (lower case)."""
     values = values.astype(str)
     n = len(values)
     out = np.full(n, np.nan)
     rest = np.ones(n, dtype=bool)
     if decimal == ".":
-        fast = pd.to_numeric(values, errors="coerce").to_numpy(dtype=float)
+        try:  # every cell a plain number (the usual wide file): one C-level conversion
+            fast = values.to_numpy(dtype=object).astype(np.float64)
+        except (ValueError, TypeError):
+            fast = pd.to_numeric(values, errors="coerce").to_numpy(dtype=float)
         done = ~np.isnan(fast)
         out[done] = fast[done]
         rest = ~done
@@ -92,6 +105,14 @@ def parse_cells(values: pd.Series, decimal: str) -> tuple[np.ndarray, np.ndarray
     t = t[~missing[rest]]
     if need.any():
         x = t
+        if markers is not None:
+            got = x.str.extract(_MARKED)
+            hit = got["num"].notna().to_numpy()
+            if hit.any():
+                letter = got["m1"].fillna(got["m2"]).str.lower()
+                x = x.where(~hit, got["num"])
+                where = np.flatnonzero(need)[hit]
+                markers[where] = letter.to_numpy(dtype=object)[hit]
         neg = x.str.fullmatch(r"\(.*\)").to_numpy(dtype=bool)
         x = x.str.replace(r"^\((.*)\)$", r"\1", regex=True).str.strip()
         # sign may sit before or after a currency symbol: -$1,234 or $-1,234
@@ -157,16 +178,56 @@ class Values:
     numbers: np.ndarray
     bad: np.ndarray
     missing: np.ndarray
+    markers: np.ndarray  # status letter after the number ('' for none), lower case
+    unknown: np.ndarray  # cells whose marker has no known meaning (IN030, not IN011)
 
 
 def read(cells: Cells, decimal: str) -> Values:
-    numbers, bad, missing = parse_cells(cells.value, decimal)
-    return Values(cells.value, numbers, bad, missing)
+    markers = np.full(len(cells.value), "", dtype=object)
+    numbers, bad, missing = parse_cells(cells.value, decimal, markers)
+    return Values(cells.value, numbers, bad, missing, markers, np.zeros(len(bad), dtype=bool))
+
+
+MARKER_EXPECTED = "a number, or a number with a marker whose meaning is known: "
+MARKER_FIX = ("Say what the marker means (final, preliminary or projected), or remove it from "
+              "the cell.")
+
+
+def marker_statuses(v: Values, keep: np.ndarray,
+                    meaning: Mapping[str, str]) -> tuple[np.ndarray | None, dict[str, int], np.ndarray]:
+    """Status from the marker letter of each value ('' where none; None when no value has
+    one), the count of cells per marker, and the cells whose letter has no meaning (left
+    out, for IN030; marked in ``v.unknown`` and ``v.bad``)."""
+    has = (v.markers != "") & keep & ~v.bad
+    unknown = np.zeros(len(v.markers), dtype=bool)
+    if not has.any():
+        return None, {}, unknown
+    letters = v.markers[has]
+    u, n = np.unique(letters.astype(str), return_counts=True)
+    counts = {str(a): int(b) for a, b in zip(u, n, strict=True)}
+    status = np.full(len(v.markers), "", dtype=object)
+    mapped = pd.Series(v.markers, dtype=object).map(dict(meaning)).to_numpy(dtype=object)
+    unknown = has & pd.isna(mapped)
+    status[has & ~unknown] = mapped[has & ~unknown]
+    v.unknown[unknown] = True
+    v.bad[unknown] = True
+    v.numbers[unknown] = np.nan
+    return status, counts, unknown
+
+
+def report_markers(v: Values, cells: Cells, series: np.ndarray, unknown: np.ndarray,
+                   meaning: Mapping[str, str], sink: Problems, *, file: str,
+                   sheet: str | None) -> None:
+    cell_problems(sink, IN030, "the value carries a status marker of no known meaning", unknown,
+                  rows=cells.row, columns=cells.column, series=series,
+                  found=v.text.to_numpy(dtype=object),
+                  expected=MARKER_EXPECTED + ", ".join(f"{k} ({s})" for k, s in sorted(meaning.items())),
+                  fix=MARKER_FIX, file=file, sheet=sheet)
 
 
 def report_bad(v: Values, cells: Cells, series: np.ndarray, keep: np.ndarray, sink: Problems,
                *, file: str, sheet: str | None) -> None:
-    cell_problems(sink, IN011, "the cell is not a number", v.bad & keep, rows=cells.row,
+    cell_problems(sink, IN011, "the cell is not a number", v.bad & keep & ~v.unknown, rows=cells.row,
                   columns=cells.column, series=series, found=v.text.to_numpy(dtype=object),
                   expected="a number such as 1234.5, 1,234.5, (1,234) or $1,234; "
                            "blank, n/a or - for missing",
@@ -202,3 +263,18 @@ def vintages(cells: Cells, series: np.ndarray, keep: np.ndarray, sink: Problems,
                   expected="an ISO date such as 2025-03-15 (the date the values were as of)",
                   fix="Write the as-of date as YYYY-MM-DD.", file=file, sheet=sheet)
     return vintage
+
+
+def read_wide(w: WideCells, decimal: str) -> Values:
+    """Values of a wide table's cells, parsed in one bulk pass (row-major order)."""
+    flat = pd.Series(w.values.reshape(-1), dtype=object, copy=False)
+    markers = np.full(len(flat), "", dtype=object)
+    numbers, bad, missing = parse_cells(flat, decimal, markers)
+    return Values(flat, numbers, bad, missing, markers, np.zeros(len(bad), dtype=bool))
+
+
+def wide_sample(w: WideCells, limit: int = 20_000) -> pd.Series:
+    """An evenly spaced sample of a wide table's cells (for the decimal mark)."""
+    flat = w.values.reshape(-1)
+    step = max(1, len(flat) // limit)
+    return pd.Series(flat[::step], dtype=object).astype(str)
