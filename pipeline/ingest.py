@@ -31,17 +31,17 @@ from . import labels
 from .errors import Location, Problem, RealbasisError, fail
 from .intake import layout, periods, series, source, table, text, values, workbook
 from .intake import note as note_words
-from .intake.codes import IN008, IN011, IN016, IN021, IN030, IN033, IN039
+from .intake.codes import IN007, IN008, IN011, IN016, IN021, IN030, IN033, IN039
 from .intake.layout import Layout
 from .intake.note import Note
-from .intake.problems import Problems, cell_problems, grid_problems
+from .intake.problems import Problems, cell_problems, clip, grid_problems
 from .intake.table import Table
 from .intake.values import detect_decimal, parse_numbers
 from .model import KINDS, STATUSES, Kind, Series
 from .settings import Settings, load_settings
 
 FORMATS = ("CSV (comma, semicolon or tab; UTF-8, UTF-8 with BOM, UTF-16 with BOM, cp1252)",
-           "XLSX (choose the sheet)", "SDMX-CSV (TIME_PERIOD, OBS_VALUE)")
+           "XLSX, XLS, ODS workbooks (choose the sheet)", "SDMX-CSV (TIME_PERIOD, OBS_VALUE)")
 
 
 @dataclass(frozen=True)
@@ -143,6 +143,46 @@ def _load(src: str | Path | bytes, filename: str | None, settings: Settings) -> 
     return source.load(src, filename, settings)
 
 
+def preview(source_: str | Path | bytes, filename: str | None = None, rows: int = 8, *,
+            sheet: str | None = None,
+            settings: Settings | None = None) -> tuple[list[str], list[dict[str, str]]]:
+    """The first ``rows`` rows of a file as written, before any interpretation (titles and
+    notes included): ``(columns, rows)`` with columns ``column 1`` ... and each row a dict
+    of text cells (each at most 200 characters). Text files are decoded and split as
+    :func:`read_file` would; a workbook shows the sheet intake would read (or ``sheet``).
+    Raises only :class:`RealbasisError` (coded), whatever the bytes."""
+    settings = settings or load_settings()
+    try:
+        src = source.load(source_, filename, settings)
+        if src.format == "csv":
+            if sheet is not None:
+                raise fail(IN008, "a sheet was named but the file is not a workbook",
+                           expected="a workbook (.xlsx, .xls, .ods) when a sheet is named",
+                           found="a text file", fix="Leave out the sheet name for CSV files.",
+                           file=src.name)
+            decoded, _ = text.decode(src.data, src.name)
+            sep, _ = text.sniff(decoded)
+            records = text.first_records(decoded, sep, rows)
+        else:
+            grid = workbook.read(src, sheet, settings)
+            records = [list(r) for r in grid.values[:rows].tolist()]
+    except RealbasisError:
+        raise
+    except MemoryError:
+        raise fail(IN039, "there is not enough memory to show the file",
+                   expected="a file that fits in memory", found="reading ran out of memory",
+                   fix="Split the file into smaller ones.", file=filename) from None
+    except Exception as e:  # the last guard: a preview never fails with a traceback
+        raise fail(IN007, "the file cannot be shown as rows", expected="a CSV file or a workbook",
+                   found=f"{type(e).__name__}: {clip(e, 150)}",
+                   fix="Save the data as a plain CSV with one header row.", file=filename) from None
+    width = min(max((len(r) for r in records), default=0), 200)
+    columns = [f"column {i + 1}" for i in range(width)]
+    out = [{c: clip(v, 200) for c, v in zip(columns, [*r, *[""] * (width - len(r))], strict=False)}
+           for r in records]
+    return columns, out
+
+
 def _check_kinds(kinds: Mapping[str, Kind] | None) -> None:
     wrong = {k: v for k, v in (kinds or {}).items() if v not in KINDS}
     if wrong:
@@ -214,6 +254,8 @@ def _read_file(source_: str | Path | bytes, filename: str | None, sheet: str | N
     periods.check_shared_column(tbl, plan, fy_start)
     cells, more, tbl = layout.cells(tbl, plan)
     sink.extend(more)
+    if tbl.unit:
+        layout.default_unit(cells, tbl.unit)
     # the meaning of status letters: defaults, then the file's legend, then the caller's
     meaning = {**values.DEFAULT_MARKERS, **dict(tbl.legend), **markers}
     opts = series.Options(kinds, default_kind, daily)
@@ -307,5 +349,5 @@ def _wide(w: layout.WideCells, tbl: Table, fy_start: int | None, meaning: Mappin
     return found, decimal, facts, counts
 
 
-__all__ = ["FORMATS", "Intake", "Table", "detect_decimal", "list_sheets", "parse_numbers", "read_file",
-           "read_table"]
+__all__ = ["FORMATS", "Intake", "Table", "detect_decimal", "list_sheets", "parse_numbers", "preview",
+           "read_file", "read_table"]

@@ -201,7 +201,9 @@ def recognise(t: Table, fy_start: int | None) -> Plan:
     raise fail(IN009, "no column of periods found",
                expected="a column of period labels (" + labels.ACCEPTED + "), or periods across the header row",
                found="columns " + ", ".join(repr(clip(h)) for h in t.header[:8]) + (" ..." if len(t.header) > 8 else ""),
-               fix="Add a period column (e.g. 'period' with 2024-01, 2024Q1 or FY2025).",
+               fix="Add a period column (e.g. 'period' with 2024-01, 2024Q1 or FY2025)"
+                   + (", or choose the sheet that holds the table." if t.sheet else "."),
+               remedy="sheet" if t.sheet and len(t.sheets) > 1 else "",
                file=name, sheet=t.sheet)
 
 
@@ -406,6 +408,27 @@ def _sdmx(t: Table, roles: Mapping[str, int]) -> Cells:
 _YEAR_NAMES = frozenset({"year", "yr", "years"})
 _QUARTER_NAMES = frozenset({"quarter", "qtr", "q", "quarters"})
 _MONTH_NAMES = frozenset({"month", "mon", "m", "months"})
+
+
+def default_unit(cells: Cells | WideCells, unit: str) -> None:
+    """Give ``unit`` (a title line's) to every series that has none."""
+    ref = REFERENCE.search(unit)
+    reference = ref.group("ref").strip() if ref else None
+    if isinstance(cells, WideCells):
+        names = cells.names
+    else:
+        if cells.unit is not None:
+            cells.unit = cells.unit.where(cells.unit != "", unit)
+            return
+        names = list(pd.unique(cells.series.to_numpy(dtype=object)))
+    units = dict(cells.units or {})
+    refs = dict(cells.references or {})
+    for nm in names:
+        if not units.get(nm):
+            units[nm] = unit
+            if refs.get(nm) is None:
+                refs[nm] = reference
+    cells.units, cells.references = units, refs
 
 
 def combine_period_columns(t: Table) -> tuple[Table, str | None]:

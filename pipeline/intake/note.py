@@ -14,8 +14,8 @@ from collections.abc import Mapping, Sequence
 class Note:
     """Lines of the reading note, in the order the stages add them."""
 
-    def __init__(self, lines: Sequence[str] = ()) -> None:
-        self.lines: list[str] = list(lines)
+    def __init__(self, lines: Sequence[str | None] = ()) -> None:
+        self.lines: list[str] = [line for line in lines if line]
 
     def add(self, line: str | None) -> None:
         if line:

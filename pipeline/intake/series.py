@@ -243,7 +243,9 @@ def assemble(cells: Cells, per: Periods, series_text: pd.Series, vals: Values,
         distinct = ~frame.duplicated(["g", "o", "d"], keep="first").to_numpy()
         fine = frame.duplicated(["g", "o"], keep="first").to_numpy() & distinct
         if fine.any():
-            i_fine = frame["i"].to_numpy()[same_month & (frame["d"].to_numpy() % 32 > 0)]
+            first_fine = frame.loc[fine, ["g", "o"]].iloc[0]
+            in_month = ((frame["g"] == first_fine["g"]) & (frame["o"] == first_fine["o"])).to_numpy()
+            i_fine = frame["i"].to_numpy()[in_month]
             if not opts.daily:
                 _refuse_daily(per.text.to_numpy(dtype=object)[sel[i_fine[:3]]],
                               cells.row[sel[i_fine[:1]]], len(frame), name, sheet,
@@ -397,7 +399,8 @@ def assemble_wide(w: WideCells, per: Periods, numbers: np.ndarray, missing: np.n
     daily = bool(fine.any())
     if daily:
         if not opts.daily:
-            pos = sel[order[np.flatnonzero(fine)[:3]]]
+            f0 = int(np.flatnonzero(fine)[0])  # the second date of a month
+            pos = sel[order[f0 - 1: f0 + 2]]
             _refuse_daily(per.text.to_numpy(dtype=object)[pos], w.row[pos], len(sel), name,
                           sheet, w.period_column)
         facts.daily_rows = len(sel)

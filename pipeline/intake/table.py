@@ -89,6 +89,7 @@ class Table:
     notes: tuple[str, ...] = ()
     legend: tuple[tuple[str, str], ...] = ()  # (marker letter, status) read from notes
     header_row: int = 1
+    unit: str | None = None  # a title line that is a unit ('Index 2020=100', 'USD millions')
 
     def replace(self, **changes: object) -> Table:
         return dataclasses.replace(self, **changes)  # type: ignore[arg-type]
@@ -218,6 +219,13 @@ def find_table(g: Grid, name: str, settings: Settings) -> Table:
                                 + "; ".join(repr(clip(t, 40)) for t in footnotes[:2]),
                                 "Nothing to do if those lines are notes.",
                                 Location(file=name, sheet=g.sheet, row=foot_rows[0]), "warning"))
+    from .kinds import unit_says  # the kind rules say what a unit is
+
+    title_unit = next((t.strip() for t in titles if len(t.strip()) <= 40 and unit_says(t.strip())),
+                      None)
+    if title_unit:
+        notes.append(f"The title line {title_unit!r} is taken as the unit of every series "
+                     "without one.")
     marker_legend = legend(titles + footnotes)
     if marker_legend:
         notes.append("Marker legend found in the notes: " + ", ".join(
@@ -267,4 +275,5 @@ def find_table(g: Grid, name: str, settings: Settings) -> Table:
                                 Location(file=name, sheet=g.sheet, row=1), "warning"))
     notes.append(f"Header on row {header_row}: {len(header)} column(s), {len(df):,} data row(s).")
     return Table(tuple(header), df, np.asarray(rows), g.format, g.encoding, g.delimiter, g.sheet,
-                 g.sheets, skipped, name, tuple(problems), tuple(notes), marker_legend, header_row)
+                 g.sheets, skipped, name, tuple(problems), tuple(notes), marker_legend, header_row,
+                 title_unit)

@@ -15,14 +15,69 @@ import re
 import numpy as np
 import pandas as pd
 
-from ..errors import fail
+from ..errors import Location, Problem, fail
 from ..settings import Settings
-from .codes import IN003, IN004, IN007
+from .codes import IN003, IN004, IN007, IN037
 from .problems import clip
 from .source import Source
 from .table import MAX_TITLE_ROWS, Grid
 
 DELIMITERS = {"\t": "tab", ";": "semicolon", ",": "comma"}
+
+# Windows-1252 characters of the 0x80-0x9F range that real text rarely holds; text in
+# another encoding read as Windows-1252 is full of them (Shift_JIS lead bytes 0x82/0x83
+# become '‚' and 'ƒ')
+_ODD_1252 = frozenset("‚ƒ„†‡ˆ‰Š‹ŒŽ›œžŸ˜š¤¦¨¯´¸")
+_RUN = re.compile(r"[^\x00-\x7f\W\d_]{3,}")  # three or more non-ASCII letters in a row
+# encodings a doubtful Windows-1252 text may really be in, with the script they write
+_CANDIDATES = (("shift_jis", ("CJK", "HIRAGANA", "KATAKANA")), ("euc_jp", ("CJK", "HIRAGANA", "KATAKANA")),
+               ("gb18030", ("CJK",)), ("big5", ("CJK",)), ("euc_kr", ("HANGUL",)),
+               ("koi8_r", ("CYRILLIC",)), ("cp1251", ("CYRILLIC",)), ("iso8859_7", ("GREEK",)),
+               ("cp1256", ("ARABIC",)), ("cp1255", ("HEBREW",)))
+
+
+def doubtful_1252(text: str) -> bool:
+    """True when text decoded as Windows-1252 looks like another encoding read wrongly:
+    many of its non-ASCII characters are rare punctuation or letters in runs of three or
+    more (Western words hold one or two accented letters among plain ones)."""
+    sample = text[:65536]
+    non_ascii = [c for c in sample if ord(c) > 127]
+    if len(non_ascii) < 4:
+        return False
+    odd = sum(1 for c in non_ascii if c in _ODD_1252)
+    runs = sum(len(m.group(0)) for m in _RUN.finditer(sample))
+    return (odd + runs) / len(non_ascii) > 0.4
+
+
+def _natural_case(text: str) -> float:
+    """Share of words written lower case, Capitalised or UPPER case (not mIxEd)."""
+    words = re.findall(r"[^\W\d_]{2,}", text)
+    if not words:
+        return 0.0
+    ok = sum(1 for w in words if w.islower() or w.isupper() or (w[0].isupper() and w[1:].islower()))
+    return ok / len(words)
+
+
+def guess_encoding(data: bytes) -> str | None:
+    """The encoding that turns the bytes into text of one script (and natural letter case),
+    or None."""
+    import unicodedata
+
+    sample = data[:65536]
+    best, score = None, 0.0
+    for enc, scripts in _CANDIDATES:
+        try:
+            t = sample.decode(enc)
+        except UnicodeDecodeError:
+            continue
+        wide = [c for c in t if ord(c) > 127]
+        if len(wide) < 2:
+            continue
+        share = sum(1 for c in wide if unicodedata.name(c, "").startswith(scripts)) / len(wide)
+        value = share + 0.5 * _natural_case(t)
+        if share >= 0.9 and value > score:
+            best, score = enc, value
+    return best
 
 
 def decode(data: bytes, name: str) -> tuple[str, str]:
@@ -182,5 +237,43 @@ def read(src: Source, settings: Settings) -> Grid:
     rows = np.arange(len(df)) + 1 + skip
     if lines is not None and len(lines) >= skip + len(df):
         rows = lines[skip: skip + len(df)]
+    warnings: tuple[Problem, ...] = ()
+    notes: tuple[str, ...] = ()
+    if encoding == "cp1252" and doubtful_1252(text):
+        other = guess_encoding(data)
+        said = f"; it may be {other}" if other else ""
+        warnings = (Problem(IN037, "the text was read as Windows-1252 but looks garbled" + said,
+                            "UTF-8 text, or Windows-1252 text in a Western language",
+                            "characters such as " + repr(clip(_odd_sample(text), 30))
+                            + (f" (read as {other} they are one script)" if other else ""),
+                            "Save the file as 'CSV UTF-8' and read it again.",
+                            Location(file=name), "warning"),)
+        notes = ("The text does not look like Windows-1252" + said + " (IN037).",)
     return Grid(df.to_numpy(dtype=object), np.asarray(rows), "csv", encoding, DELIMITERS[sep],
-                skipped=line_of(skip) - 1)
+                skipped=line_of(skip) - 1, notes=notes, warnings=warnings)
+
+
+def _odd_sample(text: str) -> str:
+    m = _RUN.search(text[:65536])
+    if m:
+        return m.group(0)
+    return "".join(c for c in text[:2000] if c in _ODD_1252)[:12]
+
+
+def first_records(text: str, sep: str, n: int) -> list[list[str]]:
+    """The first ``n`` records of ``text`` as written (for a preview): quote-aware, blank
+    lines kept; a record the csv reader cannot take (a field over its size limit) is
+    shown as its line."""
+    head = _head(text)
+    out: list[list[str]] = []
+    reader = csv.reader(io.StringIO(head, newline=""), delimiter=sep, quotechar='"',
+                        doublequote=True, strict=False)
+    try:
+        for record in reader:
+            out.append(record)
+            if len(out) >= n:
+                break
+    except csv.Error:
+        lines = head.splitlines()
+        out.extend([line] for line in lines[len(out): n])
+    return out

@@ -6,6 +6,10 @@ the same file in the same run.
   store or cost-centre ledger); ``read_file`` (parse, clean, build and validate every
   series) against ``pandas.read_csv`` (parse only); targets ``wide_ratio`` <= 4 and
   ``peak_mb`` <= 400 (the peak resident memory a fresh process adds while reading).
+* unbounded work: 288,000 bad cells (1,200 months x 240 columns of text) and 500,000
+  daily dates (10 series x 50,000 days) must give bounded problem lists in bounded time
+  and memory (``bad_s``, ``bad_peak_mb``, ``daily_s``, ``daily_peak_mb``; the problems
+  listed stay at 201 and one IN031).
 * workbook: the same wide table, 1,000 series x 240 months, as .xlsx, read by the
   intake (python-calamine) against ``openpyxl`` in read-only mode (``xlsx_ratio`` is
   openpyxl's time over the intake's).
@@ -63,6 +67,25 @@ def make_wide(folder: Path) -> Path:
     return path
 
 
+def make_bad(folder: Path) -> Path:
+    periods = pd.period_range("1900-01", periods=1200, freq="M").strftime("%Y-%m")
+    line = ",".join(["oops"] * 240)
+    path = folder / "bad_288k.csv"
+    path.write_text("period," + ",".join(f"Illustrative centre {j}" for j in range(240)) + "\n"
+                    + "".join(f"{p},{line}\n" for p in periods), encoding="utf-8")
+    return path
+
+
+def make_daily(folder: Path) -> Path:
+    dates = pd.date_range("1900-01-01", periods=50_000, freq="D").strftime("%Y-%m-%d")
+    frame = pd.DataFrame({"series": np.repeat([f"Illustrative {i}" for i in range(10)],
+                                              len(dates)),
+                          "date": np.tile(np.asarray(dates, dtype=object), 10), "value": 1.0})
+    path = folder / "daily_500k.csv"
+    frame.to_csv(path, index=False)
+    return path
+
+
 def make_xlsx(folder: Path) -> Path:
     path = folder / "wide_1k.xlsx"
     with pd.ExcelWriter(path, engine="openpyxl") as xl:
@@ -89,6 +112,13 @@ _PROBE = textwrap.dedent("""
         n = sum(1 for _ in wb.active.iter_rows(values_only=True))
         wb.close()
         series = n
+    elif kind == "problems":
+        from pipeline.errors import RealbasisError
+        try:
+            r = read_file(path, settings=settings)
+            n, series = len(r.problems), sum(r.problem_counts.values())
+        except RealbasisError as e:
+            n, series = len(e.problems), 1
     else:
         r = read_file(path, settings=settings)
         assert not r.errors, r.errors[:3]
@@ -119,6 +149,10 @@ def main() -> None:
         xlsx = probe("intake", xlsx_path)
         assert xlsx["series"] == XLSX_SERIES, xlsx
         opx = probe("openpyxl", xlsx_path)
+        bad = probe("problems", make_bad(folder))
+        daily = probe("problems", make_daily(folder))
+        assert bad["rows"] == 201 and bad["series"] == 288_000, bad
+        assert daily["rows"] == 1, daily
         print(f"long: rows={N_SERIES * N_MONTHS} series={N_SERIES} "
               f"file_mb={long_path.stat().st_size / 1e6:.1f} peak_mb={intake['peak_mb']:.0f}")
         print(f"baseline_read_csv_s={base['s']:.2f}")
@@ -128,6 +162,10 @@ def main() -> None:
               f"file_mb={xlsx_path.stat().st_size / 1e6:.1f}")
         print(f"xlsx_intake_s={xlsx['s']:.2f} openpyxl_rows_s={opx['s']:.2f} "
               f"xlsx_ratio={opx['s'] / xlsx['s']:.1f} xlsx_peak_mb={xlsx['peak_mb']:.0f}")
+        print(f"bad cells: problems listed={bad['rows']} counted={bad['series']} "
+              f"bad_s={bad['s']:.2f} bad_peak_mb={bad['peak_mb']:.0f}")
+        print(f"daily dates: problems={daily['rows']} daily_s={daily['s']:.2f} "
+              f"daily_peak_mb={daily['peak_mb']:.0f}")
         print(f"wide: {WIDE_SERIES} series x {WIDE_MONTHS} months, "
               f"file_mb={wide_path.stat().st_size / 1e6:.1f}, read_csv peak_mb="
               f"{wide_base['peak_mb']:.0f}")
