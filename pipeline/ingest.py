@@ -80,11 +80,14 @@ class Intake:
     def warnings(self) -> tuple[Problem, ...]:
         return tuple(p for p in self.problems if p.severity == "warning")
 
-    @property
-    def error_count(self) -> int:
-        """Every error found (``errors`` lists at most ``max_problems``)."""
-        listed = {p.code for p in self.errors}
-        return sum(n for c, n in self.problem_counts.items() if c in listed) or len(self.errors)
+    def totals(self) -> tuple[int, int]:
+        """(errors, warnings) found in all, listed or not (``problem_counts`` by the
+        severity of each code; the IN033 summary itself is not counted)."""
+        severity = {p.code: p.severity for p in self.problems}
+        n_err = sum(n for c, n in self.problem_counts.items() if severity.get(c) == "error")
+        n_warn = sum(n for c, n in self.problem_counts.items() if severity.get(c) == "warning")
+        listed_warn = sum(1 for p in self.warnings if p.code != IN033)
+        return max(n_err, len(self.errors)), max(n_warn, listed_warn)
 
     def raise_for_errors(self) -> None:
         """Raise one RealbasisError carrying every error problem listed (and the IN033

@@ -69,7 +69,7 @@ def render(intake: Intake) -> str:
     if intake.note:
         lines += ["", "Reading note:"] + [f"  {n}" for n in intake.note]
     errors, warnings = intake.errors, intake.warnings
-    n_err, n_warn = _totals(intake)
+    n_err, n_warn = intake.totals()
     listed = ("" if (n_err, n_warn) == (len(errors), len(warnings))
               else f" ({len(errors) + len(warnings):,} listed; counts by code: "
               + ", ".join(f"{c} {n:,}" for c, n in intake.problem_counts.items()) + ")")
@@ -79,15 +79,6 @@ def render(intake: Intake) -> str:
     for p in warnings:
         lines.append("warning " + p.render(CLI))
     return "\n".join(lines)
-
-
-def _totals(intake: Intake) -> tuple[int, int]:
-    """(errors, warnings) found in all, listed or not."""
-    severity = {p.code: p.severity for p in intake.problems}
-    n_err = sum(n for c, n in intake.problem_counts.items() if severity.get(c) == "error")
-    n_warn = sum(n for c, n in intake.problem_counts.items() if severity.get(c) == "warning")
-    return max(n_err, len(intake.errors)), max(n_warn, len(intake.warnings) - (
-        1 if any(p.code == "IN033" for p in intake.problems) else 0))
 
 
 def _run(args: argparse.Namespace) -> int:
