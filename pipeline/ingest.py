@@ -132,7 +132,12 @@ def read_table(source: str | Path | bytes, *, filename: str | None = None,
     a workbook); ``sheet`` picks a workbook sheet (an error for a text file). Cells stay
     text: use :func:`detect_decimal` and :func:`parse_numbers` for numbers and
     :mod:`pipeline.labels` for periods."""
-    return _table(source, filename, sheet, settings or load_settings())
+    try:
+        return _table(source, filename, sheet, settings or load_settings())
+    except MemoryError:
+        raise fail(IN039, "there is not enough memory to read the file",
+                   expected="a file that fits in memory", found="reading ran out of memory",
+                   fix="Split the file into smaller ones.", file=filename) from None
 
 
 def list_sheets(source: str | Path | bytes, *, filename: str | None = None,

@@ -422,3 +422,25 @@ def test_workbook_limits_on_unpacked_size_ratio_texts_and_cell_length():
     with pytest.raises(RealbasisError) as e:
         read_file(data, filename="big.xlsx", settings=Settings(max_columns=1))
     assert e.value.code == "IN035"
+
+
+def test_a_part_that_unpacks_to_more_than_it_declares_is_refused():
+    # the sizes in the archive's headers are the sender's word: patch the sheet's
+    # declared size down to 1,000 bytes (local header offset 22, central directory 24)
+    rows = [f'<row r="{i}"><c r="A{i}"><v>{i}</v></c><c r="B{i}"><v>1</v></c></row>'
+            for i in range(1, 5000)]
+    data = bytearray(xlsx_with_sheet(sheet_xml(rows)))
+    name = b"xl/worksheets/sheet1.xml"
+    import struct
+
+    for sig, at in ((b"PK\x03\x04", 22), (b"PK\x01\x02", 24)):
+        pos = 0
+        while (pos := data.find(sig, pos)) >= 0:
+            n = struct.unpack("<H", data[pos + (26 if sig == b"PK\x03\x04" else 28):][:2])[0]
+            start = pos + (30 if sig == b"PK\x03\x04" else 46)
+            if bytes(data[start: start + n]) == name:
+                data[pos + at: pos + at + 4] = struct.pack("<I", 1000)
+            pos += 4
+    with pytest.raises(RealbasisError) as e:
+        read_file(bytes(data), filename="liar.xlsx")
+    assert e.value.code == "IN034" and "more than it declares" in e.value.problems[0].message

@@ -103,83 +103,79 @@ def inspect_archive(src: Source, settings: Settings) -> ArchiveFacts:
             sheet_cells = sheet_rows = sheet_cols = 0
             ods_row_repeat, ods_cols_row = 1, 0
             try:
-                with z.open(info) as fh:
-                    while True:
-                        chunk = fh.read(_CHUNK)
-                        if not chunk:
-                            break
-                        size += len(chunk)
-                        total += len(chunk)
-                        if size > info.file_size or total > limit:
-                            raise _refuse(IN034, "the workbook is too large once unpacked",
-                                          f"at most {limit:,} bytes unpacked, each part no "
-                                          "larger than it declares",
-                                          f"{clip(part)}: more than {min(size, total):,} bytes "
-                                          f"({info.file_size:,} declared)", fix, name)
-                        if not (sheet_xml or strings_xml or ods_xml):
-                            continue
-                        # the longest run of text between two tags
-                        arr = np.frombuffer(chunk, dtype=np.uint8)
-                        lt = np.flatnonzero(arr == 60)
-                        if len(lt):
-                            run = max(carry + int(lt[0]), int(np.diff(lt).max()) if len(lt) > 1
-                                      else 0)
-                            carry = len(chunk) - int(lt[-1]) - 1
+                for chunk in _unpack(src.data, info, name):
+                    size += len(chunk)
+                    total += len(chunk)
+                    if size > info.file_size or total > limit:
+                        raise _refuse(IN034, "the workbook is too large once unpacked",
+                                      f"at most {limit:,} bytes unpacked, each part no "
+                                      "larger than it declares",
+                                      f"{clip(part)}: more than {min(size, total):,} bytes "
+                                      f"({info.file_size:,} declared)", fix, name)
+                    if not (sheet_xml or strings_xml or ods_xml):
+                        continue
+                    # the longest run of text between two tags
+                    arr = np.frombuffer(chunk, dtype=np.uint8)
+                    lt = np.flatnonzero(arr == 60)
+                    if len(lt):
+                        run = max(carry + int(lt[0]), int(np.diff(lt).max()) if len(lt) > 1
+                                  else 0)
+                        carry = len(chunk) - int(lt[-1]) - 1
+                    else:
+                        run = carry + len(chunk)
+                        carry = run
+                    longest = max(longest, run)
+                    if longest > settings.max_cell_chars + 64:
+                        raise _refuse(IN036, "a workbook cell holds more text than intake reads",
+                                      f"at most {settings.max_cell_chars:,} characters per "
+                                      "cell (setting max_cell_chars)",
+                                      f"a text of more than {longest - 64:,} characters in "
+                                      f"{clip(part)}", fix, name)
+                    data = tail + chunk
+                    if sheet_xml:
+                        sheet_cells += chunk.count(b"<c ") + chunk.count(b"<c>")
+                        refs = set(_REF.findall(data))
+                        if refs:
+                            sheet_cols = max(sheet_cols, max(_col_number(c) for c, _ in refs))
+                            sheet_rows = max(sheet_rows, max(int(r) for _, r in refs))
+                        last = _ROW.findall(data[-100_000:])
+                        if last:
+                            sheet_rows = max(sheet_rows, int(last[-1]))
+                    elif strings_xml:
+                        texts += chunk.count(b"<si>") + chunk.count(b"<si ")
+                        if texts > settings.max_shared_strings:
+                            raise _refuse(IN036, "the workbook holds more distinct texts than "
+                                          "intake reads",
+                                          f"at most {settings.max_shared_strings:,} shared "
+                                          "texts (setting max_shared_strings)",
+                                          f"more than {texts:,}", fix, name)
+                    else:
+                        cut = data.rfind(b"<")
+                        if cut >= 0 and data.find(b">", cut) < 0:
+                            data, rest = data[:cut], data[cut:]
                         else:
-                            run = carry + len(chunk)
-                            carry = run
-                        longest = max(longest, run)
-                        if longest > settings.max_cell_chars + 64:
-                            raise _refuse(IN036, "a workbook cell holds more text than intake reads",
-                                          f"at most {settings.max_cell_chars:,} characters per "
-                                          "cell (setting max_cell_chars)",
-                                          f"a text of more than {longest - 64:,} characters in "
-                                          f"{clip(part)}", fix, name)
-                        data = tail + chunk
-                        if sheet_xml:
-                            sheet_cells += chunk.count(b"<c ") + chunk.count(b"<c>")
-                            refs = set(_REF.findall(data))
-                            if refs:
-                                sheet_cols = max(sheet_cols, max(_col_number(c) for c, _ in refs))
-                                sheet_rows = max(sheet_rows, max(int(r) for _, r in refs))
-                            last = _ROW.findall(data[-100_000:])
-                            if last:
-                                sheet_rows = max(sheet_rows, int(last[-1]))
-                        elif strings_xml:
-                            texts += chunk.count(b"<si>") + chunk.count(b"<si ")
-                            if texts > settings.max_shared_strings:
-                                raise _refuse(IN036, "the workbook holds more distinct texts than "
-                                              "intake reads",
-                                              f"at most {settings.max_shared_strings:,} shared "
-                                              "texts (setting max_shared_strings)",
-                                              f"more than {texts:,}", fix, name)
-                        else:
-                            cut = data.rfind(b"<")
-                            if cut >= 0 and data.find(b">", cut) < 0:
-                                data, rest = data[:cut], data[cut:]
-                            else:
-                                rest = b""
-                            for m in _ODS_TAG.finditer(data):
-                                tag = m.group(0)
-                                if tag.startswith(b"<table:table-row"):
-                                    if ods_cols_row:  # the row before held values
-                                        sheet_rows += ods_row_repeat
-                                    r = _REPEAT_ROWS.search(tag)
-                                    ods_row_repeat = int(r.group(1)) if r else 1
-                                    ods_cols_row = 0
-                                    continue
-                                c = _REPEAT_COLS.search(tag)
-                                n = int(c.group(1)) if c else 1
-                                ods_cols_row += n
-                                if b"value-type" in tag:
-                                    cells += n * ods_row_repeat
-                                    sheet_cols = max(sheet_cols, ods_cols_row)
-                            if cells > settings.max_cells or sheet_cols > settings.max_columns:
-                                _check_used_range(sheet_rows, sheet_cols, cells, settings, name,
-                                                  part)
-                            tail = rest
-                            continue
-                        tail = chunk[-64:]
+                            rest = b""
+                        for m in _ODS_TAG.finditer(data):
+                            tag = m.group(0)
+                            if tag.startswith(b"<table:table-row"):
+                                if ods_cols_row:  # the row before held values
+                                    sheet_rows += ods_row_repeat
+                                r = _REPEAT_ROWS.search(tag)
+                                ods_row_repeat = int(r.group(1)) if r else 1
+                                ods_cols_row = 0
+                                continue
+                            c = _REPEAT_COLS.search(tag)
+                            n = int(c.group(1)) if c else 1
+                            ods_cols_row += n
+                            if b"value-type" in tag:
+                                cells += n * ods_row_repeat
+                                sheet_cols = max(sheet_cols, ods_cols_row)
+                        if cells > settings.max_cells or sheet_cols > settings.max_columns:
+                            _check_used_range(sheet_rows, sheet_cols, cells, settings, name,
+                                              part)
+                        tail = rest
+                        continue
+                    tail = chunk[-64:]
             except RealbasisError:
                 raise
             except (zipfile.BadZipFile, OSError, ValueError, EOFError, NotImplementedError,
@@ -198,6 +194,65 @@ def inspect_archive(src: Source, settings: Settings) -> ArchiveFacts:
                 _check_used_range(sheet_rows, sheet_cols, cells, settings, name, part)
             rows, cols = max(rows, sheet_rows), max(cols, sheet_cols)
     return ArchiveFacts(total, len(infos), rows, cols, cells, texts, longest)
+
+
+def _unpack(data: bytes, info: zipfile.ZipInfo, name: str):  # -> Iterator[bytes]
+    """The unpacked bytes of one archive part, in chunks, decompressed here from the raw
+    stream (not through ``zipfile``, which stops at the declared size): a part that
+    unpacks to more than it declares is refused (IN034) instead of trusted."""
+    import struct
+    import zlib
+
+    off = info.header_offset
+    head = data[off: off + 30]
+    if len(head) < 30 or head[:4] != b"PK\x03\x04":
+        raise fail(IN027, "the workbook cannot be opened", expected="a workbook archive",
+                   found=f"a damaged part {clip(info.filename)!r}",
+                   fix="Open the file in a spreadsheet program and save it again as .xlsx.",
+                   file=name)
+    n_name, n_extra = struct.unpack("<HH", head[26:30])
+    start = off + 30 + n_name + n_extra
+    raw = memoryview(data)[start: start + info.compress_size]
+    declared = info.file_size
+    if info.compress_type == zipfile.ZIP_STORED:
+        for i in range(0, len(raw), _CHUNK):
+            yield bytes(raw[i: i + _CHUNK])
+        return
+    if info.compress_type != zipfile.ZIP_DEFLATED:
+        raise fail(IN027, "the workbook cannot be opened", expected="a workbook archive "
+                   "(parts stored or deflated)", found=f"part {clip(info.filename)!r} packed "
+                   f"with method {info.compress_type}",
+                   fix="Open the file in a spreadsheet program and save it again as .xlsx.",
+                   file=name)
+    d = zlib.decompressobj(-15)
+    produced = 0
+    pos = 0
+    pending = b""
+    while pos < len(raw) or pending:
+        if not pending:
+            pending = bytes(raw[pos: pos + _CHUNK])
+            pos += _CHUNK
+        try:
+            out = d.decompress(pending, _CHUNK)
+        except zlib.error:
+            raise fail(IN027, "the workbook cannot be opened", expected="a workbook archive",
+                       found=f"part {clip(info.filename)!r} does not unpack",
+                       fix="Open the file in a spreadsheet program and save it again as .xlsx.",
+                       file=name) from None
+        pending = d.unconsumed_tail
+        produced += len(out)
+        if produced > declared:
+            raise fail(IN034, "a part of the workbook unpacks to more than it declares",
+                       expected=f"{clip(info.filename)} of {declared:,} bytes, as declared",
+                       found=f"more than {produced:,} bytes",
+                       fix="Check the file: a workbook whose parts lie about their size is "
+                       "refused before it is opened.", file=name)
+        if out:
+            yield out
+        elif not pending and pos >= len(raw):
+            break
+        if d.eof:
+            break
 
 
 def _check_used_range(rows: int, cols: int, cells: int, settings: Settings, name: str,
