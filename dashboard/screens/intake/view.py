@@ -43,7 +43,7 @@ from .._shared.view import (
 UI001 = register("UI001", "uploaded file is too large")
 UI002 = register("UI002", "upload could not be decoded")
 
-ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm")
+ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm", ".xls", ".ods")
 
 
 # --------------------------------------------------------------------------- reading a file
@@ -231,22 +231,12 @@ def intake_view(intake: Any, filename: str) -> IntakeView:
 
 
 def reading_note(intake: Any) -> list[str]:
-    """How the intake read the file, in words (format, encoding, delimiter, decimals)."""
-    lines = []
-    fmt = str(getattr(intake, "format", "") or "")
-    if fmt == "xlsx" or getattr(intake, "sheet", None):
-        lines.append(f"Read as a workbook, sheet {intake.sheet!r}.")
-    else:
-        enc = getattr(intake, "encoding", None) or "not stated"
-        d = str(getattr(intake, "delimiter", "") or "")
-        delim = {",": "comma", ";": "semicolon", "\t": "tab"}.get(d, d)
-        lines.append(f"Read as text: encoding {enc}, {delim}-separated.")
-    dec = getattr(intake, "decimal", ".")
-    lines.append("Decimal mark: " + ("comma (1.234,5)" if dec == "," else "point (1,234.5)") + ".")
-    lines.append(f"{int(getattr(intake, 'rows', 0) or 0):,} data rows; cells that are not "
-                 "numbers or not periods are listed as problems and left out.")
-    lines.append("Kinds were guessed from names, units and values unless corrected here; "
-                 "a price index is kept apart from money series and filed by vintage.")
+    """How the intake read the file, in words: the engine's reading note (format,
+    encoding, rows skipped, layout, markers, missing values, how kinds were decided),
+    then what the screen adds."""
+    lines = [str(line) for line in getattr(intake, "note", ()) or ()]
+    lines.append("Kinds found here can be corrected under 'Series to correct'; a price "
+                 "index is kept apart from money series and filed by vintage.")
     return lines
 
 
