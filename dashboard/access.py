@@ -258,6 +258,7 @@ def _access_error(err: RealbasisError) -> flask.Response:
 
 WRITE_CONTROLS = ("IN_UPLOAD", "IN_ADD", "IN_KIND_APPLY", "IN_NEW_WORKSPACE", "RT_SAVE",
                   "RT_SA_ALL", "SH_REBASE", "SH_PROJECT", "SH_LINK", "SH_COST_BUILD",
+                  "BT_SAVE", "BT_OUTLAY_SAVE", "IN_FY_SAVE",
                   "SX_LINK_CREATE", "SX_REVOKE")
 """Names in dashboard.ids of controls that change something; disabled for reviewers."""
 

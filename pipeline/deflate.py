@@ -69,6 +69,7 @@ DF005 = register("DF005", "duplicate series or deflator names")
 DF006 = register("DF006", "nothing to deflate")
 DF007 = register("DF007", "deflator value not positive")
 DF010 = register("DF010", "real values rest on preliminary or projected index values")
+DF011 = register("DF011", "nominal values missing inside a series")
 
 Interpolate = bool | str
 """How a less frequent deflator may be interpolated: False (refused, PE204), True or
@@ -187,14 +188,18 @@ class DeflationResult:
     def table(self, *, flags: bool = False, categorical: bool | None = None) -> pd.DataFrame:
         """Tidy table: EXACTLY ``series, deflator, period, nominal, deflator_index, real,
         status`` (periods as canonical labels: 2024-01, 2024Q1, 2024, FY2025), one row per
-        series x deflator x period with a nominal value, ordered that way. ``flags=True``
+        series x deflator x period from the series' first nominal value to its last,
+        ordered that way; a period missing inside that span has its row with empty
+        ``nominal`` and ``real`` (a DF011 or PE210 warning names it). ``flags=True``
         adds a boolean ``interpolated`` column.
 
         The four text columns are plain strings; tables of more than
         :data:`CATEGORICAL_ROWS` rows use pandas categoricals for them instead (same values,
         built in a fraction of the time and memory). ``categorical`` forces either."""
         d_n, t_n, s_n = len(self.deflator_names), len(self.periods), len(self.series_names)
-        present = ~np.isnan(self.nominal)  # (T, S)
+        # a row for every period from each series' first nominal value to its last; a
+        # period missing inside (DF011, PE210) keeps its row with empty numbers
+        present = within_span(~np.isnan(self.nominal))  # (T, S)
 
         def flat(a: np.ndarray) -> np.ndarray:  # (D, T, S) -> order series, deflator, period
             return np.asarray(a).transpose(2, 0, 1).reshape(-1)
@@ -242,6 +247,48 @@ class DeflationResult:
 
 
 # --------------------------------------------------------------------------- helpers
+
+
+def within_span(present: np.ndarray) -> np.ndarray:
+    """(T, S) bool: the period lies between a column's first and last present value."""
+    if present.size == 0:
+        return present
+    t = np.arange(present.shape[0])[:, None]
+    any_ = present.any(axis=0)
+    first = np.where(any_, present.argmax(axis=0), present.shape[0])
+    last = np.where(any_, present.shape[0] - 1 - present[::-1].argmax(axis=0), -1)
+    return (t >= first[None, :]) & (t <= last[None, :])
+
+
+def _missing_inside(nominal: np.ndarray, reported: np.ndarray | None, labels: np.ndarray,
+                    names: Sequence[str], freq: Frequency) -> list[Problem]:
+    """DF011 per series (at most 20, then one for the rest) with nominal values missing
+    between its first and last value, other than periods PE210 already names."""
+    present = ~np.isnan(nominal)
+    inside = within_span(present) & ~present
+    if reported is not None:
+        inside &= ~reported
+    cols = np.flatnonzero(inside.any(axis=0))
+    out: list[Problem] = []
+    for j in cols[:20].tolist():
+        rows = np.flatnonzero(inside[:, j])
+        labs = [str(x) for x in labels[rows]]
+        out.append(warn(DF011, f"{names[j]!r} has no nominal value in {len(rows)} period(s) "
+                        "inside its span; those rows are kept with empty numbers",
+                        expected="a nominal value in every period from the first to the last",
+                        found=f"missing {describe_ranges(labs)}", series=str(names[j]),
+                        period=labs[0],
+                        fix="Supply the missing values, or accept that these periods stay "
+                        "empty (they are never filled in or bridged)."))
+    if len(cols) > 20:
+        more = [names[j] for j in cols[20:]]
+        out.append(warn(DF011, f"{len(more)} more series have nominal values missing inside "
+                        "their span; those rows are kept with empty numbers",
+                        expected="a nominal value in every period from the first to the last",
+                        found=_fmt_names(more),
+                        fix="Supply the missing values, or accept that these periods stay "
+                        "empty (they are never filled in or bridged)."))
+    return out
 
 
 def _rule(kind: str) -> Rule:
@@ -452,10 +499,13 @@ def _block(
     warnings: list[Problem] = []
     problems: list[Problem] = []
     out_labels = np.array(out_freq.labels(periods), dtype=object)
+    incomplete = None
     if rel_out == "coarser" and n_t:
         touched = np.add.reduceat(present.astype(np.int32), g_nom.starts, axis=0) > 0
         incomplete = touched & ~g_nom.complete
         warnings.extend(_partial_summary(out_labels, incomplete, names, out_freq))
+    if n_t:
+        warnings.extend(_missing_inside(nominal, incomplete, out_labels, names, out_freq))
     for k, d in enumerate(defl):
         dname = d.series.name
         dfreq = d.series.frequency

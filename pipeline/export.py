@@ -6,12 +6,15 @@
 * ``.json``: ``{"base", "frequency", "dollars", "columns", "records", "method",
   "cautions", "warnings", "context"}``, plus ``"revision_bands"`` when revision bands
   are given (context ``bands=``: :class:`pipeline.revision_risk.RevisionBand`, each as
-  its ``as_dict()``); missing numbers are ``null``.
+  its ``as_dict()``) and ``"budget"`` when budget tables are given (context ``budget=``:
+  :class:`pipeline.budget.BudgetTable`, each as its ``as_dict()``); missing numbers are
+  ``null``.
 * ``.xlsx``: the audit workbook of :mod:`pipeline.workbook` (Summary, the "Real terms"
   data sheet written by :func:`write_data_sheet`, one "Real - <deflator>" sheet each,
   "Indexes used", "Status flags", "Revision band" when bands are given, "Method").
-  :func:`build_workbook` still gives the
-  minimal two-sheet workbook (data and method) for callers that want only that.
+  :func:`write_minimal_workbook` still gives the
+  minimal two-sheet workbook (data and method) for callers that want only that. Every
+  workbook is written by the streaming writer of :mod:`pipeline.xlsx` (xlsxwriter).
 
 Text cells that a spreadsheet would read as a formula (starting with = + - @, a tab or a
 carriage return) are written with a leading single quote (:func:`neutralise`).
@@ -87,6 +90,7 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
     """Everything the JSON export holds, as plain Python objects. ``bands`` (a sequence of
     revision bands) becomes ``revision_bands``; other context is listed as text."""
     bands = context.pop("bands", None) or ()
+    budget = context.pop("budget", None)
     table = export_table(result)
     records = []
     cols = list(table.columns)
@@ -114,6 +118,9 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
     }
     if bands:
         out["revision_bands"] = [b.as_dict() for b in bands]
+    if budget is not None:
+        tables = list(budget) if isinstance(budget, list | tuple) else [budget]
+        out["budget"] = [t.as_dict() for t in tables]
     return out
 
 
@@ -125,17 +132,15 @@ def write_json(result: DeflationResult, path: Path, **context: Any) -> None:
 
 
 def write_data_sheet(wb: Any, table: pd.DataFrame, title: str = "Real terms") -> Any:
-    """Append a sheet holding ``table`` (header row + values), text neutralised."""
+    """Append a sheet holding ``table`` (header row + values), text neutralised, NaN
+    empty (:class:`pipeline.xlsx.Book`; written column-wise, the fast path)."""
     if len(table) + 1 > XLSX_MAX_ROWS:
         raise fail(EX003, f"{len(table)} rows do not fit on one Excel sheet",
                    expected=f"at most {XLSX_MAX_ROWS - 1} rows", found=str(len(table)),
                    fix="Export CSV or JSON instead, or deflate fewer series at a time.")
     ws = wb.create_sheet(title)
-    ws.append(list(table.columns))
-    safe = neutralise_frame(table)
-    cols = [safe[c].to_numpy() for c in safe.columns]
-    for row in zip(*cols, strict=True):
-        ws.append([_cell(v) for v in row])
+    ws.append_columns([table[c].to_numpy() for c in table.columns],
+                      header=[str(c) for c in table.columns])
     return ws
 
 
@@ -151,14 +156,15 @@ def _cell(v: object) -> object:
 
 def write_method_sheet(wb: Any, result: DeflationResult, context: Mapping[str, Any],
                        title: str = "Method") -> Any:
-    """Append the method sheet: base, method note, cautions, warnings, context."""
+    """Append the method sheet: base, method note, cautions, warnings, context (text is
+    neutralised by the sheet writer)."""
     ws = wb.create_sheet(title)
     ws.append(["Real terms", result.dollars_label])
     ws.append(["Results", result.frequency.describe()])
     ws.append([])
     ws.append(["Method"])
     for line in result.method_note():
-        ws.append(["", neutralise(line)])
+        ws.append(["", line])
     ws.append([])
     ws.append(["Cautions"])
     for line in CAUTIONS:
@@ -167,24 +173,25 @@ def write_method_sheet(wb: Any, result: DeflationResult, context: Mapping[str, A
         ws.append([])
         ws.append(["Warnings"])
         for p in result.warnings:
-            ws.append([p.code, neutralise(p.render())])
+            ws.append([p.code, p.render()])
     ctx = _context_lines(context)
     if ctx:
         ws.append([])
         ws.append(["Context"])
         for k, v in ctx:
-            ws.append([neutralise(k), neutralise(v)])
+            ws.append([k, v])
     return ws
 
 
-def build_workbook(result: DeflationResult, **context: Any) -> Any:
-    """The export workbook (openpyxl, write-only) before saving: data and method sheets."""
-    from openpyxl import Workbook
+def write_minimal_workbook(result: DeflationResult, path: str | Path, **context: Any) -> Path:
+    """The minimal two-sheet workbook (data and method) for callers that want only that."""
+    from .workbook import write_book
 
-    wb = Workbook(write_only=True)
-    write_data_sheet(wb, export_table(result))
-    write_method_sheet(wb, result, context)
-    return wb
+    def build(wb: Any) -> None:
+        write_data_sheet(wb, export_table(result))
+        write_method_sheet(wb, result, context)
+
+    return write_book(path, build)
 
 
 def write_xlsx(result: DeflationResult, path: Path, **context: Any) -> None:
@@ -264,27 +271,23 @@ def write_table(table: pd.DataFrame, path: str | Path, *, title: str,
                 json.dump(data, fh, ensure_ascii=False, indent=1, allow_nan=False)
                 fh.write("\n")
         else:
-            from openpyxl import Workbook
+            from .workbook import write_book
 
-            wb = Workbook(write_only=True)
-            write_data_sheet(wb, neutralise_frame(table, text), sheet)
-            ws = wb.create_sheet("Method")
-            ws.append([neutralise(title)])
-            for heading, lines in (("Method", list(method)), ("Cautions", list(CAUTIONS)),
-                                   ("Warnings", [w.render() for w in warnings]),
-                                   ("Context", [f"{k}: {v}" for k, v in
-                                                _context_lines(context)])):
-                if lines:
-                    ws.append([])
-                    ws.append([heading])
-                    for line in lines:
-                        ws.append(["", neutralise(line)])
-            tmp = p.with_name(p.name + ".part")
-            try:
-                wb.save(tmp)
-                tmp.replace(p)
-            finally:
-                tmp.unlink(missing_ok=True)
+            def build(wb: Any) -> None:
+                write_data_sheet(wb, table, sheet)
+                ws = wb.create_sheet("Method")
+                ws.append([title])
+                for heading, lines in (("Method", list(method)), ("Cautions", list(CAUTIONS)),
+                                       ("Warnings", [w.render() for w in warnings]),
+                                       ("Context", [f"{k}: {v}" for k, v in
+                                                    _context_lines(context)])):
+                    if lines:
+                        ws.append([])
+                        ws.append([heading])
+                        for line in lines:
+                            ws.append(["", line])
+
+            write_book(p, build)
     except OSError as err:
         raise fail(EX002, f"could not write {p.name!r}", expected="a writable file path",
                    found=f"{type(err).__name__}: {err.strerror or err}", file=str(p),

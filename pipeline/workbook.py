@@ -45,20 +45,17 @@ from __future__ import annotations
 
 import datetime as dt
 import re
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
 import numpy as np
-from openpyxl import Workbook
-from openpyxl.cell import WriteOnlyCell
-from openpyxl.styles import Alignment, Font, PatternFill
-from openpyxl.utils import get_column_letter
 
 from . import __version__
-from .errors import fail, register
-from .export import EX002, EX003, XLSX_MAX_ROWS, export_table, neutralise, write_data_sheet
+from .errors import RealbasisError, fail, register
+from .export import EX002, EX003, XLSX_MAX_ROWS, export_table, write_data_sheet
 from .model import CAUTIONS, STATUSES
+from .xlsx import Book, Cell, Sheet, Style
 
 EX101 = register("EX101", "too many series for one workbook sheet")
 EX103 = register("EX103", "chart image cannot be made")
@@ -74,66 +71,29 @@ SHEET_AUDIT = "Audit trail"
 SHEET_BUDGET = "Budget"
 REAL_PREFIX = "Real - "
 
-_BOLD = Font(bold=True)
-_TITLE = Font(bold=True, size=14)
-_WRAP = Alignment(wrap_text=True, vertical="top")
-_FLAG_FILL = {"preliminary": PatternFill("solid", fgColor="FFF2CC"),
-              "projected": PatternFill("solid", fgColor="E2EFDA")}
+_BOLD = Style(bold=True)
+_TITLE = Style(bold=True, size=14)
+_FLAG_FILL = {"preliminary": "FFF2CC", "projected": "E2EFDA"}
+_STATUS_LOOKS = {k: Style(fill=v) for k, v in _FLAG_FILL.items()}
 _MONEY = "#,##0.00"
 _INDEX = "0.000"
 _BAD_SHEET_CHARS = re.compile(r"[\[\]:*?/\\]")
 
 
-class _Cell:
-    """A value with its look, turned into an openpyxl write-only cell by :func:`_append`."""
-
-    __slots__ = ("fill", "fmt", "font", "value", "wrap")
-
-    def __init__(self, value: Any, *, fmt: str | None = None, font: Font | None = None,
-                 fill: PatternFill | None = None, wrap: bool = False) -> None:
-        self.value, self.fmt, self.font, self.fill, self.wrap = value, fmt, font, fill, wrap
+def _cell(value: Any, *, fmt: str | None = None, font: Style | None = None,
+          fill: str | None = None, wrap: bool = False) -> Cell:
+    """A value with its look: number format, font (bold, size), fill colour, wrap."""
+    f = font or Style()
+    return Cell(value, Style(f.bold, f.size, fill, wrap, fmt))
 
 
-def _plain(value: Any) -> Any:
-    if isinstance(value, np.generic):
-        value = value.item()
-    if isinstance(value, float) and not np.isfinite(value):
-        return None if np.isnan(value) else ("inf" if value > 0 else "-inf")
-    return value
-
-
-def _append(ws: Any, values: Sequence[Any], *, font: Font | None = None,
-            fmts: Sequence[str | None] | None = None) -> None:
-    """Append one row: text neutralised and stored as text (never a formula), NaN empty."""
-    row = []
-    for j, v in enumerate(values):
-        spec = v if isinstance(v, _Cell) else _Cell(v)
-        value = _plain(spec.value)
-        if isinstance(value, str):
-            cell = WriteOnlyCell(ws, neutralise(value))
-            cell.data_type = "s"
-        else:
-            cell = WriteOnlyCell(ws, value)
-            fmt = spec.fmt or (fmts[j] if fmts and j < len(fmts) else None)
-            if fmt and value is not None:
-                cell.number_format = fmt
-        if spec.font or font:
-            cell.font = spec.font or font
-        if spec.fill is not None:
-            cell.fill = spec.fill
-        if spec.wrap:
-            cell.alignment = _WRAP
-        row.append(cell)
-    ws.append(row)
-
-
-def _widths(ws: Any, widths: Mapping[int, float]) -> None:
+def _widths(ws: Sheet, widths: Mapping[int, float]) -> None:
     for col, w in widths.items():
-        ws.column_dimensions[get_column_letter(col)].width = w
+        ws.width(col, w)
 
 
-def _flagged(status: str) -> _Cell:
-    return _Cell(status, fill=_FLAG_FILL.get(status))
+def _flagged(status: str) -> Cell:
+    return _cell(status, fill=_FLAG_FILL.get(status))
 
 
 def sheet_title(name: str, taken: set[str]) -> str:
@@ -165,6 +125,21 @@ def _status_name(rank: Any) -> str:
     return STATUSES[int(rank)]
 
 
+def write_book(path: str | Path, build: Callable[[Book], None]) -> Path:
+    """Write a workbook through ``build(book)`` into ``path`` (via ``<path>.part``, renamed
+    when complete; EX002 on a write error, with nothing half-written left behind)."""
+    path = Path(path)
+    try:
+        with Book(path) as wb:
+            build(wb)
+    except OSError as err:
+        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
+                   fix="Check that the folder exists, that you may write there, and that "
+                       "no spreadsheet program holds the file open.") from None
+    return path
+
+
 def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
     """Write the audit workbook of a :class:`pipeline.deflate.DeflationResult`.
 
@@ -189,35 +164,27 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
                    "one Excel sheet", expected=f"at most {(XLSX_MAX_COLUMNS - 1) // 4} series",
                    found=str(len(result.series_names)),
                    fix="Export CSV or JSON instead, or deflate fewer series at a time.")
-    wb = Workbook(write_only=True)
     taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_DATA, SHEET_INDEXES, SHEET_FLAGS,
                                  SHEET_BAND, SHEET_METHOD, SHEET_AUDIT)}
-    _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
-    _budget_sheets(wb, context.get("budget"), taken)
-    write_data_sheet(wb, export_table(result), SHEET_DATA)
-    for d, name in enumerate(result.deflator_names):
-        _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d,
-              _adjusted_wide(table, name))
-    if context.get("total") is not None:
-        write_contributions_sheets(wb, context["total"], taken)
-    _indexes(wb.create_sheet(SHEET_INDEXES), result)
-    _flags(wb.create_sheet(SHEET_FLAGS), result, table)
-    if context.get("bands"):
-        _bands(wb.create_sheet(SHEET_BAND), context["bands"])
-    _method(wb.create_sheet(SHEET_METHOD), result, context)
-    if context.get("audit"):
-        _audit(wb.create_sheet(SHEET_AUDIT), context["audit"])
-    tmp = path.with_name(path.name + ".part")
-    try:
-        wb.save(tmp)
-        tmp.replace(path)
-    except OSError as err:
-        tmp.unlink(missing_ok=True)
-        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
-                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
-                   fix="Check that the folder exists, that you may write there, and that "
-                       "no spreadsheet program holds the file open.") from None
-    return path
+
+    def build(wb: Book) -> None:
+        _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
+        _budget_sheets(wb, context.get("budget"), taken)
+        write_data_sheet(wb, export_table(result), SHEET_DATA)
+        for d, name in enumerate(result.deflator_names):
+            _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d,
+                  _adjusted_wide(table, name))
+        if context.get("total") is not None:
+            write_contributions_sheets(wb, context["total"], taken)
+        _indexes(wb.create_sheet(SHEET_INDEXES), result)
+        _flags(wb.create_sheet(SHEET_FLAGS), result, table)
+        if context.get("bands"):
+            _bands(wb.create_sheet(SHEET_BAND), context["bands"])
+        _method(wb.create_sheet(SHEET_METHOD), result, context)
+        if context.get("audit"):
+            _audit(wb.create_sheet(SHEET_AUDIT), context["audit"])
+
+    return write_book(path, build)
 
 
 # --------------------------------------------------------------------------- sheets
@@ -226,8 +193,8 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
 def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
     _widths(ws, {1: 34, 2: 34, 3: 8, 4: 14, 5: 12, 6: 12, 7: 16, 8: 16, 9: 12, 10: 13})
     title = context.get("title") or f"Real terms in {result.dollars_label}"
-    _append(ws, [_Cell(str(title), font=_TITLE)])
-    _append(ws, [])
+    ws.append([_cell(str(title), font=_TITLE)])
+    ws.append([])
     made_at = context.get("generated_at") or dt.datetime.now(dt.UTC)
     facts = [
         ("Amounts", f"{result.dollars_label} (base period {result.base_label})"),
@@ -245,10 +212,10 @@ def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
     ]
     for label, value in facts:
         if value not in (None, ""):
-            _append(ws, [_Cell(label, font=_BOLD), str(value)])
-    _append(ws, [])
-    _append(ws, ["Series", "Deflator", "Kind", "Unit", "First period", "Last period",
-                 "Real, first", "Real, last", "Real change", "Worst status"], font=_BOLD)
+            ws.append([_cell(label, font=_BOLD), str(value)])
+    ws.append([])
+    ws.append(["Series", "Deflator", "Kind", "Unit", "First period", "Last period",
+                 "Real, first", "Real, last", "Real change", "Worst status"], style=_BOLD)
     labels = result.period_labels
     for j, sname in enumerate(result.series_names):
         rows = np.flatnonzero(~np.isnan(result.nominal[:, j]))
@@ -259,27 +226,27 @@ def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
             r0, r1 = float(result.real[d][first, j]), float(result.real[d][last, j])
             change = (r1 / r0 - 1.0) if r0 and np.isfinite(r0) and np.isfinite(r1) else None
             worst = _status_name(np.max(result.status[d][rows, j]))
-            _append(ws, [sname, dname, result.kinds[j], result.units[j] or "",
+            ws.append([sname, dname, result.kinds[j], result.units[j] or "",
                          labels[first], labels[last], r0, r1, change, _flagged(worst)],
                     fmts=[None] * 6 + [_MONEY, _MONEY, "0.00%", None])
-    _append(ws, [])
-    _append(ws, [_Cell("Cautions", font=_BOLD)])
+    ws.append([])
+    ws.append([_cell("Cautions", font=_BOLD)])
     for line in context.get("cautions") or CAUTIONS:
-        _append(ws, ["• " + str(line)])
+        ws.append(["• " + str(line)])
     if result.worst_status != "final":
-        _append(ws, [_Cell("• Some figures here rest on preliminary or projected index "
+        ws.append([_cell("• Some figures here rest on preliminary or projected index "
                            "values: see the sheet 'Status flags'.", font=_BOLD)])
     bands = context.get("bands") or ()
     if bands:
-        _append(ws, [])
-        _append(ws, [_Cell("Revision risk", font=_BOLD)])
+        ws.append([])
+        ws.append([_cell("Revision risk", font=_BOLD)])
         for b in bands:
             for line in (b.statements if b.available else
                          [f"{b.name}: no revision band ("
                           + "; ".join(w.message for w in b.warnings if w.code == "WS310")
                           + ")."]):
-                _append(ws, ["• " + line])
-        _append(ws, ["• Details and method: see the sheet 'Revision band'."])
+                ws.append(["• " + line])
+        ws.append(["• Details and method: see the sheet 'Revision band'."])
 
 
 def _adjusted_wide(table: Any, deflator: str) -> Any:
@@ -294,57 +261,58 @@ def _adjusted_wide(table: Any, deflator: str) -> Any:
 def _real(ws: Any, result: Any, d: int, adjusted: Any = None) -> None:
     name = result.deflator_names[d]
     per = 3 if adjusted is None else 4
-    ws.freeze_panes = "B4"
+    ws.freeze("B4")
     _widths(ws, {1: 11, **{c: 18 for c in range(2, 2 + per * len(result.series_names))}})
-    _append(ws, [_Cell(f"Real values deflated by {name}, in {result.dollars_label}",
-                       font=_BOLD)])
-    _append(ws, [])
+    ws.append([_cell(f"Real values deflated by {name}, in {result.dollars_label}",
+                     font=_BOLD)])
+    ws.append([])
     header = ["period"]
-    for s in result.series_names:
-        header += [f"{s} (nominal)", f"{s} (real)", f"{s} status"]
+    columns: list[Any] = [[str(x) for x in result.period_labels]]
+    fmts: list[str | None] = [None]
+    looks: list[Any] = [None]
+    status_names = np.array(STATUSES, dtype=object)
+    for j, sname in enumerate(result.series_names):
+        nominal = result.nominal[:, j]
+        missing = np.isnan(nominal)  # a period without a nominal value stays empty
+        real = np.where(missing, np.nan, result.real[d][:, j])
+        status = np.where(missing, None, status_names[result.status[d][:, j].astype(np.intp)])
+        header += [f"{sname} (nominal)", f"{sname} (real)", f"{sname} status"]
+        columns += [nominal, real, status]
+        fmts += [_MONEY, _MONEY, None]
+        looks += [None, None, _STATUS_LOOKS]
         if adjusted is not None:
-            header.append(f"{s} (real, seasonally adjusted)")
-    _append(ws, header, font=_BOLD)
-    real, status, nominal = result.real[d], result.status[d], result.nominal
-    for t, label in enumerate(result.period_labels):
-        row: list[Any] = [str(label)]
-        for j, sname in enumerate(result.series_names):
-            nom = float(nominal[t, j])
-            if np.isnan(nom):
-                row += [None] * per
-                continue
-            row += [_Cell(nom, fmt=_MONEY), _Cell(float(real[t, j]), fmt=_MONEY),
-                    _flagged(_status_name(status[t, j]))]
-            if adjusted is not None:
-                value = (adjusted.at[label, sname] if label in adjusted.index
-                         and sname in adjusted.columns else None)
-                row.append(_Cell(None if value is None else float(value), fmt=_MONEY))
-        _append(ws, row)
+            header.append(f"{sname} (real, seasonally adjusted)")
+            col = (adjusted[sname].reindex(result.period_labels).to_numpy(dtype=float)
+                   if sname in adjusted.columns else np.full(len(nominal), np.nan))
+            columns.append(np.where(missing, np.nan, col))
+            fmts.append(_MONEY)
+            looks.append(None)
+    ws.append_columns(columns, header=header, fmts=fmts, looks=looks)
 
 
 def _indexes(ws: Any, result: Any) -> None:
     used = list(result.deflators_used)
     _widths(ws, {1: 18, **{c: 20 for c in range(2, 2 + 2 * len(used))}})
-    ws.freeze_panes = "B8"  # title, blank, 4 lines about each index, header
-    _append(ws, [_Cell(f"Deflator indexes as used, rebased: {result.base_label} = 100",
+    ws.freeze("B8")  # title, blank, 4 lines about each index, header
+    ws.append([_cell(f"Deflator indexes as used, rebased: {result.base_label} = 100",
                        font=_BOLD)])
-    _append(ws, [])
+    ws.append([])
     if not used:
-        _append(ws, ["The result does not carry its deflators."])
+        ws.append(["The result does not carry its deflators."])
         return
     meta = [("vintage", lambda s: s.vintage or "not stated"),
             ("source", lambda s: s.source or ""),
             ("original frequency", lambda s: s.frequency.describe()),
             ("unit", lambda s: s.unit or "")]
     for label, get in meta:
-        row: list[Any] = [_Cell(label, font=_BOLD)]
+        row: list[Any] = [_cell(label, font=_BOLD)]
         for s in used:
             row += [get(s), None]
-        _append(ws, row)
+        ws.append(row)
     header: list[Any] = ["period"]
     for s in used:
         header += [f"{s.name} ({result.base_label} = 100)", f"{s.name} status"]
-    _append(ws, header, font=_BOLD)
+    ws.append(header, style=_BOLD)
     # one row per period of any deflator, in time order, at each deflator's own frequency
     rows: dict[tuple[Any, Any], dict[int, tuple[float, str]]] = {}
     names: dict[tuple[Any, Any], str] = {}
@@ -358,35 +326,38 @@ def _indexes(ws: Any, result: Any) -> None:
     for key in sorted(rows):
         row = [names[key]] + [None] * (2 * len(used))
         for k, (v, flag) in rows[key].items():
-            row[1 + 2 * k] = _Cell(float(v), fmt=_INDEX)
+            row[1 + 2 * k] = _cell(float(v), fmt=_INDEX)
             row[2 + 2 * k] = _flagged(str(flag))
-        _append(ws, row)
+        ws.append(row)
 
 
 def _flags(ws: Any, result: Any, table: Any) -> None:
     _widths(ws, {1: 30, 2: 30, 3: 16, 4: 16, 5: 16, 6: 14})
-    _append(ws, [_Cell("Figures resting on index values that are not final", font=_BOLD)])
-    _append(ws, ["Preliminary index values will be revised; projected values are "
+    ws.append([_cell("Figures resting on index values that are not final", font=_BOLD)])
+    ws.append(["Preliminary index values will be revised; projected values are "
                  "assumptions. Interpolated: the index was interpolated to the series' "
                  "periods."])
-    _append(ws, [])
-    _append(ws, [_Cell("Deflator stretches", font=_BOLD)])
-    _append(ws, ["deflator", "vintage", "preliminary from", "preliminary to",
-                 "projected from", "projected to"], font=_BOLD)
+    ws.append([])
+    ws.append([_cell("Deflator stretches", font=_BOLD)])
+    ws.append(["deflator", "vintage", "preliminary from", "preliminary to",
+                 "projected from", "projected to"], style=_BOLD)
     for s in result.deflators_used:
         st = s.stretches()
         pre, pro = st.get("preliminary"), st.get("projected")
-        _append(ws, [s.name, s.vintage or "not stated", *(pre or ("", "")),
+        ws.append([s.name, s.vintage or "not stated", *(pre or ("", "")),
                      *(pro or ("", ""))])
-    _append(ws, [])
-    _append(ws, [_Cell("Real values flagged", font=_BOLD)])
-    _append(ws, ["series", "deflator", "period", "real", "status", "interpolated"], font=_BOLD)
+    ws.append([])
+    ws.append([_cell("Real values flagged", font=_BOLD)])
+    ws.append(["series", "deflator", "period", "real", "status", "interpolated"], style=_BOLD)
     flagged = table[(table["status"] != "final") | table["interpolated"]]
     if flagged.empty:
-        _append(ws, ["None: every figure rests on final index values."])
-    for rec in flagged.itertuples(index=False):
-        _append(ws, [rec.series, rec.deflator, rec.period, _Cell(rec.real, fmt=_MONEY),
-                     _flagged(rec.status), "yes" if rec.interpolated else ""])
+        ws.append(["None: every figure rests on final index values."])
+        return
+    ws.append_columns([flagged["series"].to_numpy(), flagged["deflator"].to_numpy(),
+                       flagged["period"].to_numpy(), flagged["real"].to_numpy(dtype=float),
+                       flagged["status"].to_numpy(),
+                       np.where(flagged["interpolated"].to_numpy(dtype=bool), "yes", None)],
+                      fmts=[None, None, None, _MONEY], looks=[None] * 4 + [_STATUS_LOOKS])
 
 
 _KNOWN = {"title", "command", "seasonal", "sources", "files", "workspace", "audit", "notes",
@@ -394,18 +365,17 @@ _KNOWN = {"title", "command", "seasonal", "sources", "files", "workspace", "audi
 
 
 def _frame_rows(ws: Any, frame: Any, fmts: Mapping[str, str]) -> None:
-    _append(ws, list(frame.columns), font=_BOLD)
-    for rec in frame.itertuples(index=False):
-        _append(ws, [_flagged(v) if c == "status" else v for c, v in
-                     zip(frame.columns, rec, strict=True)],
-                fmts=[fmts.get(c) for c in frame.columns])
+    ws.append_columns([frame[c].to_numpy() for c in frame.columns],
+                      header=[str(c) for c in frame.columns],
+                      fmts=[fmts.get(c) for c in frame.columns],
+                      looks=[_STATUS_LOOKS if c == "status" else None for c in frame.columns])
 
 
 def _bands(ws: Any, bands: Sequence[Any]) -> None:
     _widths(ws, {1: 26, 2: 14, 3: 14, 4: 14, 5: 14, 6: 14, 7: 16, 8: 16, 9: 16, 10: 14})
-    _append(ws, [_Cell("Revision risk of figures resting on preliminary index values",
+    ws.append([_cell("Revision risk of figures resting on preliminary index values",
                        font=_TITLE)])
-    _append(ws, ["The range the index's own past revisions imply: an empirical quantile "
+    ws.append(["The range the index's own past revisions imply: an empirical quantile "
                  "band, not a forecast. Preliminary values will be revised."])
     pct = "0.000"
     fmts = {"value": _INDEX, "low": _INDEX, "high": _INDEX, "final": _INDEX,
@@ -414,35 +384,35 @@ def _bands(ws: Any, bands: Sequence[Any]) -> None:
             "real_low": _MONEY, "real_high": _MONEY, "growth_pct": pct,
             "growth_low_pct": pct, "growth_high_pct": pct}
     for b in bands:
-        _append(ws, [])
-        _append(ws, [_Cell(f"{b.name} (vintage {b.current or 'not stated'})", font=_BOLD)])
+        ws.append([])
+        ws.append([_cell(f"{b.name} (vintage {b.current or 'not stated'})", font=_BOLD)])
         if not b.available:
             for w in b.warnings:
-                _append(ws, [w.code, _Cell(w.render().replace("\n", "; "), wrap=True)])
+                ws.append([w.code, _cell(w.render().replace("\n", "; "), wrap=True)])
         for line in b.statements:
-            _append(ws, ["", _Cell(line, wrap=True)])
+            ws.append(["", _cell(line, wrap=True)])
         if not b.real_band.empty:
-            _append(ws, [])
-            _append(ws, [_Cell(f"Real values and real growth (year on year), constant "
+            ws.append([])
+            ws.append([_cell(f"Real values and real growth (year on year), constant "
                                f"{b.base} dollars", font=_BOLD)])
             _frame_rows(ws, b.real_band, fmts)
         if b.available:
-            _append(ws, [])
-            _append(ws, [_Cell("Index values: current and the band", font=_BOLD)])
+            ws.append([])
+            ws.append([_cell("Index values: current and the band", font=_BOLD)])
             _frame_rows(ws, b.index_band, fmts)
-        _append(ws, [])
-        _append(ws, [_Cell("Past revisions by age (months since first release), percent",
+        ws.append([])
+        ws.append([_cell("Past revisions by age (months since first release), percent",
                            font=_BOLD)])
         if b.history.by_age.empty:
-            _append(ws, ["None measured."])
+            ws.append(["None measured."])
         else:
             _frame_rows(ws, b.history.by_age, fmts)
-        _append(ws, [])
-        _append(ws, [_Cell("Method", font=_BOLD)])
+        ws.append([])
+        ws.append([_cell("Method", font=_BOLD)])
         for line in b.method_note():
-            _append(ws, ["", _Cell(line, wrap=True)])
+            ws.append(["", _cell(line, wrap=True)])
         for w in b.warnings if b.available else ():
-            _append(ws, [w.code, _Cell(w.render().replace("\n", "; "), wrap=True)])
+            ws.append([w.code, _cell(w.render().replace("\n", "; "), wrap=True)])
 
 
 def _seasonal_lines(result: Any) -> list[str]:
@@ -453,8 +423,8 @@ def _seasonal_lines(result: Any) -> list[str]:
 
 def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
     _widths(ws, {1: 28, 2: 110})
-    _append(ws, [_Cell("Method", font=_TITLE)])
-    _append(ws, [])
+    ws.append([_cell("Method", font=_TITLE)])
+    ws.append([])
     sections: list[tuple[str, list[str]]] = [
         ("Base period", [f"{result.base_label}: every deflator is rebased so that its "
                          f"average over {result.base_label} is 100; real = nominal x 100 / "
@@ -484,9 +454,9 @@ def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
         if not lines:
             continue
         for i, line in enumerate(lines):
-            _append(ws, [_Cell(heading, font=_BOLD) if i == 0 else None,
-                         _Cell(line, wrap=True)])
-        _append(ws, [])
+            ws.append([_cell(heading, font=_BOLD) if i == 0 else None,
+                         _cell(line, wrap=True)])
+        ws.append([])
 
 
 def _all_warnings(result: Any, context: Mapping[str, Any]) -> list[Any]:
@@ -498,11 +468,11 @@ def _all_warnings(result: Any, context: Mapping[str, Any]) -> list[Any]:
 
 
 def _audit(ws: Any, events: Sequence[Any]) -> None:
-    ws.freeze_panes = "A2"
+    ws.freeze("A2")
     _widths(ws, {1: 26, 2: 18, 3: 12, 4: 9, 5: 90})
-    _append(ws, ["time (UTC)", "who", "event", "version", "what"], font=_BOLD)
+    ws.append(["time (UTC)", "who", "event", "version", "what"], style=_BOLD)
     for e in events:
-        _append(ws, [e.at.isoformat(timespec="seconds"), e.actor, e.event,
+        ws.append([e.at.isoformat(timespec="seconds"), e.actor, e.event,
                      e.version if e.version is not None else "", e.describe(limit=4000)])
 
 
@@ -530,17 +500,17 @@ def write_budget_sheet(wb: Any, table: Any, title: str = SHEET_BUDGET) -> Any:
     out-years shaded as projected, cautions underneath."""
     ws = wb.create_sheet(title)
     years = list(table.years)
-    ws.freeze_panes = "C6"
+    ws.freeze("C6")
     _widths(ws, {1: 30, 2: 34, **{c: 14 for c in range(3, 4 + len(years))}})
-    _append(ws, [_Cell(table.title, font=_TITLE)])
-    _append(ws, [f"Amounts in {table.unit or 'the programs’ own units'}; constant dollars "
+    ws.append([_cell(table.title, font=_TITLE)])
+    ws.append([f"Amounts in {table.unit or 'the programs’ own units'}; constant dollars "
                  f"of {table.base}; deflator {table.deflator}; given in "
                  f"{table.given} dollars."])
-    _append(ws, [])
+    ws.append([])
     span_col = f"compound annual growth {table.span_label}"
-    _append(ws, ["", ""] + [_Cell("projected", fill=_FLAG_FILL["projected"])
+    ws.append(["", ""] + [_cell("projected", fill=_FLAG_FILL["projected"])
                             if y in table.out_years else "" for y in years] + [""])
-    _append(ws, ["program", "measure", *years, span_col], font=_BOLD)
+    ws.append(["program", "measure", *years, span_col], style=_BOLD)
     for rec in table.layout().to_dict("records"):
         measure = rec["measure"]
         row: list[Any] = [rec["program"], measure]
@@ -549,57 +519,49 @@ def write_budget_sheet(wb: Any, table: Any, title: str = SHEET_BUDGET) -> Any:
             if measure == "status":
                 row.append(_flagged(str(v)) if v else "")
             elif measure.startswith("real growth"):
-                row.append(_Cell(v, fmt=_PCT))
+                row.append(_cell(v, fmt=_PCT))
             else:
                 fill = (_FLAG_FILL["projected"] if table.status.at[rec["program"], y]
                         == "projected" else None)
-                row.append(_Cell(v, fmt=_MONEY, fill=fill))
+                row.append(_cell(v, fmt=_MONEY, fill=fill))
         whole = rec[span_col]
-        row.append(_Cell(whole, fmt=_PCT) if whole is not None else None)
-        _append(ws, row, font=_BOLD if rec["program"] == "Total" and measure != "status"
+        row.append(_cell(whole, fmt=_PCT) if whole is not None else None)
+        ws.append(row, style=_BOLD if rec["program"] == "Total" and measure != "status"
                 else None)
-    _append(ws, [])
-    _append(ws, [_Cell("Cautions", font=_BOLD)])
+    ws.append([])
+    ws.append([_cell("Cautions", font=_BOLD)])
     for line in CAUTIONS:
-        _append(ws, ["• " + line])
+        ws.append(["• " + line])
     return ws
 
 
 def write_budget_workbook(tables: Sequence[Any], path: str | Path, **context: Any) -> Path:
     """A workbook of budget tables: one Budget sheet per table and a Method sheet (the
     tables' method notes, warnings, cautions, how the file was made)."""
-    path = Path(path)
-    wb = Workbook(write_only=True)
     taken = {SHEET_METHOD.lower()}
-    _budget_sheets(wb, list(tables), taken)
-    ws = wb.create_sheet(SHEET_METHOD)
-    _widths(ws, {1: 28, 2: 110})
-    _append(ws, [_Cell("Method", font=_TITLE)])
-    _append(ws, [])
-    for t in tables:
-        for i, line in enumerate(t.method_note()):
-            _append(ws, [_Cell(t.deflator, font=_BOLD) if i == 0 else None,
-                         _Cell(line, wrap=True)])
-        for p in t.warnings:
-            _append(ws, [p.code, _Cell(p.render().replace("\n", "; "), wrap=True)])
-        _append(ws, [])
-    for i, line in enumerate(CAUTIONS):
-        _append(ws, [_Cell("Cautions", font=_BOLD) if i == 0 else None, line])
-    _append(ws, [])
-    made = [f"realbasis {__version__}", *(f"{k}: {v}" for k, v in context.items()
-                                          if v is not None)]
-    for i, line in enumerate(made):
-        _append(ws, [_Cell("How this file was made", font=_BOLD) if i == 0 else None, line])
-    tmp = path.with_name(path.name + ".part")
-    try:
-        wb.save(tmp)
-        tmp.replace(path)
-    except OSError as err:
-        tmp.unlink(missing_ok=True)
-        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
-                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
-                   fix="Check that the folder exists and that you may write there.") from None
-    return path
+
+    def build(wb: Book) -> None:
+        _budget_sheets(wb, list(tables), taken)
+        ws = wb.create_sheet(SHEET_METHOD)
+        _widths(ws, {1: 28, 2: 110})
+        ws.append([_cell("Method", font=_TITLE)])
+        ws.append([])
+        for t in tables:
+            for i, line in enumerate(t.method_note()):
+                ws.append([_cell(t.deflator, font=_BOLD) if i == 0 else None,
+                             _cell(line, wrap=True)])
+            for p in t.warnings:
+                ws.append([p.code, _cell(p.render().replace("\n", "; "), wrap=True)])
+            ws.append([])
+        for i, line in enumerate(CAUTIONS):
+            ws.append([_cell("Cautions", font=_BOLD) if i == 0 else None, line])
+        ws.append([])
+        made = [f"realbasis {__version__}", *(f"{k}: {v}" for k, v in context.items()
+                                              if v is not None)]
+        for i, line in enumerate(made):
+            ws.append([_cell("How this file was made", font=_BOLD) if i == 0 else None, line])
+
+    return write_book(path, build)
 
 
 # --------------------------------------------------------------------------- workspaces
@@ -707,7 +669,79 @@ def workspace_result(ws: Any, *, base: str | None = None,
     freq = _frequency(to if to is not None else settings.get("frequency", "auto"), money, defl)
     from .fiscal import fiscal_start_of
 
-    return deflate(money, defl, base, to=freq, fy_start=fiscal_start_of(ws)), used, notes
+    fy = fiscal_start_of(ws)
+    interp = bool(settings.get("interpolate"))
+    rates = saved_rates(ws, chosen)
+    if rates:
+        result = _authority_result([ws.series[n] for n in chosen], defl, base, rates, freq,
+                                   fy, interp, notes)
+        if result is not None:
+            for name in [n for n in used if n not in result.deflator_names]:
+                used.pop(name)
+            return result, used, notes
+    return deflate(money, defl, base, to=freq, fy_start=fy, interpolate=interp), used, notes
+
+
+def saved_rates(ws: Any, names: Sequence[str]) -> dict[str, Any]:
+    """The outlay rates saved for any of ``names`` (series name -> OutlayRates;
+    :data:`pipeline.outlay.SETTING`)."""
+    from .outlay import SETTING, rates_by_series
+
+    return {n: r for n, r in rates_by_series((ws.settings or {}).get(SETTING)).items()
+            if n in names}
+
+
+def _authority_result(money: list[Any], defl: list[Any], base: str, rates: Mapping[str, Any],
+                      freq: Any, fy: int | None, interp: bool, notes: list[str]) -> Any:
+    """The series with saved outlay rates deflated as budget authority
+    (:func:`pipeline.outlay.deflate_authority`): a deflator that cannot reach the outlay
+    years even of the base is left out, the years whose outlays the others do not reach
+    are cut (both noted); None when the results are not by year (noted: rates are shares
+    per year)."""
+    from .outlay import cut_to_reach, deflate_authority
+
+    years = freq if freq is not None else (
+        money[0].frequency if len({m.frequency for m in money}) == 1 else None)
+    # ``money`` is the series as held (not yet cut to the deflators' span)
+    if years is None or years.code not in ("A", "FY"):
+        notes.append("Outlay rates saved for " + ", ".join(repr(n) for n in rates)
+                     + " are not used: the results are "
+                     + (years.describe() if years is not None else "not by year")
+                     + ", and outlay rates are shares per year.")
+        return None
+    from .outlay import DF022
+
+    rated = [s for s in money if s.name in rates]
+    kept, first_error = [], None
+    for d in defl:  # a deflator that cannot reach the outlay years is left out, and named
+        trial = [cut_to_reach(_trim(s, [d])[0], [d], rates[s.name], years)[0]
+                 for s in rated]
+        try:
+            deflate_authority(trial, [d], base, dict(rates), to=freq, fy_start=fy,
+                              interpolate=interp)
+        except RealbasisError as err:
+            gap = next((p for p in err.problems if p.code == DF022), None)
+            if gap is None:
+                raise
+            first_error = first_error or err
+            notes.append(f"{d.name} is left out: {gap.message} ({gap.found}).")
+            continue
+        kept.append(d)
+    if not kept:
+        raise first_error  # type: ignore[misc]
+    # cut to what the deflators kept cover (the notes on cutting are made again for them)
+    notes[:] = [n for n in notes if "the periods every chosen deflator covers" not in n]
+    money = list(money)
+    for i, s in enumerate(money):
+        money[i], note = _trim(s, kept)
+        if note:
+            notes.append(note)
+        if s.name in rates:
+            money[i], note = cut_to_reach(money[i], kept, rates[s.name], years)
+            if note:
+                notes.append(note)
+    return deflate_authority(money, kept, base, dict(rates), to=freq, fy_start=fy,
+                             interpolate=interp)
 
 
 def workspace_bands(ws: Any, result: Any, used: Mapping[str, str]) -> tuple[Any, ...]:
@@ -737,7 +771,10 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
     """Write a workspace's result (.xlsx audit workbook, .csv or .json) the same way the
     command line does, with the workspace, its audit trail and index vintages recorded.
     When the workspace's settings hold a total of parts (:func:`saved_total`), the
-    workbook also gets its Contributions sheets (:func:`write_contributions_sheets`).
+    workbook also gets its Contributions sheets (:func:`write_contributions_sheets`);
+    when they hold a budget table (:func:`saved_budget`), the workbook gets its Budget
+    sheet and the JSON its ``budget`` (:func:`workspace_budget`). Series with saved
+    outlay rates are deflated as budget authority (:func:`workspace_result`).
     With a ``store`` and editor access, the export is noted in the audit trail."""
     from .export import write_result
     from .store import current_access
@@ -745,6 +782,16 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
     result, used, notes = workspace_result(ws, base=base, deflators=deflators, series=series,
                                            to=to)
     total = None
+    budget = None
+    if Path(path).suffix.lower() != ".csv" and saved_budget(ws) is not None:
+        try:
+            budget, budget_used, budget_notes = workspace_budget(ws)
+        except RealbasisError as err:  # the rest of the export stands; the file says why
+            notes.append(f"No budget table: {err.problems[0].message} "
+                         f"({err.problems[0].code}).")
+        else:
+            used.update({k: v for k, v in budget_used.items() if k not in used})
+            notes += [n for n in budget_notes if n not in notes]
     if Path(path).suffix.lower() == ".xlsx" and saved_total(ws) is not None:
         total, total_used, total_notes = workspace_total(ws, base=base, to=to)
         used.update({k: v for k, v in total_used.items() if k not in used})
@@ -761,11 +808,13 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
         "audit": events or None,
         "total": total,
         "bands": bands or None,
+        "budget": budget,
     }
     if Path(path).suffix.lower() != ".xlsx":
         context = {"workspace": context["workspace"], "command": context["command"],
                    "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items()),
-                   "bands": bands or None}
+                   "notes": "; ".join(notes) if notes else None,
+                   "bands": bands or None, "budget": budget}
     out = write_result(result, path, **{k: v for k, v in context.items() if v is not None})
     if store is not None and not current_access().read_only:
         store.record_use(ws.id, used, purpose=f"export {Path(path).name}", actor=actor)
@@ -800,33 +849,32 @@ def write_contributions_sheets(wb: Any, total: Any, taken: set[str] | None = Non
                        found=str(len(table)),
                        fix="Export CSV or JSON instead, or total fewer parts at a time.")
         ws = wb.create_sheet(sheet_title(name, taken))
-        ws.freeze_panes = f"A{_HEADER_ROW + 1}"
+        ws.freeze(f"A{_HEADER_ROW + 1}")
         _widths(ws, {1: 12, 2: 34, 3: 18, 4: 18, 5: 16, 6: 16, 7: 13})
-        _append(ws, [_Cell(f"Contributions to real growth ({BASIS_WORDS[basis]}), in "
+        ws.append([_cell(f"Contributions to real growth ({BASIS_WORDS[basis]}), in "
                            f"{total.dollars_label}", font=_BOLD)])
-        _append(ws, [f"Total: {total.chain_words}. Each part deflated by its own deflator; "
+        ws.append([f"Total: {total.chain_words}. Each part deflated by its own deflator; "
                      "residual = total - sum of the parts' real values."])
-        _append(ws, [])
-        _append(ws, [*table.columns], font=_BOLD)
-        fmts = [None, None, _MONEY, _MONEY, _PCT, _PCT]
-        cols = [table[c].to_numpy() for c in table.columns]
-        for row in zip(*cols, strict=True):
-            _append(ws, [*row[:6], _flagged(str(row[6]))], fmts=fmts)
-        _append(ws, [])
+        ws.append([])
+        ws.append_columns([table[c].to_numpy() for c in table.columns],
+                          header=[str(c) for c in table.columns],
+                          fmts=[None, None, _MONEY, _MONEY, _PCT, _PCT],
+                          looks=[None] * 6 + [_STATUS_LOOKS])
+        ws.append([])
         for line in ("Contributions are in percentage points and add up to the total's "
                      "real growth (in percent) in every period.",
                      "Real growth and contributions are empty where there is no earlier "
                      "period to compare with; the total and residual have no contribution.",
                      *(["Some figures rest on preliminary or projected index values (column "
                         "status)."] if total.worst_status != "final" else [])):
-            _append(ws, [line])
+            ws.append([line])
 
 
 def _total_summary(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
     _widths(ws, {1: 30, 2: 30, 3: 8, 4: 14, 5: 12, 6: 12, 7: 16, 8: 16, 9: 12, 10: 13})
     title = context.get("title") or f"Total of parts in {total.dollars_label}"
-    _append(ws, [_Cell(str(title), font=_TITLE)])
-    _append(ws, [])
+    ws.append([_cell(str(title), font=_TITLE)])
+    ws.append([])
     labels = total.period_labels
     made_at = context.get("generated_at") or dt.datetime.now(dt.UTC)
     facts = [
@@ -840,10 +888,10 @@ def _total_summary(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
         ("Made at", made_at.isoformat(timespec="seconds")),
     ]
     for label, value in facts:
-        _append(ws, [_Cell(label, font=_BOLD), str(value)])
-    _append(ws, [])
-    _append(ws, ["Component", "Deflator", "Kind", "Unit", "First period", "Last period",
-                 "Real, first", "Real, last", "Real change", "Worst status"], font=_BOLD)
+        ws.append([_cell(label, font=_BOLD), str(value)])
+    ws.append([])
+    ws.append(["Component", "Deflator", "Kind", "Unit", "First period", "Last period",
+                 "Real, first", "Real, last", "Real change", "Worst status"], style=_BOLD)
     vintages = {s.name: s.vintage for s in total.deflators_used}
     last = len(labels) - 1
     rows = [(name, f"{d} (vintage {vintages.get(d) or 'not stated'})",
@@ -855,19 +903,19 @@ def _total_summary(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
             break
         r0, r1 = float(real[0]), float(real[last])
         change = (r1 / r0 - 1.0) if r0 and np.isfinite(r0) and np.isfinite(r1) else None
-        _append(ws, [name, defl, total.kind, total.unit or "", labels[0], labels[last], r0, r1,
+        ws.append([name, defl, total.kind, total.unit or "", labels[0], labels[last], r0, r1,
                      change, _flagged(_status_name(np.max(status)))],
                 fmts=[None] * 6 + [_MONEY, _MONEY, "0.00%", None])
-    _append(ws, [])
-    _append(ws, [_Cell("Cautions", font=_BOLD)])
+    ws.append([])
+    ws.append([_cell("Cautions", font=_BOLD)])
     for line in context.get("cautions") or CAUTIONS:
-        _append(ws, ["• " + str(line)])
+        ws.append(["• " + str(line)])
 
 
 def _total_method(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
     _widths(ws, {1: 28, 2: 110})
-    _append(ws, [_Cell("Method", font=_TITLE)])
-    _append(ws, [])
+    ws.append([_cell("Method", font=_TITLE)])
+    ws.append([])
     sections: list[tuple[str, list[str]]] = [
         ("Base period", [f"{total.base_label}: every deflator is rebased so that its "
                          f"average over {total.base_label} is 100; each part's real value "
@@ -887,10 +935,10 @@ def _total_method(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
     ]
     for heading, lines in sections:
         for i, line in enumerate(lines):
-            _append(ws, [_Cell(heading, font=_BOLD) if i == 0 else None,
-                         _Cell(line, wrap=True)])
+            ws.append([_cell(heading, font=_BOLD) if i == 0 else None,
+                         _cell(line, wrap=True)])
         if lines:
-            _append(ws, [])
+            ws.append([])
 
 
 def write_total_workbook(total: Any, path: str | Path, **context: Any) -> Path:
@@ -898,24 +946,15 @@ def write_total_workbook(total: Any, path: str | Path, **context: Any) -> Path:
     its year-on-year and annual versions), Indexes used, Method. ``context`` as for
     :func:`write_workbook` (``title``, ``command``, ``files``/``sources``, ``notes``,
     ``cautions``, ``generated_at``; others are listed on the method sheet)."""
-    path = Path(path)
-    wb = Workbook(write_only=True)
     taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_INDEXES, SHEET_METHOD)}
-    _total_summary(wb.create_sheet(SHEET_SUMMARY), total, context)
-    write_contributions_sheets(wb, total, taken)
-    _indexes(wb.create_sheet(SHEET_INDEXES), total)
-    _total_method(wb.create_sheet(SHEET_METHOD), total, context)
-    tmp = path.with_name(path.name + ".part")
-    try:
-        wb.save(tmp)
-        tmp.replace(path)
-    except OSError as err:
-        tmp.unlink(missing_ok=True)
-        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
-                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
-                   fix="Check that the folder exists, that you may write there, and that "
-                       "no spreadsheet program holds the file open.") from None
-    return path
+
+    def build(wb: Book) -> None:
+        _total_summary(wb.create_sheet(SHEET_SUMMARY), total, context)
+        write_contributions_sheets(wb, total, taken)
+        _indexes(wb.create_sheet(SHEET_INDEXES), total)
+        _total_method(wb.create_sheet(SHEET_METHOD), total, context)
+
+    return write_book(path, build)
 
 
 def saved_total(ws: Any) -> dict[str, Any] | None:
@@ -986,3 +1025,105 @@ def workspace_total(ws: Any, *, base: str | None = None,
     total = total_of_parts(parts, list(defl.values()), pairs, base, chain=chain,  # type: ignore[arg-type]
                            to=freq)
     return total, used, notes
+
+
+# --------------------------------------------------------------------------- budget tables
+
+BUDGET_SETTING = "budget"
+"""Key of the saved budget-table choices in ``Workspace.settings``: ``{"programs": [...],
+"deflator": name, "base": label, "given": "then-year" | "constant", "frequency": choice,
+"interpolate": bool}``."""
+
+
+def saved_budget(ws: Any) -> dict[str, Any] | None:
+    """The budget-table choices a workspace's settings hold (:data:`BUDGET_SETTING`), or
+    None when no programs are saved."""
+    spec = (ws.settings or {}).get(BUDGET_SETTING)
+    if not isinstance(spec, Mapping) or not spec.get("programs"):
+        return None
+    return {"programs": [str(p) for p in spec["programs"]],
+            "deflator": str(spec["deflator"]) if spec.get("deflator") else None,
+            "base": str(spec.get("base") or ""),
+            "given": "constant" if spec.get("given") == "constant" else "then-year",
+            "frequency": str(spec.get("frequency") or "auto"),
+            "interpolate": bool(spec.get("interpolate"))}
+
+
+def workspace_budget(ws: Any, *, programs: Sequence[str] | None = None,
+                     deflator: str | None = None, base: str | None = None,
+                     given: str | None = None, to: Any = None,
+                     interpolate: bool | None = None) -> tuple[Any, dict[str, str], list[str]]:
+    """The budget table of a stored workspace (:func:`pipeline.budget.budget_table`).
+
+    Choices as given, else the saved ones (:func:`saved_budget`), else the workspace's
+    saved deflator and base; fiscal labels read with the workspace's fiscal year; the
+    deflator at its saved vintage or its latest; each program's saved outlay rates used
+    (:func:`pipeline.outlay.deflate_authority`). Each program is cut to the periods the
+    deflator covers and, with outlay rates, to the years whose outlays it reaches; the
+    notes say so and end up in the table's method note. Returns the table, the index
+    vintage used and the notes."""
+    import dataclasses
+
+    from .budget import budget_table, budget_years
+    from .compare import result_frequency, trim_to_cover
+    from .fiscal import fiscal_start_of
+    from .outlay import cut_to_reach
+
+    settings = dict(ws.settings or {})
+    spec = saved_budget(ws) or {}
+    names = [n for n in (programs if programs is not None else spec.get("programs") or [])
+             if n in ws.series]
+    dname = deflator or spec.get("deflator") or settings.get("deflator")
+    base = (base or spec.get("base") or str(settings.get("base") or "")).strip()
+    given = given or spec.get("given") or "then-year"
+    interp = bool(spec.get("interpolate")) if interpolate is None else bool(interpolate)
+    if not names or not base or dname not in ws.indexes:
+        raise fail(EX102, "the budget table needs " + ", ".join(
+                   w for w, ok in (("programs", names), ("a base period", base),
+                                   ("a deflator", dname in ws.indexes)) if not ok),
+                   expected="programs, a deflator and a base year",
+                   found=f"{len(names)} program(s); base {base or 'none'}; deflator "
+                         f"{dname or 'none'}",
+                   fix="Choose the programs, the deflator and the base year of the budget "
+                       "table.", remedy="export_choices")
+    saved_vintages = settings.get("vintages") if isinstance(settings.get("vintages"), dict) else {}
+    vins = ws.indexes[dname]
+    key = str(saved_vintages.get(dname)) if saved_vintages.get(dname) in vins else _latest(vins)
+    d = vins[key]
+    fy = fiscal_start_of(ws)
+    money = [ws.series[n] for n in names]
+    code = to if to is not None else spec.get("frequency") or "auto"
+    years = (code if not isinstance(code, str) else
+             None if code in ("auto", "native") else
+             result_frequency(code, money[0], [d], fy_start=fy))
+    years_used = budget_years(money, years, fy)
+    rates = saved_rates(ws, names)
+    notes: list[str] = []
+    cut = []
+    for s in money:
+        s, note = trim_to_cover(s, [d])
+        if note:
+            notes.append(note)
+        if s.name in rates:
+            s, note = cut_to_reach(s, [d], rates[s.name], years_used)
+            if note:
+                notes.append(note)
+        cut.append(s)
+    table = budget_table(cut, d, base, fy_start=fy, to=years, outlay_rates=rates or None,
+                         given="constant" if given == "constant" else "then-year",
+                         interpolate=interp)
+    from .fiscal import workspace_fiscal_year
+
+    fiscal = workspace_fiscal_year(ws)
+    extra = [*notes, *(fiscal.method_note() if fiscal.known else ())]
+    # programs in the order chosen (outlay-weighted ones come first from the engine)
+    rows = [n for n in names if n in table.then_year.index]
+    rows += [r for r in table.then_year.index if r not in rows]
+    table = dataclasses.replace(
+        table, programs=tuple(n for n in names if n in table.programs),
+        then_year=table.then_year.reindex(rows), constant=table.constant.reindex(rows),
+        deflator_index=table.deflator_index.reindex(rows), status=table.status.reindex(rows),
+        real_growth=table.real_growth.reindex(rows),
+        nominal_cagr=table.nominal_cagr.reindex(rows), real_cagr=table.real_cagr.reindex(rows),
+        method=(*table.method, *extra))
+    return table, {dname: key}, notes

@@ -129,10 +129,23 @@ def _choose(page: Any, dropdown_id: str, values: list[str], *, multi: bool = Fal
     content.wait_for(state="detached")
 
 
+def _quiet(page: Any, timeout: float = 120_000) -> None:
+    """Wait until no Dash callback is loading (twice, a moment apart: callbacks come in
+    chains), so a screenshot is not taken while every screen recomputes."""
+    for _ in range(2):
+        page.wait_for_load_state("networkidle")
+        page.wait_for_function("document.querySelectorAll('[data-dash-is-loading=\"true\"]')"
+                               ".length === 0", timeout=timeout)
+        page.wait_for_timeout(400)
+
+
 def _shot(page: Any, folder: Path, name: str) -> None:
-    page.wait_for_load_state("networkidle")
-    page.wait_for_timeout(400)
-    page.screenshot(path=str(folder / f"dashboard-{name}.png"), full_page=True)
+    # A full-page screenshot waits for a fresh frame; on a loaded machine, while the
+    # callbacks of every screen answer a workspace change, that can take longer than
+    # playwright's 30 s default (timing here is never asserted).
+    _quiet(page)
+    page.screenshot(path=str(folder / f"dashboard-{name}.png"), full_page=True,
+                    timeout=120_000)
 
 
 def test_upload_deflate_and_compare_in_a_real_browser(server: str, browser: Any,
@@ -249,7 +262,7 @@ def test_controls_are_reachable_by_keyboard(server: str, browser: Any):
     page.keyboard.press("Enter")
     page.wait_for_selector("#rb-screen-real:not([hidden])")
     seen = []
-    for _ in range(6):
+    for _ in range(9):  # the other screens' buttons, series, deflator, its switch, base
         page.keyboard.press("Tab")
         seen.append(page.evaluate("document.activeElement.id || "
                                   "document.activeElement.closest('[id]').id"))
@@ -271,7 +284,7 @@ def test_background_adjustment_of_every_series(server: str, browser: Any, output
     page.goto(server)
     page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
     page.click("#rb-nav-real")
-    page.click("#rb-screen-real details summary")
+    page.click("#rb-screen-real details:has(#rt-sa-all) > summary")
     page.click("#rt-sa-all")
     page.wait_for_function("document.querySelector('#rt-sa-message').innerText.includes("
                            "'seasonally adjusted series')", timeout=120_000)

@@ -45,7 +45,9 @@ def _engine_texts() -> list[tuple[str, int, str]]:
     """Every literal text passed as message/expected/found/fix to fail, warn or Problem in
     the engine (pipeline/, not its command line)."""
     out = []
-    for path in sorted((ROOT / "pipeline").glob("*.py")):
+    for path in sorted((ROOT / "pipeline").rglob("*.py")):
+        if "commands" in path.parts:
+            continue
         tree = ast.parse(path.read_text(encoding="utf-8"))
         for node in ast.walk(tree):
             if not isinstance(node, ast.Call):
@@ -133,3 +135,33 @@ def test_part_pairs_fix_on_each_face(monkeypatch):
         assert all("Each part's deflator" in d["fix"] for d in shown)
         assert not OPTION.search(str(shown))
         assert not OPTION.search(err.render()) and "Real terms" not in err.render()
+
+
+def _dashboard_texts() -> list[tuple[str, int, str]]:
+    """Every literal text the dashboard itself puts in a problem (fail/warn/Problem in
+    dashboard/) and every notice it builds from literals (notice(...), the screens' own
+    words on the page)."""
+    out = []
+    for path in sorted((ROOT / "dashboard").rglob("*.py")):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        for node in ast.walk(tree):
+            if not isinstance(node, ast.Call):
+                continue
+            name = getattr(node.func, "id", getattr(node.func, "attr", ""))
+            if name not in ("fail", "warn", "Problem", "notice"):
+                continue
+            args = [*node.args[:5], *(k.value for k in node.keywords
+                                     if k.arg in ("expected", "found", "fix"))]
+            for arg in args:
+                for sub in ast.walk(arg):
+                    if isinstance(sub, ast.Constant) and isinstance(sub.value, str):
+                        out.append((str(path.relative_to(ROOT)), sub.lineno, sub.value))
+    return out
+
+
+def test_dashboard_messages_name_no_command_line_option_or_python_argument():
+    texts = _dashboard_texts()
+    assert len(texts) > 40  # the walk really sees the dashboard's own messages
+    bad = [(f, n, t) for f, n, t in texts
+           if OPTION.search(t) or PY_ARG.search(t) or "fy_start" in t or "bare=" in t]
+    assert not bad, bad

@@ -1,14 +1,20 @@
 """``realbasis deflate``: money series into constant dollars of a base period.
 
-    realbasis deflate SERIES_FILE --index INDEX_FILE [--index INDEX_FILE ...] --base PERIOD
-                      [--to M|Q|A|FY] [--fiscal-start 1-12] [--kind flow|stock] [--out PATH]
+    realbasis deflate SERIES_FILE [--sheet NAME] --index INDEX_FILE [--index-sheet NAME]
+                      [--index INDEX_FILE [--index-sheet NAME] ...] --base PERIOD
+                      [--to M|Q|A|FY] [--fiscal-start 1-12] [--kind flow|stock]
+                      [--kind NAME=flow|stock|index ...] [--marker LETTER=STATUS ...]
+                      [--daily-to-months] [--out PATH]
                       [--sa none|stl|stl-robust|x13|classical] [--sa-order deflate-first|adjust-first]
                       [--sa-model auto|multiplicative|additive] [--sa-interpolate]
                       [--outlay-rates [NAME=]R0,R1,...] [--budget-out PATH]
                       [--interpolate [denton|linear]] [--interpolate-indicator INDEX_FILE]
 
 Every money (flow or stock) series of SERIES_FILE is deflated by every index column of
-every --index file. ``--out`` ending in .csv, .json or .xlsx writes that file; without it
+every --index file. Kinds come from the files' roles: SERIES_FILE's columns are money
+(flows unless ``--kind stock`` or ``--kind NAME=stock``), the --index files' columns are
+price indexes; a unit that says otherwise (``index 2015=100`` in the series file, ``USD``
+in an index file) and ``--kind NAME=...`` decide over the role. Nothing is guessed. ``--out`` ending in .csv, .json or .xlsx writes that file; without it
 the table is printed to stdout as CSV (same columns), and the method note, cautions and
 warnings go to stderr as ``#`` lines. Exit 0 on success, 2 on bad input (coded message on
 stderr, no traceback).
@@ -29,9 +35,10 @@ from collections import Counter
 from dataclasses import dataclass
 from pathlib import Path
 
+from pipeline.commands._intake import add_reading_arguments, parse_kinds, parse_markers
 from pipeline.commands._remedies import CLI
 from pipeline.deflate import DeflationResult, deflate
-from pipeline.errors import Problem, fail
+from pipeline.errors import CL001, Location, Problem, fail, warn
 from pipeline.errors import register as register_code
 from pipeline.export import export_table, neutralise_frame, write_result
 from pipeline.model import ANNUAL, CAUTIONS, MONTHLY, Frequency, Series
@@ -40,16 +47,69 @@ CL251 = register_code("CL251", "no money series in the series file")
 CL252 = register_code("CL252", "no index column in an index file")
 CL253 = register_code("CL253", "fiscal start month needed for --to FY")
 CL260 = register_code("CL260", "an interpolation indicator needs Denton interpolation")
+CL257 = register_code("CL257", "series left out of the deflation by their kind")
+CL255 = register_code("CL255", "--index-sheet without an --index before it")
+CL256 = register_code("CL256", "kind given for a series in none of the files")
+
+
+class _IndexFile(argparse.Action):
+    """--index FILE: one more index file (its sheet: the --index-sheet after it)."""
+
+    def __call__(self, parser, namespace, values, option_string=None):  # type: ignore[override]
+        files = list(getattr(namespace, "index_files", None) or [])
+        sheets = list(getattr(namespace, "index_sheets", None) or [])
+        files.append(values)
+        sheets.append(None)
+        namespace.index_files, namespace.index_sheets = files, sheets
+
+
+class _IndexSheet(argparse.Action):
+    """--index-sheet NAME: the sheet of the --index workbook given just before (a misplaced
+    one is refused when the inputs are read, CL255)."""
+
+    def __call__(self, parser, namespace, values, option_string=None):  # type: ignore[override]
+        sheets = list(getattr(namespace, "index_sheets", None) or [])
+        if not sheets:
+            namespace.sheet_error = f"--index-sheet {values} with no --index before it"
+        elif sheets[-1] is not None:
+            namespace.sheet_error = (f"two --index-sheet for {namespace.index_files[-1]}")
+        else:
+            sheets[-1] = values
+        namespace.index_sheets = sheets
+
+
+class _Kind(argparse.Action):
+    """--kind flow|stock (every series) or --kind NAME=KIND (one series; repeatable)."""
+
+    def __call__(self, parser, namespace, values, option_string=None):  # type: ignore[override]
+        if "=" in values:
+            kinds = dict(getattr(namespace, "kinds", None) or {})
+            kinds.update(parse_kinds([values]))
+            namespace.kinds = kinds
+            return
+        if values not in ("flow", "stock"):
+            raise fail(CL001, "--kind takes flow, stock or NAME=flow|stock|index",
+                       expected="--kind flow, --kind stock or --kind 'NAME=index'",
+                       found=repr(values), fix="Write flow or stock for every series, or a "
+                       "series name, '=', then its kind.")
+        namespace.kind = values
 
 TO_CHOICES = ("M", "Q", "A", "FY")
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("series_file", metavar="SERIES_FILE",
-                   help="CSV, XLSX or SDMX-CSV file with the nominal money series")
-    p.add_argument("--index", dest="index_files", metavar="INDEX_FILE", action="append",
+                   help="CSV, workbook (XLSX, XLS, ODS) or SDMX-CSV file with the nominal "
+                        "money series (its columns are money: flows unless told stock)")
+    p.add_argument("--sheet", metavar="NAME", default=None,
+                   help="sheet of SERIES_FILE when it is a workbook (default: the first "
+                        "holding a table)")
+    p.add_argument("--index", dest="index_files", metavar="INDEX_FILE", action=_IndexFile,
                    required=True,
-                   help="file of price indexes; every index column is a deflator (repeatable)")
+                   help="file of price indexes; every column is a deflator (repeatable)")
+    p.add_argument("--index-sheet", dest="index_sheets", metavar="NAME", action=_IndexSheet,
+                   help="sheet of the --index workbook given just before (default: the first "
+                        "holding a table)")
     p.add_argument("--base", required=True, metavar="PERIOD",
                    help="base period: FY2025, 2024Q1, 2024-01, 2024, or a range 2024-01..2024-12")
     p.add_argument("--to", choices=TO_CHOICES, default=None,
@@ -57,8 +117,11 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--fiscal-start", dest="fiscal_start", type=int, metavar="1-12",
                    choices=range(1, 13), default=None,
                    help="month the fiscal year starts in (7 = July; FY2025 = July 2024-June 2025)")
-    p.add_argument("--kind", choices=("flow", "stock"), default=None,
-                   help="treat every series as a flow (summed) or a stock (last value)")
+    p.add_argument("--kind", action=_Kind, default=None, metavar="flow|stock|NAME=KIND",
+                   help="flow or stock: every money series is a flow (summed) or a stock "
+                        "(last value); NAME=flow|stock|index: one series' kind, in any of "
+                        "the files (repeatable)")
+    add_reading_arguments(p, kind=False)
     p.add_argument("--out", metavar="PATH", default=None,
                    help="write .csv, .json or .xlsx; default: print the table (CSV) to stdout")
     add_sa_arguments(p)
@@ -141,44 +204,88 @@ class Inputs:
 
 
 def load_inputs(args: argparse.Namespace) -> Inputs:
-    """Read the series file and every index file with the intake (all errors at once)."""
+    """Read the series file and every index file with the intake (all errors at once).
+
+    Kinds come from each file's role, never from a guess: the series file holds money
+    (``--kind flow|stock`` for all, flow by default), the index files hold price indexes;
+    ``--kind NAME=KIND`` and a unit that says index or money decide over the role. A
+    command built on this one (a total, a report) gets the same reading."""
     from pipeline.ingest import read_file
 
+    if getattr(args, "sheet_error", None):
+        raise fail(CL255, "each --index-sheet names the sheet of the --index file just before it",
+                   expected="--index FILE --index-sheet NAME (at most one sheet per --index)",
+                   found=args.sheet_error,
+                   fix="Put --index-sheet right after its --index; give a file twice to use two "
+                   "of its sheets.")
     fy = args.fiscal_start
+    named = dict(getattr(args, "kinds", None) or {})
+    markers = parse_markers(getattr(args, "marker", None))
+    daily = bool(getattr(args, "daily", False))
     warnings: list[Problem] = []
-    intake = read_file(args.series_file, fy_start=fy)
+    series_file = str(args.series_file)
+    intake = read_file(args.series_file, sheet=getattr(args, "sheet", None), fy_start=fy,
+                       kinds={k: v for k, v in named.items()},  # type: ignore[misc]
+                       default_kind=args.kind or "flow", markers=markers, daily=daily)
     intake.raise_for_errors()
-    warnings.extend(intake.warnings)
-    # --kind says what the money series are; without it the intake's kinds decide
-    money = list(intake.series) if args.kind else [s for s in intake.series
-                                                  if s.kind != "index"]
+    # a kind named for a series of another file is no problem here: checked once below
+    warnings.extend(p for p in intake.warnings if p.code != "IN022")
+    seen = {s.name for s in intake.series}
+    money = [s for s in intake.series if s.kind != "index"]
+    left = [s for s in intake.series if s.kind == "index"]
+    if left and money:
+        warnings.append(warn(CL257, f"{len(left)} series of the series file are price indexes "
+                             "and are not deflated", expected="money series in the series file",
+                             found=", ".join(f"{s.name!r} ({s.notes[0]})" for s in left[:5]),
+                             fix="Nothing to do if they are indexes; give them as --index files "
+                             "to deflate by them, or say --kind NAME=flow if they are money.",
+                             where=Location(file=series_file)))
     if not money:
-        found = ", ".join(f"{s.name!r} ({s.kind})" for s in intake.series) or "no series"
+        found = ", ".join(f"{s.name!r} ({s.notes[0] if s.notes else s.kind})"
+                          for s in intake.series[:5]) or "no series"
         raise fail(CL251, "the series file holds no money series to deflate",
                    expected="at least one flow or stock series", found=found,
-                   file=str(args.series_file),
+                   file=series_file,
                    fix="Give the file of nominal amounts first; if its columns were taken for "
-                   "indexes, say what they are with --kind flow or --kind stock.")
-    deflators: list[Series] = []
-    for path in args.index_files:
-        idx = read_file(path, fy_start=fy)
+                   "indexes, say what they are with --kind NAME=flow or --kind NAME=stock.")
+    deflators: list[tuple[Series, str]] = []
+    sheets = list(getattr(args, "index_sheets", None) or [None] * len(args.index_files))
+    for path, sheet in zip(args.index_files, sheets, strict=True):
+        idx = read_file(path, sheet=sheet, fy_start=fy, kinds=named,  # type: ignore[arg-type]
+                        default_kind="index", markers=markers, daily=daily)
         idx.raise_for_errors()
-        warnings.extend(idx.warnings)
+        warnings.extend(p for p in idx.warnings if p.code != "IN022")
+        seen |= {s.name for s in idx.series}
         found = [s for s in idx.series if s.kind == "index"]
+        other = [s for s in idx.series if s.kind != "index"]
         if not found:
-            kinds = ", ".join(f"{s.name!r} ({s.kind})" for s in idx.series) or "no series"
+            kinds = ", ".join(f"{s.name!r} ({s.notes[0] if s.notes else s.kind})"
+                              for s in idx.series[:5]) or "no series"
             raise fail(CL252, "no price index found in an --index file",
                        expected="one or more index columns", found=kinds, file=str(path),
-                       fix="Check the file, or mark the columns as indexes (long layout: "
-                       "a unit such as 'index 2015=100').")
+                       fix="Check the file; a column whose unit is money is not an index, and "
+                       "--kind NAME=index says a column is one.")
+        if other:
+            warnings.append(warn(CL257, f"{len(other)} series of an index file are not price "
+                                 "indexes and are not used as deflators",
+                                 expected="price indexes in an --index file",
+                                 found=", ".join(f"{s.name!r} ({s.notes[0]})" for s in other[:5]),
+                                 fix="Nothing to do if they are money; say --kind NAME=index "
+                                 "if they are indexes.", where=Location(file=str(path))))
         stem = Path(path).stem
-        deflators.extend((s, stem) for s in found)  # type: ignore[misc]
+        deflators.extend((s, stem) for s in found)
+    unknown = sorted(set(named) - seen)
+    if unknown:
+        warnings.append(warn(CL256, "--kind names series that none of the files holds",
+                             expected="names of series in the files",
+                             found=", ".join(repr(n) for n in unknown[:10]),
+                             fix="Check the spelling of the series names after --kind."))
     # the same index name from two files: qualify it with the file name
-    counts = Counter(s.name for s, _ in deflators)  # type: ignore[misc]
-    named = tuple(s if counts[s.name] == 1 else s.with_values(s.values, name=f"{stem}: {s.name}")
-                  for s, stem in deflators)  # type: ignore[misc]
-    return Inputs(tuple(money), named, tuple(warnings),
-                  (str(args.series_file), *map(str, args.index_files)))
+    counts = Counter(s.name for s, _ in deflators)
+    qualified = tuple(s if counts[s.name] == 1 else s.with_values(s.values, name=f"{stem}: {s.name}")
+                      for s, stem in deflators)
+    return Inputs(tuple(money), qualified, tuple(warnings),
+                  (series_file, *map(str, args.index_files)))
 
 
 def prepare_series(args: argparse.Namespace, series: tuple[Series, ...]) -> tuple[Series, ...]:

@@ -9,8 +9,8 @@ exports use them); :func:`adjust_all` adjusts every monthly and quarterly series
 background job.
 
 A **total of parts, each by its own deflator** (series choice ``__parts__|<first part>``):
-:func:`pair_choices` offers each part the deflators that can serve it
-(pipeline.compare.serve_check), :func:`compute_total` totals them through
+:func:`pair_choices` offers each part the deflators that can serve it (the serve check,
+through ``_shared.view.deflator_choices``), :func:`compute_total` totals them through
 pipeline.workbook.workspace_total (additive, chained Fisher or annual overlap), and
 :func:`total_outputs` shows parts, total and residual, the contributions to real growth
 and the board-pack table. :func:`screen_outputs` is what the callback calls for either
@@ -32,6 +32,7 @@ from dash import html
 
 from pipeline.errors import Problem, RealbasisError, fail
 from pipeline.model import Frequency, Series, Workspace
+from pipeline.periods import Span
 
 from ...components import (
     Column,
@@ -51,27 +52,37 @@ from ...figures import (
     total_figure,
 )
 from .._shared.view import (
+    INTERPOLATE_VALUE,
     TOTAL,
     UI005,
     BandView,
     ProgressFn,
     band_width_note,
     base_for,
+    choices_view,
     choose,
-    deflator_options,
+    deflator_choices,
     error_dicts,
+    fiscal_note,
+    fy_start,
+    interpolation,
     latest_vintage,
-    parse_frequency,
+    outlay_field,
+    outlay_years,
     parts_text,
     pick_index,
     pick_series,
     problem_dicts,
     quantile_words,
+    read_base,
+    read_outlay_field,
+    result_frequency,
     revision_band_for,
+    save_outlay,
     series_options,
     total_groups,
     total_members,
-    trim_to_cover,
+    yearly_frequency,
 )
 
 # --------------------------------------------------------------------------- computing
@@ -94,9 +105,11 @@ class Computed:
     deflator_name: str
     vintage: str
     left_out: str | None = None    # periods of the series the deflator does not reach
+    outlay: str | None = None      # the outlay rates used, in words
     parts: tuple[str, ...] = ()    # the series summed, for a total under one deflator
     deflated: Series | None = None  # the series as deflated (cut to the deflator's span)
     to: Frequency | None = None    # the result frequency asked of the engine
+    interpolate: bool = False      # a less frequent deflator filled in (Denton)
 
 
 def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
@@ -105,23 +118,54 @@ def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: s
 
 
 def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None, *,
-                 to: str | None = "auto", sa: bool = False, vintage: str | None = None
-                 ) -> Computed:
+                 to: str | None = "auto", sa: bool = False, vintage: str | None = None,
+                 interpolate: Any = False, outlay: str | None = None) -> Computed:
     """Deflate one series (or the total) by one deflator through the engine; optionally
-    seasonally adjust nominal and real (after deflation) through pipeline.seasonal."""
+    seasonally adjust nominal and real (after deflation) through pipeline.seasonal.
+
+    Period fields are read with the workspace's fiscal year (``FY2025``, ``2024-25``);
+    ``interpolate`` lets a less frequent deflator serve (Denton, flagged); ``outlay``
+    (the outlay-rate box, in percent) deflates the series as budget authority spent over
+    several years (:func:`pipeline.outlay.deflate_authority`), by year. The series is cut
+    to the periods the deflator covers (:func:`pipeline.compare.trim_to_cover`) and, with
+    outlay rates, to the years whose outlays it reaches; what was left out is said, with
+    the deflators that would show it and the projection that would (the serve check)."""
+    from pipeline.compare import trim_to_cover
     from pipeline.deflate import deflate
+    from pipeline.outlay import cut_to_reach
 
     original = pick_series(ws, series_key)
     d = pick_index(ws, deflator, vintage)
+    fy = fy_start(ws)
+    interp = interpolation(interpolate)
+    rates = (read_outlay_field(outlay, original.name)
+             if outlay and not series_key.startswith(TOTAL) else None)
     s, cut = trim_to_cover(original, [d])
-    base_text = base_for(s, base)
-    freq = parse_frequency(to, s, [d])
-    res = deflate([s], [d], base_text, to=freq)
+    span = read_base(ws, base_for(s, base))
+    freq = result_frequency(ws, to, s, [d])
+    method_extra: list[str] = []
+    if rates is not None:
+        if (freq is None or freq.code not in ("A", "FY")) and (to or "auto") == "auto":
+            freq = yearly_frequency(ws, None, [s])
+            if freq != s.frequency:
+                method_extra.append(f"With outlay rates the results are by "
+                                    f"{freq.describe()}: rates are shares per year.")
+        if freq is None or freq.code in ("A", "FY"):
+            s, outlay_cut = cut_to_reach(s, [d], rates, freq or s.frequency)
+            if outlay_cut:
+                cut = f"{cut} {outlay_cut}" if cut else outlay_cut
+    if rates is not None:
+        from pipeline.outlay import deflate_authority
+
+        res = deflate_authority([s], [d], span, rates, to=freq, fy_start=fy,
+                                interpolate=interp)
+    else:
+        res = deflate([s], [d], span, to=freq, fy_start=fy, interpolate=interp)
     nominal = res.nominal_series(s.name)
     real = res.real_series(s.name, 0)
     status = res.status_frame(0)[s.name].reindex(nominal.index)
     index_used = res.index_frame(0)[s.name].reindex(nominal.index)
-    method = list(res.method_note()) + ([cut] if cut else [])
+    method = [*res.method_note(), *method_extra]
     warnings = list(res.warnings)
     if sa:
         from pipeline.seasonal import adjust
@@ -140,28 +184,30 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
         "nominal": nominal.to_numpy(), "real": real.to_numpy(),
         "deflator_index": index_used.to_numpy(), "status": status.astype(str).to_numpy(),
     })
+    left_out = None
+    if cut:
+        left_out = left_out_text(ws, original, s, d, span, res.frequency, interp, rates)
+        method.append(cut)
+    method.extend(fiscal_note(ws))
     parts = (tuple(total_members(ws, series_key.split("|", 1)[1] if "|" in series_key
                                  else None)) if series_key.startswith(TOTAL) else ())
     return Computed(frame, nominal, real, res.frequency, res.base_label, res.dollars_label,
-                    s.unit or "unit not stated", tuple(method), tuple(warnings), s.name,
-                    d.name, d.vintage or "",
-                    left_out_text(ws, original, s, d) if cut else None,
-                    parts, s, freq)
+                    s.unit or "unit not stated", tuple(m for m in method if m),
+                    tuple(warnings), s.name, d.name, d.vintage or "", left_out,
+                    rates.describe() if rates is not None else None, parts,
+                    s if rates is None else None, freq, interp)
 
 
-
-def _covers(index: Series, s: Series) -> bool:
-    """Whether ``index`` has values from the first to the last value of ``s``."""
-    iv, sv = index.values.dropna(), s.values.dropna()
-    return (not iv.empty and not sv.empty and iv.index[0].start_time <= sv.index[0].start_time
-            and iv.index[-1].end_time >= sv.index[-1].end_time)
-
-
-def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Series
-                  ) -> str | None:
+def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Series,
+                  base: Span, frequency: Frequency, interpolate: bool = False,
+                  rates: Any = None) -> str | None:
     """Which periods of the series are not shown because the deflator does not reach
-    them (e.g. a budget's projected out-years), and which deflators of the workspace
-    would show them. None when nothing was left out."""
+    them (e.g. a budget's projected out-years), which deflators of the workspace would
+    show them and the projection that would: the engine's serve check
+    (:func:`pipeline.compare.serve_check`: ``Fit.missing``, ``Fit.project_until``,
+    ``ServeCheck.alternatives``). None when nothing was left out."""
+    from pipeline.compare import serve_check
+
     values = original.values.dropna()
     kept_index = kept.values.dropna().index
     dropped = values.index.difference(kept_index)
@@ -178,20 +224,38 @@ def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Serie
     ends = deflator.values.dropna()
     text = (f"{' and '.join(spans)}{what} of {original.name} are not shown: {deflator.name} "
             f"runs only from {deflator.frequency.label(ends.index[0])} to "
-            f"{deflator.frequency.label(ends.index[-1])}.")
-    covering = [name for name in sorted(ws.indexes)
-                if name != deflator.name and _covers(pick_index(ws, name), original)]
+            f"{deflator.frequency.label(ends.index[-1])}")
+    if rates is not None:
+        text += f", and their outlays at {rates.describe()} need its later years"
+    names = list(ws.indexes)
+    candidates = [pick_index(ws, n) for n in names]
+    try:
+        check = serve_check(original, candidates, base, to=frequency, fy_start=fy_start(ws),
+                            interpolate=interpolate)
+    except RealbasisError:
+        return text + "."
+    fit = check.fit(deflator.name)
+    covering = list(check.alternatives(deflator.name))
+    until = fit.project_until
+    if rates is not None:
+        until = outlay_years({original.name: rates}, [original], frequency) or until
+        covering = []  # the serve check does not know outlay years: propose the projection
+    how = []
     if covering:
-        return (text + " To see them in real terms choose a deflator that reaches them ("
-                + ", ".join(covering[:3]) + ") or project this one on the Deflator shelf.")
-    return text + " To see them in real terms project the index on the Deflator shelf."
+        how.append("choose a deflator that reaches them (" + ", ".join(covering[:3]) + ")")
+    if until:
+        how.append(f"project {deflator.name} until {until}")
+    if not how:
+        return text + "."
+    return text + ". To see them in real terms " + " or ".join(how) + "."
 
 
 def real_title(c: Computed, *, sa: bool = False) -> str:
     adj = ", seasonally adjusted" if sa else ""
+    through = f" through outlay rates ({c.outlay})" if c.outlay else ""
     held = f" ({parts_text(c.parts)}, summed, then deflated)" if c.parts else ""
     return (f"{c.series_name}{held} in {c.dollars_label} ({c.unit}{adj}), "
-            f"deflated by {c.deflator_name}")
+            f"deflated by {c.deflator_name}{through}")
 
 
 def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency, *,
@@ -312,26 +376,56 @@ def recent_columns(unit: str, dollars: str, yearly: bool) -> tuple[Column, ...]:
     )
 
 
-def options_for(ws: Workspace, series: Any, deflator: Any) -> tuple[Any, ...]:
+def options_for(ws: Workspace, series: Any) -> tuple[Any, ...]:
+    """Series options and the series to show (the current one while offered, else the
+    saved one), and the saved interpolation switch."""
     s_opts = series_options(ws) + parts_options(ws)
-    d_opts = deflator_options(ws)
     saved = ws.settings
     return (s_opts, choose(series, s_opts, saved.get("series")),
-            d_opts, choose(deflator, d_opts, saved.get("deflator")))
+            [INTERPOLATE_VALUE] if saved.get("interpolate") else [])
+
+
+def deflator_picker(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any,
+                    interpolate: Any, outlay: Any) -> tuple[Any, Any, Any]:
+    """The deflator options for the chosen series, base, 'Show as' and outlay rates:
+    only those that can deflate it are enabled, the others disabled with the reason and
+    listed under the picker with what would make them serve
+    (:func:`dashboard.screens._shared.view.deflator_choices`); the choice kept while it
+    can serve, else the saved one, else the first that serves."""
+    series_list: list[Series] = []
+    rates = None
+    if series:
+        try:
+            series_list = [pick_series(ws, series)]
+            if outlay and not str(series).startswith(TOTAL):
+                rates = read_outlay_field(outlay, series_list[0].name)
+        except RealbasisError:
+            rates = None
+    ch = deflator_choices(ws, series_list, base, to=freq or "auto", interpolate=interpolate,
+                          outlay={series_list[0].name: rates} if rates and series_list
+                          else None)
+    enabled = [o for o in ch.options if not o.get("disabled")]
+    serving = [o for o in enabled if o["value"] in ch.fits
+               and ch.fits[o["value"]].verdict == "serves"]
+    value = choose(deflator if deflator in [o["value"] for o in enabled] else None,
+                   enabled, ws.settings.get("deflator"), *(o["value"] for o in serving))
+    return ch.options, value, choices_view(ch)
 
 
 def outputs(ws: Workspace, series: str | None, deflator: str | None, base: str | None,
-            freq: str | None, sa: bool) -> tuple[Any, Any, Any, Any, Any]:
+            freq: str | None, sa: bool, *, interpolate: Any = False, outlay: str | None = None
+            ) -> tuple[Any, Any, Any, Any, Any]:
     """Title, figure, warnings, growth tables and method note for the chosen inputs."""
     if not series or not deflator:
         msg = "Choose a series and a deflator."
         return msg, empty_figure(msg), None, None, method_view(())
     try:
-        c = compute_real(ws, series, deflator, base, to=freq or "auto", sa=sa)
+        c = compute_real(ws, series, deflator, base, to=freq or "auto", sa=sa,
+                         interpolate=interpolate, outlay=outlay)
     except RealbasisError as err:
         return ("These figures cannot be computed", empty_figure("See the problems below."),
                 problems_view(error_dicts(err), title="Cannot compute"), None,
-                method_view(()))
+                method_view(fiscal_note(ws)))
     title = real_title(c, sa=sa)
     fig = real_terms_figure(c.frame, title="", unit=c.unit,
                             real_label=f"Real ({c.dollars_label})",
@@ -374,7 +468,7 @@ def real_band(ws: Workspace, c: Computed, base: str | None, *, sa: bool = False
         return None, []
     bv = revision_band_for(ws, c.deflator_name, [c.deflated], base_for(c.deflated, base),
                            current=c.vintage if c.vintage in ws.indexes.get(c.deflator_name, {})
-                           else None, to=c.to)
+                           else None, to=c.to, interpolate=c.interpolate)
     notes = [bv.note] if bv.note else []
     if sa and bv.available:
         notes.append("The band is measured on the figures before seasonal adjustment and is "
@@ -389,6 +483,7 @@ def band_label(bv: BandView) -> str:
             f"{bv.band.revisions_used:,} revisions)")
 
 
+
 def _status_note(frame: Any) -> str | None:
     statuses = set(frame["status"])
     parts = []
@@ -401,14 +496,17 @@ def _status_note(frame: Any) -> str | None:
 
 
 def save_choices(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any, sa: bool,
-                 *, pairs: dict[str, Any] | None = None, chain: Any = None) -> Workspace:
-    """The screen's choices in the workspace settings (the exports read them). For a total
-    of parts, ``settings["total"] = {"pairs": {part: deflator}, "chain": ...}`` too (the
-    audit workbook then gets its Contributions sheets); the base saved is the one the
-    figures used. Other choices leave a saved total as it is."""
+                 *, interpolate: Any = False, outlay: str | None = None,
+                 pairs: dict[str, Any] | None = None, chain: Any = None) -> Workspace:
+    """The screen's choices in the workspace settings (the exports use them); the
+    series' outlay rates with them (:func:`pipeline.outlay.with_outlay_rates`; empty
+    clears them). For a total of parts, ``settings["total"] = {"pairs": {part:
+    deflator}, "chain": ...}`` too (the audit workbook then gets its Contributions
+    sheets) and the base the figures used; other choices leave a saved total as it is."""
     settings = dict(ws.settings)
     settings.update({"series": series, "deflator": deflator, "base": base or "",
-                     "frequency": freq or "auto", "seasonal_adjustment": bool(sa)})
+                     "frequency": freq or "auto", "seasonal_adjustment": bool(sa),
+                     "interpolate": interpolation(interpolate)})
     if is_parts(series):
         resolved = resolve_pairs(ws, series, pairs, base, freq)
         chosen = {p: d for p, d in resolved.items() if d != LEAVE_OUT}
@@ -420,7 +518,10 @@ def save_choices(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any
         settings["base"] = base_for(ws.series[next(iter(chosen))], base)
         if not settings.get("deflator") or settings["deflator"] not in ws.indexes:
             settings["deflator"] = next(iter(chosen.values()))
-    return dataclasses.replace(ws, settings=settings)
+    out = dataclasses.replace(ws, settings=settings)
+    if series and series in ws.series and (outlay or outlay_field(ws, series)):
+        out = save_outlay(out, series, outlay)
+    return out
 
 
 def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
@@ -436,6 +537,27 @@ def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
     return (WorkspaceRef(saved.id, saved.version),
             html.Div([notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
                       method_view(lines[1:], title="How they were adjusted")]))
+
+
+def outlay_state(ws: Workspace, series: Any, text: Any) -> str | None:
+    """A line under the outlay-rate box: read as what, saved or not (never an error here;
+    a bad entry is shown as a coded problem with the figures)."""
+    if not series:
+        return None
+    if str(series).startswith(TOTAL):
+        return ("Outlay rates apply to one series at a time; the total is deflated year by "
+                "year." if (text or "").strip() else None)
+    try:
+        rates = read_outlay_field(text, str(series))
+    except RealbasisError:
+        return None
+    saved = outlay_field(ws, str(series))
+    if rates is None:
+        return ("Outlay rates cleared; press 'Save these choices to the workspace' to keep "
+                "that." if saved else None)
+    state = ("saved with the workspace" if saved and read_outlay_field(saved) == rates
+             else "not saved yet: press 'Save these choices to the workspace' to keep them")
+    return f"Outlay rates of {series}: {rates.describe()} ({state})."
 
 
 # --------------------------------------------------------------------------- total of parts
@@ -494,9 +616,10 @@ class PairChoice:
     why the others are not offered."""
 
     part: str
-    options: tuple[dict[str, str], ...]
+    options: tuple[dict[str, Any], ...]
     value: str
-    not_offered: tuple[str, ...]
+    not_offered: tuple[str, ...]   # why some deflators cannot (fully) serve, in words
+    why: Any = None                # the same as a closed list under the picker
 
 
 def _saved_pairs(ws: Workspace, parts: list[str]) -> dict[str, str] | None:
@@ -511,53 +634,29 @@ def _saved_pairs(ws: Workspace, parts: list[str]) -> dict[str, str] | None:
 
 def pair_choices(ws: Workspace, key: str, base: str | None, freq: str | None,
                  current: dict[str, Any] | None = None) -> list[PairChoice]:
-    """Each part of the total with the deflators that can serve it at the chosen base and
-    result frequency (pipeline.compare.serve_check: those covering all or part of its
-    periods), plus 'leave this part out'. The value shown: the one on screen if still
-    offered, else the saved total's pair, else the screen's one deflator, else the first
-    deflator that serves every period."""
-    from pipeline.compare import serve_check
-
+    """Each part of the total with every deflator judged for it by the serve check at the
+    chosen base and result frequency (``_shared.view.deflator_choices``: those that cannot
+    deflate it disabled, with the reason), plus 'leave this part out'. The value shown: the
+    one on screen if still usable, else the saved total's pair, else the screen's one
+    deflator, else the first deflator that serves every period. No interpolation: a
+    deflator less frequent than the results would need it (say so with 'Show as')."""
     parts = parts_of(ws, key)
-    candidates = [pick_index(ws, name) for name in ws.indexes]
     saved = _saved_pairs(ws, parts)
     current = current or {}
     out = []
     for name in parts:
-        s = ws.series[name]
-        try:
-            check = serve_check(s, candidates, base_for(s, base), to=freq or "auto")
-        except RealbasisError:  # an unreadable base: offer every index, the total says why
-            check = None
-        if check is None:
-            usable, serving, reasons = [d.name for d in candidates], set(), {}
-        else:
-            usable, serving, reasons = list(check.usable), set(check.serving), check.reasons()
-        options = [{"label": _pair_label(d, s, check, d in serving), "value": d}
-                   for d in usable]
-        options.append({"label": "Leave this part out of the total", "value": LEAVE_OUT})
-        values = [o["value"] for o in options]
+        ch = deflator_choices(ws, [ws.series[name]], base, to=freq or "auto")
+        options = [*ch.options, {"label": "Leave this part out of the total",
+                                 "value": LEAVE_OUT}]
+        usable = [*ch.usable, LEAVE_OUT]
+        serving = [n for n in ch.usable if n in ch.fits and ch.fits[n].verdict == "serves"]
         preferred = [current.get(name)]
         if saved is not None:
             preferred.append(saved.get(name, LEAVE_OUT))
-        preferred += [ws.settings.get("deflator"), *[d for d in usable if d in serving]]
-        value = next((v for v in preferred if v in values), values[0])
-        out.append(PairChoice(name, tuple(options), value,
-                              tuple(r for d, r in reasons.items() if d not in usable)))
+        preferred += [ws.settings.get("deflator"), *serving]
+        value = next((v for v in preferred if v in usable), usable[0])
+        out.append(PairChoice(name, tuple(options), value, ch.notes, choices_view(ch)))
     return out
-
-
-def _pair_label(name: str, s: Series, check: Any, serves: bool) -> str:
-    """'Producer index (results quarterly; covers part of the periods)'."""
-    if check is None:
-        return name
-    notes = []
-    f = check.fit(name).frequency  # the results' frequency with this deflator
-    if f is not None and f != s.frequency:
-        notes.append(f"results {f.describe()}")
-    if not serves:
-        notes.append("covers part of the periods")
-    return f"{name} ({'; '.join(notes)})" if notes else name
 
 
 def saved_chain(ws: Workspace, current: Any) -> str:
@@ -597,10 +696,11 @@ def pairs_panel(ws: Workspace, key: Any, base: Any, freq: Any, current: dict[str
         # the label points at the control's id as the browser sees it (Dash writes a
         # pattern-matching id as JSON with sorted keys)
         dom_id = json.dumps(pid, sort_keys=True, separators=(",", ":"))
-        rows.append(field(c.part, dcc.Dropdown(id=pid, options=list(c.options), value=c.value,
-                                               clearable=False, className="rb-dropdown"),
-                          dom_id,
-                          hint="; ".join(c.not_offered) if c.not_offered else None))
+        box = field(c.part, dcc.Dropdown(id=pid, options=list(c.options), value=c.value,
+                                         clearable=False, className="rb-dropdown"), dom_id)
+        if c.why is not None:
+            box.children = [*box.children, c.why]
+        rows.append(box)
     return rows, False, True
 
 
@@ -633,6 +733,7 @@ def compute_total(ws: Workspace, key: str, values: dict[str, Any] | None, chain:
     """The total of the parts, each deflated by its own deflator, put together additively
     or chain-linked (pipeline.workbook.workspace_total -> pipeline.totals.total_of_parts),
     with the revision band of every deflator held in several vintages."""
+    from pipeline.compare import trim_to_cover
     from pipeline.workbook import workspace_total
 
     pairs = resolve_pairs(ws, key, values, base, freq)
@@ -654,7 +755,7 @@ def compute_total(ws: Workspace, key: str, values: dict[str, Any] | None, chain:
         if not (status == 1).any():  # nothing of these parts rests on a preliminary value
             continue
         index = ws.indexes[d][used.get(d) or latest_vintage(ws.indexes[d])]
-        money = [trim_to_cover(ws.series[p], [index])[0] for p in parts]
+        money = [trim_to_cover(ws.series[p], [index])[0] for p in parts]  # pipeline.compare
         bands.append(revision_band_for(ws, d, money, base_text, current=used.get(d),
                                        to=total.frequency))
     return TotalComputed(total, chosen, left, used, tuple(notes), base_text,
@@ -787,10 +888,12 @@ def total_outputs(ws: Workspace, key: str, values: dict[str, Any] | None, chain:
 
 def screen_outputs(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any, sa: bool,
                    pairs: dict[str, Any] | None = None, chain: Any = "none",
-                   basis: Any = "period") -> tuple[Any, ...]:
+                   basis: Any = "period", *, interpolate: Any = False,
+                   outlay: str | None = None) -> tuple[Any, ...]:
     """Everything the Real terms callback returns, for one series, a total under one
     deflator or a total of parts each by its own deflator: title, figure, notes, growth
     tables, method note, contributions chart, board-pack table, contributions box style."""
     if is_parts(series):
         return total_outputs(ws, series, pairs, chain, basis, base, freq)
-    return (*outputs(ws, series, deflator, base, freq, sa), empty_figure(""), None, HIDDEN)
+    return (*outputs(ws, series, deflator, base, freq, sa, interpolate=interpolate,
+                     outlay=outlay), empty_figure(""), None, HIDDEN)

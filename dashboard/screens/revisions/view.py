@@ -31,10 +31,13 @@ from .._shared.view import (
     base_for,
     choose,
     error_dicts,
-    parse_frequency,
+    fiscal_note,
+    fy_start,
     pick_index,
     pick_series,
     problem_dicts,
+    read_base,
+    result_frequency,
     series_options,
     stretch_text,
 )
@@ -76,8 +79,10 @@ def revisions(ws: Workspace, index: str, old: str, new: str, series_key: str,
                    found=old or "vintage not stated", fix="Choose an earlier and a later vintage.")
     o, n = pick_index(ws, index, old), pick_index(ws, index, new)
     s = pick_series(ws, series_key)
-    cmp = compare_vintages(o, n)
-    impact = revision_impact([s], o, n, base_for(s, base), to=parse_frequency(to, s, [n]))
+    fy = fy_start(ws)
+    cmp = compare_vintages(o, n, fy_start=fy)
+    impact = revision_impact([s], o, n, read_base(ws, base_for(s, base)),
+                             to=result_frequency(ws, to, s, [n]), fy_start=fy)
     t = impact.table[impact.table["series"] == s.name].reset_index(drop=True)
     changed = t[t["real_change"].abs() > 1e-9]
     moved = changed.iloc[::-1].head(24).to_dict("records")
@@ -99,7 +104,7 @@ def revisions(ws: Workspace, index: str, old: str, new: str, series_key: str,
     title = (f"{s.name} in constant {impact.base} dollars under two vintages of {index} "
              f"({unit})")
     return Revisions(cmp, impact, t, moved, summary, title, unit,
-                     (*cmp.method_note(), *impact.method_note()),
+                     (*cmp.method_note(), *impact.method_note(), *fiscal_note(ws)),
                      (*cmp.warnings, *impact.warnings))
 
 
@@ -193,15 +198,11 @@ def band_outputs(ws: Workspace, index: Any, new: Any, series: Any, base: Any
     """The revision band of the chosen index's later vintage (pipeline.revision_risk) for
     the chosen series: a chart of the index band and the real band, the sentences, the
     tables and the method note (or, with one vintage, a plain note why there is none)."""
+    from pipeline.compare import trim_to_cover
     from pipeline.deflate import deflate
 
     from ...figures import revision_band_figure
-    from .._shared.view import (
-        band_width_note,
-        quantile_words,
-        revision_band_for,
-        trim_to_cover,
-    )
+    from .._shared.view import band_width_note, fy_start, quantile_words, revision_band_for
 
     if not index or index not in ws.indexes:
         return empty_figure(""), None
@@ -209,8 +210,8 @@ def band_outputs(ws: Workspace, index: Any, new: Any, series: Any, base: Any
         d = pick_index(ws, index, new if new in ws.indexes[index] else None)
         s = pick_series(ws, series) if series else None
         money = trim_to_cover(s, [d])[0] if s is not None else None
-        base_text = base_for(money, base) if money is not None else None
-        to = parse_frequency("auto", money, [d]) if money is not None else None
+        base_text = read_base(ws, base_for(money, base)) if money is not None else None
+        to = result_frequency(ws, "auto", money, [d]) if money is not None else None
         bv = revision_band_for(ws, index, [money] if money is not None else [], base_text,
                                current=d.vintage if d.vintage in ws.indexes[index] else new,
                                to=to)
@@ -231,7 +232,7 @@ def band_outputs(ws: Workspace, index: Any, new: Any, series: Any, base: Any
         rows = bv.real_rows(money.name) if money is not None else pd.DataFrame()
         dollars = f"constant {band.base} dollars"
         if money is not None and not rows.empty:
-            res = deflate([money], [d], base_text, to=to)
+            res = deflate([money], [d], base_text, to=to, fy_start=fy_start(ws))
             real = res.real_series(money.name, 0)
             rstatus = res.status_frame(0)[money.name].reindex(real.index).astype(str)
             rl = list(res.frequency.labels(real.index))

@@ -9,11 +9,14 @@ from dash import Dash, Input, Output, State, ctx, no_update
 from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
+from .._shared.callbacks import register_period_placeholders
 from . import view
 
 
 def register(app: Dash) -> None:
     rb = context(app)
+
+    register_period_placeholders(app, rb, ids.SH_REBASE_BASE)
 
     @app.callback(
         Output(ids.SH_TABLE, "children"), Output(ids.SH_FIGURE, "figure"),
