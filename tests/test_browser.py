@@ -459,7 +459,8 @@ def test_total_of_parts_contributions_workbook_and_revision_band(server: str, br
                            "'Saved as version')", timeout=30_000)
     page.wait_for_function("document.querySelector('#rb-workspace-label').innerText"
                            ".includes('My copy of the demo')", timeout=30_000)
-    page.click("#rb-nav-share")
+    _quiet(page)  # every screen recomputes for the new workspace version first
+    page.click("#rb-nav-share", timeout=120_000)
     page.wait_for_selector("#rb-screen-share:not([hidden])")
     page.wait_for_function("document.querySelector('#sx-scope').innerText.includes("
                            "'Contributions sheets of the saved total')", timeout=30_000)
@@ -476,7 +477,8 @@ def test_total_of_parts_contributions_workbook_and_revision_band(server: str, br
     _part_shot(page, "#sx-scope", output_dir, "part-share-scope")
 
     # --- the revision band on Revisions
-    page.click("#rb-nav-revisions")
+    _quiet(page)
+    page.click("#rb-nav-revisions", timeout=120_000)
     page.wait_for_selector("#rb-screen-revisions:not([hidden])")
     page.wait_for_function("document.querySelector('#rv-band').innerText.includes("
                            "'past revisions of this index would put it between')",
@@ -491,7 +493,8 @@ def test_total_of_parts_contributions_workbook_and_revision_band(server: str, br
     _part_shot(page, "#rv-band", output_dir, "part-revisions-band-tables")
 
     # --- and on Real terms, for one series under the revised deflator
-    page.click("#rb-nav-real")
+    _quiet(page)
+    page.click("#rb-nav-real", timeout=120_000)
     _pick(page, page.locator("#rt-series"), "Apparel revenue", "Apparel revenue")
     page.wait_for_selector("#rt-deflator-box:not([hidden])", timeout=30_000)
     _choose(page, "rt-deflator", ["Chained consumer index"])

@@ -489,6 +489,9 @@ def _save_body(ws_id: str, base: str, output: str) -> dict:
                       {"id": "rt-sa", "property": "value", "value": []},
                       {"id": "rt-interp", "property": "value", "value": []},
                       {"id": "rt-outlay", "property": "value", "value": ""},
+                      [],  # the parts' deflator pickers (pattern-matching: none here)
+                      [],  # and their ids
+                      {"id": "rt-chain", "property": "value", "value": "none"},
                       {"id": "rb-workspace", "property": "data",
                        "value": {"id": ws_id, "version": 0}}],
             "changedPropIds": ["rt-save.n_clicks"]}
