@@ -508,7 +508,8 @@ def test_gunicorn_worker_killed_during_saves_loses_no_acknowledged_save(tmp_path
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
-    env = {**_env(), "REALBASIS_DATA_DIR": str(data), "REALBASIS_DEMO": "0"}
+    env = {**_env(), "REALBASIS_DATA_DIR": str(data), "REALBASIS_DEMO": "0",
+           "REALBASIS_LOCAL_EDITING": "1"}
     env.pop("REALBASIS_DATABASE_URL", None)
     env.pop("REALBASIS_REDIS_URL", None)
     master = subprocess.Popen([sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "1",

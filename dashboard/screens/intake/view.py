@@ -237,15 +237,17 @@ def upload_limit() -> int:
     return int(Settings().max_upload_bytes)
 
 
-def receive(data: DataAccess, contents: str | None, filename: str | None
-            ) -> tuple[dict[str, str] | None, Any]:
-    """Check the size, keep the file server-side; returns (pending, status)."""
-    name = filename or "upload"
+def receive(data: DataAccess, contents: str | None, filename: str | None,
+            workspace: WorkspaceRef | None = None) -> tuple[dict[str, str] | None, Any]:
+    """Check the size, keep the file server-side for this session and ``workspace``;
+    returns (pending, status)."""
+    name = filename if isinstance(filename, str) and filename else "upload"
     try:
-        raw = decode_upload(contents, name, data.settings.max_upload_bytes)
+        raw = decode_upload(contents if isinstance(contents, str) else None, name,
+                            data.settings.max_upload_bytes)
+        upload_id = data.keep_upload(raw, name, workspace.id if workspace else None)
     except RealbasisError as err:
         return None, problems_view(error_dicts(err), title="File refused")
-    upload_id = data.keep_upload(raw, name)
     return ({"upload": upload_id, "filename": name},
             notice(f"Received {name} ({len(raw):,} bytes). Reading it…", "info"))
 
@@ -386,7 +388,7 @@ def add_with_summary(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str
     if not pending:
         return None, notice("Drop a file first.", "warn"), ""
     try:
-        raw, name = data.upload(pending["upload"])
+        raw, name = data.upload(pending["upload"], ref.id)
         intake = read_upload(raw, name, fy_start=fy_start, kinds=kinds,
                                    settings=data.settings, sheet=sheet)
         intake.raise_for_errors()

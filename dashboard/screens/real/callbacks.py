@@ -11,6 +11,7 @@ from pipeline.errors import RealbasisError
 from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
+from ...writes import writes
 from .._shared.callbacks import register_base_follows_series, register_frequency_options
 from .._shared.view import shown_base
 from . import view
@@ -57,6 +58,7 @@ def register(app: Dash) -> None:
         State(ids.RT_BASE, "value"), State(ids.RT_FREQ, "value"), State(ids.RT_SA, "value"),
         State(ids.WORKSPACE, "data"), prevent_initial_call=True,
     )
+    @writes("save the real-terms choices")
     def _save(n: Any, series: Any, deflator: Any, base: Any, freq: Any, sa: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None or not n:
@@ -80,6 +82,7 @@ def register(app: Dash) -> None:
                  (Output(ids.RT_SA_ALL, "disabled"), True, False)],
         prevent_initial_call=True,
     )
+    @writes("seasonally adjust the workspace's series")
     def _adjust_all(set_progress: Any, n: Any, method: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if not n or r is None:
