@@ -28,6 +28,7 @@ from pipeline.errors import RealbasisError, fail, register
 from pipeline.model import KINDS, Series, Workspace
 from pipeline.settings import Settings
 
+from ... import bounded
 from ...components import Column, method_view, notice, problems_view, table
 from ...context import current
 from ...data import DEMO_NAME, DataAccess, WorkspaceRef
@@ -133,14 +134,46 @@ def kind_options() -> list[dict[str, str]]:
     return [{"label": words[k], "value": k} for k in KINDS]
 
 
+def _read(data: bytes, filename: str, fy_start: int | None, kinds: Mapping[str, str] | None,
+          settings: Any, sheet: str | None) -> Any:
+    from pipeline.ingest import read_file
+
+    # The choices come from the page: anything the controls cannot send counts as unset
+    # (the engine checks the values of the rest, IN021, PE1xx).
+    fy = fy_start if isinstance(fy_start, int) and not isinstance(fy_start, bool) else None
+    chosen = {str(k): str(v) for k, v in kinds.items()} if isinstance(kinds, Mapping) else {}
+    return read_file(data, filename=filename, fy_start=fy or None, kinds=chosen or None,
+                     sheet=sheet if isinstance(sheet, str) and sheet else None,
+                     settings=settings)
+
+
 def read_upload(data: bytes, filename: str, *, fy_start: int | None,
                 kinds: Mapping[str, str] | None, settings: Any = None,
                 sheet: str | None = None) -> Any:
-    """Read a file through the intake (pipeline.ingest.read_file)."""
-    from pipeline.ingest import read_file
+    """Read a file through the intake (pipeline.ingest.read_file); with the server's
+    ``settings``, in a child process bounded by ``read_memory_bytes`` and
+    ``read_seconds`` (:mod:`dashboard.bounded`: UI704, UI705)."""
+    if not isinstance(settings, Settings):
+        return _read(data, filename, fy_start, kinds, settings, sheet)
+    return bounded.run(_read, data, filename, fy_start, kinds, settings, sheet,
+                       memory_bytes=settings.read_memory_bytes,
+                       seconds=settings.read_seconds).value
 
-    return read_file(data, filename=filename, sheet=sheet or None, fy_start=fy_start or None,
-                     kinds=dict(kinds or {}) or None, settings=settings)
+
+def _read_and_preview(data: bytes, filename: str, fy_start: int | None,
+                      kinds: Mapping[str, str] | None, settings: Any, sheet: str | None
+                      ) -> tuple[Any, tuple[Any, ...], Any]:
+    """Both readings the intake screen shows, in one bounded child: (intake or None,
+    its problems when it could not be read, the preview or why there is none)."""
+    try:
+        intake, problems = _read(data, filename, fy_start, kinds, settings, sheet), ()
+    except RealbasisError as err:
+        intake, problems = None, err.problems
+    try:
+        shown: Any = preview(data, filename)
+    except Exception as err:  # the preview is a courtesy, never an error
+        shown = f"the first rows cannot be shown ({type(err).__name__})"
+    return intake, problems, shown
 
 
 def series_rows(series: Sequence[Series]) -> list[dict[str, Any]]:
@@ -263,20 +296,25 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
     if not pending:
         return None, None, None, None, [], True, []
     step(1, 4)
+    shown: Any = None
     try:
-        raw, name = data.upload(pending["upload"])
+        raw, name = data.upload(pending.get("upload") if isinstance(pending, dict) else None)
         step(2, 4)
-        intake = read_upload(raw, name, fy_start=fy_start, kinds=kinds,
-                                   settings=data.settings, sheet=sheet)
+        s = data.settings
+        intake, problems, shown = bounded.run(
+            _read_and_preview, raw, name, fy_start, kinds, s, sheet,
+            memory_bytes=s.read_memory_bytes, seconds=s.read_seconds).value
+        if intake is None:
+            raise RealbasisError(problems)
     except RealbasisError as err:
         step(4, 4)
-        lines = [f"{pending.get('filename', 'The file')} could not be read."]
+        lines = [f"{_name(pending)} could not be read."]
         if "PE102" in err.codes:
             lines.append("Choose the month the fiscal year starts in under 'How the file is "
                          "read' below; the file is then read again.")
         return (notice(lines, "error"),
                 None, problems_view(error_dicts(err), title="The file cannot be read"),
-                _preview(pending, data), [], True, [])
+                _preview_view(shown), [], True, [])
     step(3, 4)
     view = intake_view(intake, name)
     tone = "ok" if view.can_add else ("error" if view.problems else "warn")
@@ -289,16 +327,22 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
     options = [{"label": n, "value": n} for n in view.names]
     sheets = [{"label": str(n), "value": str(n)} for n in getattr(intake, "sheets", ()) or ()]
     step(4, 4)
-    return (summary, series_table, problems, _preview(pending, data), options,
+    return (summary, series_table, problems, _preview_view(shown), options,
             not view.can_add, sheets)
 
 
-def _preview(pending: dict[str, str], data: DataAccess) -> Any:
-    try:
-        raw, name = data.upload(pending["upload"])
-        columns, rows = preview(raw, name)
-    except (RealbasisError, ValueError, OSError) as err:
-        return html.P(f"No preview: {err}")
+def _name(pending: Any) -> str:
+    name = pending.get("filename") if isinstance(pending, dict) else None
+    return str(name)[:255] if name else "The file"
+
+
+def _preview_view(shown: Any) -> Any:
+    """The first rows as written (a table), or in words why there is none."""
+    if shown is None:
+        return None
+    if isinstance(shown, str):
+        return html.P(f"No preview: {shown}.")
+    columns, rows = shown
     return table([Column(c, c) for c in columns], rows)
 
 
@@ -388,7 +432,8 @@ def add_with_summary(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str
     if not pending:
         return None, notice("Drop a file first.", "warn"), ""
     try:
-        raw, name = data.upload(pending["upload"], ref.id)
+        raw, name = data.upload(pending.get("upload") if isinstance(pending, dict) else None,
+                                ref.id)
         intake = read_upload(raw, name, fy_start=fy_start, kinds=kinds,
                                    settings=data.settings, sheet=sheet)
         intake.raise_for_errors()
