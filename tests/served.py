@@ -65,31 +65,19 @@ def start(data_dir: Path, env: Mapping[str, str] | None = None, *, workers: int 
         cwd=ROOT, env=full, stdout=fh, stderr=subprocess.STDOUT, start_new_session=True)
     fh.close()
     server = Server(proc, f"http://127.0.0.1:{port}", log)
-    deadline = time.monotonic() + 120
-    while True:
-        try:
-            with socket.create_connection(("127.0.0.1", port), 1):
-                break
-        except OSError:
-            if proc.poll() is not None or time.monotonic() > deadline:
-                text = server.log_text()
-                server.stop()
-                raise RuntimeError(f"gunicorn did not start:\n{text[-3000:]}") from None
-            time.sleep(0.2)
-    _warm(server)
-    return server
-
-
-def _warm(server: Server) -> None:
     import requests
 
     deadline = time.monotonic() + 120
-    while time.monotonic() < deadline:
+    while True:
+        if proc.poll() is not None or time.monotonic() > deadline:
+            text = server.log_text()
+            server.stop()
+            raise RuntimeError(f"gunicorn did not start:\n{text[-3000:]}")
         try:
             requests.get(server.url + "/_dash-dependencies", timeout=30)
-            return
+            return server
         except requests.RequestException:
-            time.sleep(0.3)
+            time.sleep(0.2)
 
 
 def poll(session: Any, url: str, body: Mapping[str, Any], first: Any, *,
