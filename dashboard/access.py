@@ -146,7 +146,8 @@ def _wants_json() -> bool:
 
 
 def refusal(code: str, message: str, fix: str, status: int = 403, *,
-            headers: Mapping[str, str] | None = None, actions: str = "") -> flask.Response:
+            headers: Mapping[str, str] | None = None, actions: str = "",
+            title: str | None = None) -> flask.Response:
     """A refused request: JSON ``{code, message, fix}`` to callbacks and scripts (the
     page shows it: assets/access-notice.js), an HTML page to a browser's navigation."""
     if _wants_json():
@@ -154,7 +155,7 @@ def refusal(code: str, message: str, fix: str, status: int = 403, *,
         resp.status_code = status
         resp.headers.update(dict(headers or {}))
         return resp
-    return _page("Access refused" if status != 429 else "Too many tries",
+    return _page(title or ("Access refused" if status != 429 else "Too many tries"),
                  f"<p>[{code}] {html.escape(message)}</p><p>{html.escape(fix)}</p>{actions}",
                  status, headers)
 
@@ -262,7 +263,8 @@ class Gate:
                 return refusal(SH002, "this reviewer link is no longer valid: it was "
                                "revoked, it expired, or it never existed",
                                "Ask the workspace's editor for a new link.",
-                               actions=self._exit_action())
+                               actions=self._exit_action(),
+                               title="This reviewer link is no longer valid")
             return AccessContext("reviewer", link.workspace_id, f"reviewer {link.id}",
                                  link_id=link.id, session=sid)
         if self.settings.editor_token:
