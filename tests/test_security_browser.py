@@ -148,6 +148,7 @@ def test_an_ended_editor_sign_in_is_said_on_the_page(tmp_path: Path, page: Any,
         page.click("button[type=submit]")
         page.wait_for_selector("#rb-sign-out", timeout=60_000)
         page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+        _settle(page)
         from pipeline.store import WorkspaceStore
 
         with WorkspaceStore(f"sqlite:///{tmp_path / 'token' / 'realbasis.sqlite'}") as store:
