@@ -58,15 +58,27 @@ def _open_reviewer(page: Any, site: dict[str, Any], token: str) -> None:
 
 
 def _settle(page: Any) -> None:
-    """Wait until the page's chain of callbacks has ended (two quiet seconds): the load
-    computes every screen, with pauses longer than "network idle" between links."""
-    seen: list[int] = [0]
-    page.on("request", lambda r: seen.__setitem__(0, seen[0] + 1)
-            if "_dash-update-component" in r.url else None)
+    """Wait until the page's chain of callbacks has ended: none in flight and none new for
+    two seconds (the load computes every screen, with pauses longer than "network idle"
+    between the links of the chain on a busy machine)."""
+    state = {"started": 0, "open": 0}
+
+    def started(r: Any) -> None:
+        if "_dash-update-component" in r.url:
+            state["started"] += 1
+            state["open"] += 1
+
+    def ended(r: Any) -> None:
+        if "_dash-update-component" in r.url:
+            state["open"] -= 1
+
+    page.on("request", started)
+    page.on("requestfinished", ended)
+    page.on("requestfailed", ended)
     page.wait_for_load_state("networkidle")
     last = -1
-    while last != seen[0]:
-        last = seen[0]
+    while last != state["started"] or state["open"] > 0:
+        last = state["started"]
         page.wait_for_timeout(2000)
 
 
