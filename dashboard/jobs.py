@@ -20,6 +20,7 @@ every background callback is a task.
 
 from __future__ import annotations
 
+import contextlib
 import functools
 from collections.abc import Callable
 from pathlib import Path
@@ -125,6 +126,12 @@ class AccessAwareMixin:
 
     def get_result(self, key: Any, job: Any) -> Any:
         result = super().get_result(key, job)  # type: ignore[misc]
+        if result is self.UNDEFINED and job is not None \
+                and not self.job_running(job):  # type: ignore[attr-defined]
+            # The job may have ended between the look into the cache and this check: its
+            # result is in the cache now. (Dash would otherwise take "no result and not
+            # running" for a cancelled job and answer nothing: a silent no-op.)
+            result = super().get_result(key, job)  # type: ignore[misc]
         err = failure_error(result)
         if err is not None:
             raise err  # in the polling request: dashboard.failures / the 403 answer
@@ -132,7 +139,25 @@ class AccessAwareMixin:
 
 
 class AccessDiskcacheManager(AccessAwareMixin, DiskcacheManager):
-    """diskcache jobs that run under the access of the request that started them."""
+    """diskcache jobs that run under the access of the request that started them.
+
+    A job's process may end between Dash's "does it exist" and "kill its children"
+    (psutil.NoSuchProcess): Dash then lost the result it had just collected and answered
+    an error. Here a process that is already gone counts as ended."""
+
+    def terminate_job(self, job: Any) -> None:
+        import psutil
+
+        with contextlib.suppress(psutil.NoSuchProcess):
+            super().terminate_job(job)
+
+    def job_running(self, job: Any) -> bool:
+        import psutil
+
+        try:
+            return bool(super().job_running(job))
+        except psutil.NoSuchProcess:
+            return False
 
 
 class AccessCeleryManager(AccessAwareMixin, CeleryManager):

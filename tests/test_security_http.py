@@ -541,3 +541,31 @@ def test_dataclass_fields_unchanged_for_other_callers():
     # AccessContext gained a session; positional use elsewhere keeps working
     ctx = AccessContext("reviewer", "w", "reviewer 1", "link")
     assert ctx.session == "" and dataclasses.replace(ctx, session="s").session == "s"
+
+
+def test_a_job_ending_between_two_looks_still_delivers_its_result(tmp_path: Path):
+    """Dash looks into the cache, then asks whether the job still runs; a job that ends
+    in between was taken for cancelled (the page got nothing: a silent no-op), and a job
+    process gone before its children were listed raised psutil.NoSuchProcess (found by the
+    fuzz test under load)."""
+    import diskcache
+
+    from dashboard.jobs import AccessDiskcacheManager
+
+    manager = AccessDiskcacheManager(diskcache.Cache(str(tmp_path / "jobs")))
+    gone = 2**22 + 12345  # beyond the default pid_max: no such process
+    manager.handle.set("k", "result")
+    looks = iter([manager.UNDEFINED])
+    from dash import DiskcacheManager
+
+    original = DiskcacheManager.get_result
+
+    def first_empty(self: Any, key: Any, job: Any) -> Any:
+        return next(looks, None) or original(self, key, job)
+
+    import unittest.mock
+
+    with unittest.mock.patch.object(DiskcacheManager, "get_result", first_empty):
+        assert manager.get_result("k", gone) == "result"
+    manager.terminate_job(gone)  # no NoSuchProcess
+    assert manager.job_running(gone) is False
