@@ -33,9 +33,7 @@ _NS = 'xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"'
 
 
 def _stream(z: zipfile.ZipFile, name: str, parts: Iterator[bytes]) -> None:
-    info = zipfile.ZipInfo(name, date_time=(2024, 1, 1, 0, 0, 0))
-    info.compress_type = zipfile.ZIP_DEFLATED
-    with z.open(info, "w", force_zip64=True) as fh:
+    with z.open(_info(name), "w", force_zip64=True) as fh:
         for part in parts:
             fh.write(part)
 
@@ -62,13 +60,20 @@ def _sheet_rows(rows: int) -> Iterator[bytes]:
     yield b"</sheetData></worksheet>"
 
 
+def _info(name: str) -> zipfile.ZipInfo:
+    """A member with a fixed time stamp (so the corpus is the same bytes every run)."""
+    info = zipfile.ZipInfo(name, date_time=(2024, 1, 1, 0, 0, 0))
+    info.compress_type = zipfile.ZIP_DEFLATED
+    return info
+
+
 def xlsx(sheet: Iterator[bytes], strings: Iterator[bytes]) -> bytes:
     buf = io.BytesIO()
     with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED, compresslevel=9) as z:
-        z.writestr("[Content_Types].xml", _CT)
-        z.writestr("_rels/.rels", _RELS)
-        z.writestr("xl/workbook.xml", _WB)
-        z.writestr("xl/_rels/workbook.xml.rels", _WB_RELS)
+        z.writestr(_info("[Content_Types].xml"), _CT)
+        z.writestr(_info("_rels/.rels"), _RELS)
+        z.writestr(_info("xl/workbook.xml"), _WB)
+        z.writestr(_info("xl/_rels/workbook.xml.rels"), _WB_RELS)
         _stream(z, "xl/sharedStrings.xml", strings)
         _stream(z, "xl/worksheets/sheet1.xml", sheet)
     return buf.getvalue()
@@ -195,7 +200,7 @@ def _zip(members: dict[str, bytes]) -> bytes:
     buf = io.BytesIO()
     with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as z:
         for name, data in members.items():
-            z.writestr(name, data)
+            z.writestr(_info(name), data)
     return buf.getvalue()
 
 

@@ -97,7 +97,7 @@ def poll(session: Any, url: str, body: Mapping[str, Any], first: Any, *,
             return r
         if time.monotonic() > deadline:
             raise TimeoutError(f"background callback {body['output']} did not finish")
-        time.sleep(0.15)
+        time.sleep(0.05)
 
 
 def is_job(r: Any) -> bool:

