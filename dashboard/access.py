@@ -286,9 +286,9 @@ class Gate:
                            "Open the dashboard on the machine it runs on (not through a "
                            "proxy), set REALBASIS_EDITOR_TOKEN, or use a reviewer link.")
         return refusal(SH006, "editing needs the editor token, and none is set",
-                       "Set REALBASIS_EDITOR_TOKEN (editors then sign in), or run "
-                       "`realbasis serve` on 127.0.0.1 for editing from this machine; "
-                       "reviewer links work either way.")
+                       "Set REALBASIS_EDITOR_TOKEN (editors then sign in), or serve on "
+                       "127.0.0.1 with REALBASIS_LOCAL_EDITING on for editing from this "
+                       "machine; reviewer links work either way.")
 
     @staticmethod
     def _local_request() -> bool:
