@@ -24,6 +24,8 @@ DEMO_FILES: tuple[tuple[str, int | None], ...] = (
     ("tallmere_program_spending.csv", 7),
     ("consumer_indexes.csv", None),
     ("chained_consumer_index_vintage_2026-04-15.csv", None),
+    ("chained_consumer_index_vintage_2025-10-15.csv", None),
+    ("chained_consumer_index_vintage_2025-04-15.csv", None),
     ("producer_index.csv", None),
     ("wage_index.csv", None),
     ("government_consumption_deflator.csv", None),

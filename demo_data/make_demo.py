@@ -24,6 +24,9 @@ HERE = Path(__file__).resolve().parent
 MONTHS = pd.period_range("2014-01", "2026-09", freq="M")
 LATEST_VINTAGE = "2026-10-15"    # as-of date of the current index values
 EARLIER_VINTAGE = "2026-04-15"   # as-of date of the earlier chained-index release
+# two older releases of the chained index (revision history for the revision band)
+OLDER_VINTAGES = {"2025-04-15": "2025-03", "2025-10-15": "2025-09"}  # as-of: last month
+OLDER_SEED = SEED + 1            # their own generator, so the other files stay as they were
 N_PRELIM = 11                    # latest months of the chained index still preliminary
 
 
@@ -92,6 +95,28 @@ def consumer_indexes(rng: np.random.Generator) -> tuple[pd.DataFrame, pd.DataFra
                         "value": old_vals.round(3), "unit": "index 2015=100",
                         "status": old_status, "vintage": EARLIER_VINTAGE})
     return cur, old
+
+
+def older_chained_vintages(cur: pd.DataFrame, rng: np.random.Generator) -> dict[str, pd.DataFrame]:
+    """Two older releases of the chained index, each published to its last month with
+    that month and the ten before it preliminary, printed higher than the values later
+    made final (as in the 2026-04-15 release): a revision history of 22 values."""
+    chained = cur[cur["series"] == "Chained consumer index"]
+    out = {}
+    for as_of, last in OLDER_VINTAGES.items():
+        part = chained[chained["period"] <= last].copy()
+        n = len(part)
+        status = np.array(["final"] * n, dtype=object)
+        status[n - N_PRELIM:] = "preliminary"
+        k = np.arange(N_PRELIM)
+        revision = 0.05 + 0.022 * k + rng.normal(0, 0.03, N_PRELIM)
+        values = part["value"].to_numpy(dtype=float, copy=True)
+        values[n - N_PRELIM:] = values[n - N_PRELIM:] + revision
+        part["value"] = values.round(3)
+        part["status"] = status
+        part["vintage"] = as_of
+        out[f"chained_consumer_index_vintage_{as_of}.csv"] = part.reset_index(drop=True)
+    return out
 
 
 def producer_and_wage(rng: np.random.Generator) -> tuple[pd.DataFrame, pd.DataFrame]:
@@ -219,6 +244,7 @@ def main() -> None:
         "wage_index.csv": wage,
         "government_consumption_deflator.csv": gov,
         "construction_cost_index.csv": cons,
+        **older_chained_vintages(cur, np.random.default_rng(OLDER_SEED)),
     }
     for name, frame in files.items():
         frame.to_csv(HERE / name, index=False)

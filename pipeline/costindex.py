@@ -146,6 +146,91 @@ def weights_from_series(series: Sequence[Series], *, weights_as: WeightsAs = "au
     return make_weights(wide, weights_as=weights_as, source=source)
 
 
+TEXT_NAME = "weights (typed text)"
+"""Name the intake gives typed weights internally; problems never show it (they say
+``line N``)."""
+
+
+def _as_line(p: Problem, lines: Mapping[tuple[str, str], int] | None = None) -> Problem:
+    """``p`` located by line of typed text instead of by file and row."""
+    import dataclasses
+
+    from .errors import Location
+
+    w = p.where
+    line = w.row
+    if line is None and lines and w.period:
+        line = lines.get((w.period, w.column or "")) or lines.get((w.period, ""))
+    where = Location(column=w.column, series=w.series, period=w.period, line=line)
+    return dataclasses.replace(p, where=where)
+
+
+def _line_map(data: bytes, fy_start: int | None, settings: object) -> dict[tuple[str, str], int]:
+    """(year label, component or '') -> line of the typed weights table, for problems the
+    weights checks locate by year and component."""
+    from .errors import RealbasisError
+    from .ingest import read_table
+    from .labels import parse_label
+
+    try:
+        table = read_table(data, filename=TEXT_NAME, settings=settings)  # type: ignore[arg-type]
+    except RealbasisError:
+        return {}
+    out: dict[tuple[str, str], int] = {}
+    cells = table.cells
+    for i, line in enumerate(table.rows):
+        row = [str(v) for v in cells.iloc[i].tolist()]
+        label = None
+        for text in row:
+            try:
+                period, freq = parse_label(text.strip(), fy_start)
+            except RealbasisError:
+                continue
+            if freq.code in ("A", "FY"):
+                label = freq.label(period)
+                break
+        if label is None:
+            continue
+        out.setdefault((label, ""), int(line))
+        for text in row:  # long rows: year, component, weight
+            out.setdefault((label, text.strip()), int(line))
+    return out
+
+
+def weights_from_text(text: str, *, components: Sequence[str] | None = None,
+                      fy_start: int | None = None, weights_as: WeightsAs = "auto",
+                      settings: object = None) -> CostWeights:
+    """Weights typed or pasted as text: a small table of one row per year (``period,
+    Goods purchased, Wages, ...``, comma, semicolon or tab separated), read by the
+    intake like a file. Every problem is located by **line of the text** (``line 2``,
+    the header being line 1) and column, never by a file name. ``components`` names the
+    columns that are weights (read as amounts or shares, never as indexes)."""
+    from .errors import RealbasisError
+    from .ingest import read_file
+
+    if not (text or "").strip():
+        raise fail(WS101, "no weights given",
+                   expected="a table: a year column, then one column per component",
+                   found="(empty)", fix="Type or paste the weights, one line per year.")
+    data = text.encode("utf-8")
+    kinds = {c: "flow" for c in components or ()}
+    lines: dict[tuple[str, str], int] | None = None
+    try:
+        intake = read_file(data, filename=TEXT_NAME, fy_start=fy_start,
+                           kinds=kinds or None, settings=settings)  # type: ignore[arg-type]
+        intake.raise_for_errors()
+        money = [s for s in intake.series if s.kind != "index" or s.name in kinds]
+        weights = weights_from_series(money or list(intake.series), weights_as=weights_as)
+    except RealbasisError as err:
+        if any(p.where.row is None and p.where.period for p in err.problems):
+            lines = _line_map(data, fy_start, settings)
+        raise RealbasisError([_as_line(p, lines) for p in err.problems]) from None
+    import dataclasses
+
+    return dataclasses.replace(weights, warnings=tuple(
+        _as_line(p) for p in (*intake.warnings, *weights.warnings)))
+
+
 def make_weights(wide: pd.DataFrame, *, weights_as: WeightsAs = "auto",
                  source: str | None = None) -> CostWeights:
     """Validate and normalise a wide weights table (year periods x components)."""

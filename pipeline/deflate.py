@@ -18,9 +18,10 @@ Alignment rules (IMF Quarterly National Accounts Manual 2017, ch. 8, and DESIGN.
   month").
 * A series more frequent than its deflator is refused (PE204) unless ``to`` asks for the
   deflator's frequency or longer (then the series is first aggregated to the deflator's
-  periods), or ``interpolate=True`` (the deflator is interpolated and every real value
-  resting on an interpolated index value is flagged: :attr:`DeflationResult.interpolated`,
-  ``table(flags=True)``).
+  periods), or ``interpolate`` is allowed (the deflator is interpolated -- by proportional
+  Denton, keeping each published period's average, unless ``interpolate="linear"`` -- and
+  every real value resting on an interpolated index value is flagged:
+  :attr:`DeflationResult.interpolated`, ``table(flags=True)``).
 * Index periods the series needs but the deflator lacks are an error listing them (DF001).
 
 Status: every real value takes the worst status (projected > preliminary > final) of the
@@ -32,7 +33,7 @@ series deflate in one vectorised pass; the tidy table is built only when asked f
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -41,7 +42,7 @@ import pandas as pd
 
 from .errors import Location, Problem, RealbasisError, fail, register, warn
 from .indexes import _require_index, base_means
-from .model import STATUSES, Frequency, Kind, Series
+from .model import MONTHLY, STATUSES, Frequency, Kind, Series
 from .periods import (
     PE201,
     PE204,
@@ -68,6 +69,25 @@ DF005 = register("DF005", "duplicate series or deflator names")
 DF006 = register("DF006", "nothing to deflate")
 DF007 = register("DF007", "deflator value not positive")
 DF010 = register("DF010", "real values rest on preliminary or projected index values")
+DF011 = register("DF011", "nominal values missing inside a series")
+
+Interpolate = bool | str
+"""How a less frequent deflator may be interpolated: False (refused, PE204), True or
+"denton" (proportional Denton, keeping each period's average), "linear" (straight lines
+between mid-period values)."""
+
+
+def interpolation_method(interpolate: Interpolate | None) -> str | None:
+    """None when interpolation is not allowed, else the method name ('denton', 'linear')."""
+    if interpolate is None or interpolate is False or interpolate == "":
+        return None
+    if interpolate is True:
+        from .benchmark import DEFAULT_METHOD
+
+        return DEFAULT_METHOD
+    from .benchmark import check_method
+
+    return check_method(interpolate)
 
 TABLE_COLUMNS: tuple[str, ...] = (
     "series", "deflator", "period", "nominal", "deflator_index", "real", "status",
@@ -168,14 +188,18 @@ class DeflationResult:
     def table(self, *, flags: bool = False, categorical: bool | None = None) -> pd.DataFrame:
         """Tidy table: EXACTLY ``series, deflator, period, nominal, deflator_index, real,
         status`` (periods as canonical labels: 2024-01, 2024Q1, 2024, FY2025), one row per
-        series x deflator x period with a nominal value, ordered that way. ``flags=True``
+        series x deflator x period from the series' first nominal value to its last,
+        ordered that way; a period missing inside that span has its row with empty
+        ``nominal`` and ``real`` (a DF011 or PE210 warning names it). ``flags=True``
         adds a boolean ``interpolated`` column.
 
         The four text columns are plain strings; tables of more than
         :data:`CATEGORICAL_ROWS` rows use pandas categoricals for them instead (same values,
         built in a fraction of the time and memory). ``categorical`` forces either."""
         d_n, t_n, s_n = len(self.deflator_names), len(self.periods), len(self.series_names)
-        present = ~np.isnan(self.nominal)  # (T, S)
+        # a row for every period from each series' first nominal value to its last; a
+        # period missing inside (DF011, PE210) keeps its row with empty numbers
+        present = within_span(~np.isnan(self.nominal))  # (T, S)
 
         def flat(a: np.ndarray) -> np.ndarray:  # (D, T, S) -> order series, deflator, period
             return np.asarray(a).transpose(2, 0, 1).reshape(-1)
@@ -225,6 +249,48 @@ class DeflationResult:
 # --------------------------------------------------------------------------- helpers
 
 
+def within_span(present: np.ndarray) -> np.ndarray:
+    """(T, S) bool: the period lies between a column's first and last present value."""
+    if present.size == 0:
+        return present
+    t = np.arange(present.shape[0])[:, None]
+    any_ = present.any(axis=0)
+    first = np.where(any_, present.argmax(axis=0), present.shape[0])
+    last = np.where(any_, present.shape[0] - 1 - present[::-1].argmax(axis=0), -1)
+    return (t >= first[None, :]) & (t <= last[None, :])
+
+
+def _missing_inside(nominal: np.ndarray, reported: np.ndarray | None, labels: np.ndarray,
+                    names: Sequence[str], freq: Frequency) -> list[Problem]:
+    """DF011 per series (at most 20, then one for the rest) with nominal values missing
+    between its first and last value, other than periods PE210 already names."""
+    present = ~np.isnan(nominal)
+    inside = within_span(present) & ~present
+    if reported is not None:
+        inside &= ~reported
+    cols = np.flatnonzero(inside.any(axis=0))
+    out: list[Problem] = []
+    for j in cols[:20].tolist():
+        rows = np.flatnonzero(inside[:, j])
+        labs = [str(x) for x in labels[rows]]
+        out.append(warn(DF011, f"{names[j]!r} has no nominal value in {len(rows)} period(s) "
+                        "inside its span; those rows are kept with empty numbers",
+                        expected="a nominal value in every period from the first to the last",
+                        found=f"missing {describe_ranges(labs)}", series=str(names[j]),
+                        period=labs[0],
+                        fix="Supply the missing values, or accept that these periods stay "
+                        "empty (they are never filled in or bridged)."))
+    if len(cols) > 20:
+        more = [names[j] for j in cols[20:]]
+        out.append(warn(DF011, f"{len(more)} more series have nominal values missing inside "
+                        "their span; those rows are kept with empty numbers",
+                        expected="a nominal value in every period from the first to the last",
+                        found=_fmt_names(more),
+                        fix="Supply the missing values, or accept that these periods stay "
+                        "empty (they are never filled in or bridged)."))
+    return out
+
+
 def _rule(kind: str) -> Rule:
     return "last" if kind == "stock" else "sum"
 
@@ -241,14 +307,67 @@ class _Deflator:
     rebased: np.ndarray  # (len(full),) base = 100
     ranks: np.ndarray  # (len(full),) int8 status ranks
     base_rank: int
+    interp: np.ndarray | None = None  # (len(full),) bool: made by interpolation (bridged)
+    bridge: str = ""  # words on the interpolation, when the deflator was bridged
+    bridge_warnings: tuple[Problem, ...] = ()
+    indicator: Series | None = None  # guides a Denton interpolation of this deflator
 
 
-def _prepare_deflators(deflators: Sequence[Series], span: Span) -> list[_Deflator]:
+def _indicator_for(name: str, indicators: Mapping[str, Series] | Series | None) -> Series | None:
+    if indicators is None or isinstance(indicators, Series):
+        return indicators
+    return indicators.get(name)
+
+
+def _needs_bridge(d: Series, span: Span, freqs: Sequence[Frequency]) -> bool:
+    """Whether ``d`` must be interpolated to months to serve at all: its periods do not
+    nest with a series' (calendar years and fiscal years starting July), or the base is
+    not made of whole periods of it (FY2025 for a calendar-year index)."""
+    if d.frequency.code == "M":
+        return False
+    if any(relation(f, d.frequency) is None for f in freqs):
+        return True
+    try:
+        span.periods_in(d.frequency)
+    except RealbasisError:
+        return True
+    return False
+
+
+def _bridge(d: Series, method: str, indicator: Series | None
+            ) -> tuple[Series, np.ndarray, str, tuple[Problem, ...]]:
+    """``d`` interpolated to months by ``method`` (every value flagged), with the words
+    for the note."""
+    if method == "linear":
+        conv = interpolate_index(d, MONTHLY)
+        how = "straight lines between mid-period values"
+    else:
+        from .benchmark import interpolate as denton_interpolate
+
+        conv = denton_interpolate(d, MONTHLY, method="denton", indicator=indicator)
+        how = "proportional Denton, keeping each published period's average"
+    words = (f"{d.name!r} ({d.frequency.describe()}) was first interpolated to months, "
+             f"because its periods do not fit the series' or the base's ({how}; every "
+             "value resting on it is flagged as interpolated)")
+    return conv.series, np.ones(len(conv.series.index), dtype=bool), words, conv.warnings
+
+
+def _prepare_deflators(deflators: Sequence[Series], span: Span, *,
+                       interpolate: Interpolate = False, freqs: Sequence[Frequency] = (),
+                       indicators: Mapping[str, Series] | Series | None = None
+                       ) -> list[_Deflator]:
+    method = interpolation_method(interpolate)  # an unknown method is refused before any work
     out = []
     problems: list[Problem] = []
     for d in deflators:
         _require_index(d)
         check_index(d)
+        interp = None
+        bridge = ""
+        bridged: tuple[Problem, ...] = ()
+        indicator = _indicator_for(d.name, indicators)
+        if method and _needs_bridge(d, span, freqs):
+            d, interp, bridge, bridged = _bridge(d, method, indicator)
         full = full_range(d.values.dropna().index, d.frequency)
         vals = d.values.reindex(full).to_numpy(dtype=float)
         try:
@@ -260,7 +379,10 @@ def _prepare_deflators(deflators: Sequence[Series], span: Span) -> list[_Deflato
         ranks_a = ranks.to_numpy(dtype=np.int8)
         bpos = full.get_indexer(span.periods_in(d.frequency))
         base_rank = int(ranks_a[bpos].max()) if len(bpos) else 0
-        out.append(_Deflator(d, full, 100.0 * vals / mean, ranks_a, base_rank))
+        if interp is not None:  # every value of a bridged deflator is interpolated
+            interp = np.ones(len(full), dtype=bool)
+        out.append(_Deflator(d, full, 100.0 * vals / mean, ranks_a, base_rank, interp, bridge,
+                             bridged, indicator))
     if problems:
         raise RealbasisError(problems)
     return out
@@ -278,7 +400,8 @@ class _AtWork:
     warnings: tuple[Problem, ...] = ()
 
 
-def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str) -> _AtWork:
+def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str,
+                 method: str | None = None) -> _AtWork:
     src = d.series.frequency
     rel = relation(src, work)
     if rel in ("same", "coarser"):
@@ -289,12 +412,21 @@ def _deflator_at(d: _Deflator, work: Frequency, kind: str, name: str) -> _AtWork
                  f"{name!r} ({src.describe()}) taken to {work.describe()} as the "
                  f"{RULE_WORDS[rule]}" + (" (stocks use the index at the period's end)"
                                           if rule == "last" else ""))
-        return _AtWork(g.index, g.values[:, 0], r, np.zeros(len(g.index), dtype=bool), words)
+        flags = np.zeros(len(g.index), dtype=bool)
+        if d.interp is not None and len(g.index):
+            flags = np.maximum.reduceat(d.interp.astype(np.int8), g.starts).astype(bool)
+            words = f"{d.bridge}; {words}"
+        return _AtWork(g.index, g.values[:, 0], r, flags, words, d.bridge_warnings)
     # deflator coarser than the working frequency: interpolate (only asked-for path)
     s = d.series.with_values(pd.Series(d.rebased, index=d.full),
                              status=pd.Series(_STATUS_ARR[d.ranks.astype(np.intp)],
                                               index=d.full, dtype=object))
-    conv = interpolate_index(s, work)
+    if method == "linear":
+        conv = interpolate_index(s, work)
+    else:
+        from .benchmark import interpolate as denton_interpolate
+
+        conv = denton_interpolate(s, work, method="denton", indicator=d.indicator)
     st = conv.series.status_or_final().map({"final": 0, "preliminary": 1, "projected": 2})
     return _AtWork(conv.series.index, conv.series.values.to_numpy(dtype=float),
                    st.to_numpy(dtype=np.int8),
@@ -339,7 +471,7 @@ def _partial_summary(labels: np.ndarray, incomplete: np.ndarray, names: Sequence
 def _block(
     frame: np.ndarray, idx: pd.PeriodIndex, freq: Frequency, kind: str,
     names: tuple[str, ...], units: tuple[str | None, ...], defl: list[_Deflator],
-    to: Frequency | None, interpolate: bool, series_ranks: np.ndarray | None = None,
+    to: Frequency | None, interpolate: Interpolate, series_ranks: np.ndarray | None = None,
 ) -> _Block:
     """Deflate one block of series sharing frequency and kind (rows = contiguous idx)."""
     out_freq = to or freq
@@ -367,10 +499,13 @@ def _block(
     warnings: list[Problem] = []
     problems: list[Problem] = []
     out_labels = np.array(out_freq.labels(periods), dtype=object)
+    incomplete = None
     if rel_out == "coarser" and n_t:
         touched = np.add.reduceat(present.astype(np.int32), g_nom.starts, axis=0) > 0
         incomplete = touched & ~g_nom.complete
         warnings.extend(_partial_summary(out_labels, incomplete, names, out_freq))
+    if n_t:
+        warnings.extend(_missing_inside(nominal, incomplete, out_labels, names, out_freq))
     for k, d in enumerate(defl):
         dname = d.series.name
         dfreq = d.series.frequency
@@ -381,7 +516,9 @@ def _block(
                        f"({dfreq.describe()}): the periods do not nest",
                        expected="series and deflator periods that fit into one another",
                        found=f"{freq.describe()} and {dfreq.describe()}", series=names[0],
-                       fix="Use a deflator whose periods align with the series.")
+                       fix="Use a deflator whose periods align with the series, or allow "
+                       "interpolating it to months (every value resting on an interpolated "
+                       "one is then flagged).", remedy="interpolate")
         # working frequency: the highest both share
         work = freq
         if rel_sd == "coarser":
@@ -397,8 +534,9 @@ def _block(
                            found=f"{dname!r} is {dfreq.describe()}", series=names[0],
                            fix=f"Show the results at {dfreq.describe()} or longer, use a "
                            "more frequent deflator, or allow interpolation (every "
-                           "interpolated value is then flagged).", remedy="result_frequency")
-        at = _deflator_at(d, work, kind, dname)
+                           "interpolated value is then flagged).",
+                           remedy="result_frequency interpolate")
+        at = _deflator_at(d, work, kind, dname, interpolation_method(interpolate))
         warnings.extend(w for w in at.warnings if w not in warnings)
         if work == freq or relation(freq, work) == "same":
             n_w, idx_w = frame, idx
@@ -538,7 +676,7 @@ def _resolve_fy(fy_start: int | None, to: Frequency | None, freqs: Sequence[Freq
 
 
 def _common_note(span: Span, deflators: Sequence[Series], out: Frequency,
-                 interpolate: bool) -> list[str]:
+                 interpolate: Interpolate) -> list[str]:
     lines = [
         f"Constant {span.label} dollars: real = nominal x I(base) / I(t), each deflator "
         f"rebased so that its average over {span.describe()} = 100 (deflator_index).",
@@ -550,17 +688,21 @@ def _common_note(span: Span, deflators: Sequence[Series], out: Frequency,
         "nominal values it sums (e.g. projected out-year amounts).",
         f"Results are {out.describe()}.",
     ]
-    if interpolate:
-        lines.append("Interpolation was allowed: real values resting on interpolated index "
-                     "values are flagged (column 'interpolated').")
+    method = interpolation_method(interpolate)
+    if method:
+        how = ("proportional Denton, keeping each published period's average" if
+               method == "denton" else "straight lines between mid-period values")
+        lines.append(f"Interpolation was allowed ({how}): real values resting on "
+                     "interpolated index values are flagged (column 'interpolated').")
     return lines
 
 
 def deflate_frame(
     nominal: pd.DataFrame, deflators: Sequence[Series], base: str | Span | pd.Period, *,
     frequency: Frequency, kind: Kind = "flow", to: Frequency | None = None,
-    interpolate: bool = False, fy_start: int | None = None,
+    interpolate: Interpolate = False, fy_start: int | None = None,
     units: Sequence[str | None] | None = None,
+    indicators: Mapping[str, Series] | Series | None = None,
 ) -> DeflationResult:
     """Vectorised core: deflate every column of a wide frame (PeriodIndex rows of
     ``frequency``, one column per series of the same ``kind``) by every deflator."""
@@ -576,7 +718,8 @@ def deflate_frame(
     _unique(tuple(d.name for d in deflators), "deflator")
     fy = _resolve_fy(fy_start, to, [frequency, *(d.frequency for d in deflators)])
     span = parse_span(base, fy)
-    defl = _prepare_deflators(deflators, span)
+    defl = _prepare_deflators(deflators, span, interpolate=interpolate,
+                              freqs=(frequency, *((to,) if to else ())), indicators=indicators)
     idx = nominal.index
     full = full_range(idx, frequency) if len(idx) else idx
     arr = nominal.to_numpy(dtype=float)
@@ -598,7 +741,7 @@ def _unique(names: tuple[str, ...], what: str) -> None:
 
 
 def _result(span: Span, out: Frequency, blocks: list[_Block], defl: list[_Deflator],
-            interpolate: bool) -> DeflationResult:
+            interpolate: Interpolate) -> DeflationResult:
     method = _common_note(span, [d.series for d in defl], out, interpolate)
     warnings: list[Problem] = []
     for b in blocks:
@@ -664,8 +807,8 @@ def _freq_of_index(idx: pd.PeriodIndex) -> Frequency:
 
 def deflate(
     series: Sequence[Series], deflators: Sequence[Series], base: str | Span | pd.Period, *,
-    to: Frequency | None = None, interpolate: bool = False, kind: Kind | None = None,
-    fy_start: int | None = None,
+    to: Frequency | None = None, interpolate: Interpolate = False, kind: Kind | None = None,
+    fy_start: int | None = None, indicators: Mapping[str, Series] | Series | None = None,
 ) -> DeflationResult:
     """Deflate every series by every deflator into constant dollars of ``base``.
 
@@ -675,7 +818,11 @@ def deflate(
     ``to``: the frequency of the results (default: the series' own, which must then be
     shared by all series). ``kind`` overrides every series' kind (flow or stock).
     ``interpolate``: allow interpolating a deflator less frequent than a series (every
-    value resting on an interpolated index value is flagged).
+    value resting on an interpolated index value is flagged): ``True`` or ``"denton"``
+    for proportional Denton (each published period's average is kept; IMF QNA Manual
+    2017, ch. 6), ``"linear"`` for straight lines between mid-period values.
+    ``indicators``: a more frequent index that guides the Denton interpolation of a
+    deflator -- one Series for every deflator, or a mapping by deflator name.
     """
     if not series:
         raise fail(DF006, "no series to deflate", expected="one or more money series",
@@ -703,7 +850,8 @@ def deflate(
                    remedy="result_frequency")
     fy = _resolve_fy(fy_start, to, [*freqs, *(d.frequency for d in deflators)])
     span = parse_span(base, fy)
-    defl = _prepare_deflators(deflators, span)
+    defl = _prepare_deflators(deflators, span, interpolate=interpolate,
+                              freqs=(*freqs, *((to,) if to else ())), indicators=indicators)
     groups: dict[tuple[Frequency, str], list[Series]] = {}
     for s in series:
         groups.setdefault((s.frequency, kind or s.kind), []).append(s)

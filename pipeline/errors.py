@@ -13,8 +13,9 @@ changes meaning once released; retire a code rather than reuse it.
 the dashboard, and a fix must name what the user can act on *there*: an option on the
 command line, a control on a screen. So a problem's ``fix`` is written in neutral words
 (no option names, no screen names), and where the remedy is a choice each face offers in
-its own way the problem also carries a ``remedy`` key (one of :data:`REMEDIES`). Each
-face renders that key in its own words (``pipeline.commands.remedies.CLI`` for the command
+its own way the problem also carries a ``remedy`` key (one of :data:`REMEDIES`; several
+keys separated by spaces when more than one choice helps). Each
+face renders those keys in its own words (``pipeline.commands.remedies.CLI`` for the command
 line, ``dashboard.remedies.SCREEN`` for the dashboard) and falls back to ``fix``. Exports
 are the same file whichever face wrote them, so they carry the neutral ``fix``.
 
@@ -84,17 +85,26 @@ Every face renders every key (a test checks the command line's and the dashboard
 vocabularies cover them all)."""
 
 
+def remedy_keys(remedy: str) -> tuple[str, ...]:
+    """The keys of a problem's ``remedy``: one key, or several separated by spaces when
+    more than one choice would help (``"result_frequency interpolate"``)."""
+    return tuple(remedy.split())
+
+
 def fix_text(problem: Problem, vocabulary: Mapping[str, str] | None = None) -> str:
     """The fix as one face shows it: the neutral ``fix`` followed by the face's words for
-    the problem's remedy (how to do it there), when the face has them."""
-    words = (vocabulary or {}).get(problem.remedy, "") if problem.remedy else ""
-    return " ".join(t for t in (problem.fix, words) if t)
+    each of the problem's remedies (how to do it there), when the face has them."""
+    vocab = vocabulary or {}
+    words = [vocab.get(k, "") for k in remedy_keys(problem.remedy)]
+    return " ".join(t for t in (problem.fix, *words) if t)
 
 
 @dataclass(frozen=True)
 class Location:
     """Where a problem sits. Rows are 1-based as a spreadsheet user counts them
-    (the header is row 1 of a CSV); columns are header names where there is one."""
+    (the header is row 1 of a CSV); columns are header names where there is one.
+    ``line`` is the 1-based line of typed text (a table pasted into a box rather than a
+    file: no file name, no row)."""
 
     file: str | None = None
     sheet: str | None = None
@@ -102,9 +112,12 @@ class Location:
     column: str | None = None
     series: str | None = None
     period: str | None = None
+    line: int | None = None
 
     def render(self) -> str:
         parts = []
+        if self.line is not None:
+            parts.append(f"line {self.line}")
         if self.file:
             parts.append(f"file {self.file}")
         if self.sheet:
@@ -134,11 +147,12 @@ class Problem:
     fix: str = ""
     where: Location = field(default_factory=Location)
     severity: Severity = "error"
-    remedy: str = ""
+    remedy: str = ""  # a key of REMEDIES, or several separated by spaces
 
     def __post_init__(self) -> None:
-        if self.remedy and self.remedy not in REMEDIES:
-            raise ValueError(f"unknown remedy {self.remedy!r}; add it to errors.REMEDIES")
+        unknown = [k for k in remedy_keys(self.remedy) if k not in REMEDIES]
+        if unknown:
+            raise ValueError(f"unknown remedy {unknown[0]!r}; add it to errors.REMEDIES")
 
     def render(self, vocabulary: Mapping[str, str] | None = None) -> str:
         """One readable paragraph: code, where, what, expected/found, fix (in the words of

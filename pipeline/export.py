@@ -2,14 +2,17 @@
 
 * ``.csv``: the tidy table with EXACTLY the columns ``series, deflator, period, nominal,
   deflator_index, real, status`` (periods written 2024-01, 2024Q1, 2024, FY2025), plus an
-  ``interpolated`` column only when interpolation was used (never on the command line,
-  which has no interpolation switch).
+  ``interpolated`` column only when interpolation was used.
 * ``.json``: ``{"base", "frequency", "dollars", "columns", "records", "method",
-  "cautions", "warnings", "context"}``; missing numbers are ``null``.
+  "cautions", "warnings", "context"}``, plus ``"revision_bands"`` when revision bands
+  are given (context ``bands=``: :class:`pipeline.revision_risk.RevisionBand`, each as
+  its ``as_dict()``); missing numbers are ``null``.
 * ``.xlsx``: the audit workbook of :mod:`pipeline.workbook` (Summary, the "Real terms"
   data sheet written by :func:`write_data_sheet`, one "Real - <deflator>" sheet each,
-  "Indexes used", "Status flags", "Method"). :func:`build_workbook` still gives the
-  minimal two-sheet workbook (data and method) for callers that want only that.
+  "Indexes used", "Status flags", "Revision band" when bands are given, "Method").
+  :func:`write_minimal_workbook` still gives the
+  minimal two-sheet workbook (data and method) for callers that want only that. Every
+  workbook is written by the streaming writer of :mod:`pipeline.xlsx` (xlsxwriter).
 
 Text cells that a spreadsheet would read as a formula (starting with = + - @, a tab or a
 carriage return) are written with a leading single quote (:func:`neutralise`).
@@ -82,7 +85,9 @@ def _num(v: float) -> float | None:
 
 
 def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
-    """Everything the JSON export holds, as plain Python objects."""
+    """Everything the JSON export holds, as plain Python objects. ``bands`` (a sequence of
+    revision bands) becomes ``revision_bands``; other context is listed as text."""
+    bands = context.pop("bands", None) or ()
     table = export_table(result)
     records = []
     cols = list(table.columns)
@@ -97,7 +102,7 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
             else:
                 rec[c] = v
         records.append(rec)
-    return {
+    out = {
         "base": result.base_label,
         "frequency": result.frequency.describe(),
         "dollars": result.dollars_label,
@@ -108,6 +113,9 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
         "warnings": [p.as_dict() for p in result.warnings],
         "context": {k: v for k, v in _context_lines(context)},
     }
+    if bands:
+        out["revision_bands"] = [b.as_dict() for b in bands]
+    return out
 
 
 def write_json(result: DeflationResult, path: Path, **context: Any) -> None:
@@ -118,17 +126,15 @@ def write_json(result: DeflationResult, path: Path, **context: Any) -> None:
 
 
 def write_data_sheet(wb: Any, table: pd.DataFrame, title: str = "Real terms") -> Any:
-    """Append a sheet holding ``table`` (header row + values), text neutralised."""
+    """Append a sheet holding ``table`` (header row + values), text neutralised, NaN
+    empty (:class:`pipeline.xlsx.Book`; written column-wise, the fast path)."""
     if len(table) + 1 > XLSX_MAX_ROWS:
         raise fail(EX003, f"{len(table)} rows do not fit on one Excel sheet",
                    expected=f"at most {XLSX_MAX_ROWS - 1} rows", found=str(len(table)),
                    fix="Export CSV or JSON instead, or deflate fewer series at a time.")
     ws = wb.create_sheet(title)
-    ws.append(list(table.columns))
-    safe = neutralise_frame(table)
-    cols = [safe[c].to_numpy() for c in safe.columns]
-    for row in zip(*cols, strict=True):
-        ws.append([_cell(v) for v in row])
+    ws.append_columns([table[c].to_numpy() for c in table.columns],
+                      header=[str(c) for c in table.columns])
     return ws
 
 
@@ -144,14 +150,15 @@ def _cell(v: object) -> object:
 
 def write_method_sheet(wb: Any, result: DeflationResult, context: Mapping[str, Any],
                        title: str = "Method") -> Any:
-    """Append the method sheet: base, method note, cautions, warnings, context."""
+    """Append the method sheet: base, method note, cautions, warnings, context (text is
+    neutralised by the sheet writer)."""
     ws = wb.create_sheet(title)
     ws.append(["Real terms", result.dollars_label])
     ws.append(["Results", result.frequency.describe()])
     ws.append([])
     ws.append(["Method"])
     for line in result.method_note():
-        ws.append(["", neutralise(line)])
+        ws.append(["", line])
     ws.append([])
     ws.append(["Cautions"])
     for line in CAUTIONS:
@@ -160,24 +167,25 @@ def write_method_sheet(wb: Any, result: DeflationResult, context: Mapping[str, A
         ws.append([])
         ws.append(["Warnings"])
         for p in result.warnings:
-            ws.append([p.code, neutralise(p.render())])
+            ws.append([p.code, p.render()])
     ctx = _context_lines(context)
     if ctx:
         ws.append([])
         ws.append(["Context"])
         for k, v in ctx:
-            ws.append([neutralise(k), neutralise(v)])
+            ws.append([k, v])
     return ws
 
 
-def build_workbook(result: DeflationResult, **context: Any) -> Any:
-    """The export workbook (openpyxl, write-only) before saving: data and method sheets."""
-    from openpyxl import Workbook
+def write_minimal_workbook(result: DeflationResult, path: str | Path, **context: Any) -> Path:
+    """The minimal two-sheet workbook (data and method) for callers that want only that."""
+    from .workbook import write_book
 
-    wb = Workbook(write_only=True)
-    write_data_sheet(wb, export_table(result))
-    write_method_sheet(wb, result, context)
-    return wb
+    def build(wb: Any) -> None:
+        write_data_sheet(wb, export_table(result))
+        write_method_sheet(wb, result, context)
+
+    return write_book(path, build)
 
 
 def write_xlsx(result: DeflationResult, path: Path, **context: Any) -> None:
@@ -206,6 +214,74 @@ def write_result(result: DeflationResult, path: str | Path, **context: Any) -> P
             write_json(result, p, **context)
         else:
             write_xlsx(result, p, **context)
+    except OSError as err:
+        raise fail(EX002, f"could not write {p.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(p),
+                   fix="Check that the folder exists and that you may write there.") from None
+    return p
+
+
+def check_suffix(path: str | Path) -> str:
+    """The export format of ``path`` (.csv, .json, .xlsx) or EX001."""
+    p = Path(path)
+    suffix = p.suffix.lower()
+    if suffix not in SUFFIXES:
+        raise fail(EX001, f"cannot write {p.name!r}: unknown export format",
+                   expected="a file name ending in .csv, .json or .xlsx",
+                   found=suffix or "(no suffix)", file=str(p),
+                   fix="Name the output file with one of those suffixes.")
+    return suffix
+
+
+def _records(table: pd.DataFrame) -> list[dict[str, Any]]:
+    cols = list(table.columns)
+    return [{c: _cell(v) for c, v in zip(cols, row, strict=True)}
+            for row in zip(*(table[c].to_numpy() for c in cols), strict=True)]
+
+
+def write_table(table: pd.DataFrame, path: str | Path, *, title: str,
+                method: tuple[str, ...] | list[str] = (), warnings: tuple[Any, ...] = (),
+                text_columns: tuple[str, ...] = (), sheet: str = "Table",
+                extra: Mapping[str, Any] | None = None, **context: Any) -> Path:
+    """Write a table that is not a deflation result (growth, totals) by suffix:
+
+    ``.csv`` the table exactly (text neutralised); ``.json`` ``{"title", ..extra,
+    "columns", "records", "method", "cautions", "warnings", "context"}`` (missing numbers
+    null); ``.xlsx`` a data sheet named ``sheet`` and a method sheet (title, method,
+    cautions, warnings, context)."""
+    p = Path(path)
+    suffix = check_suffix(p)
+    text = text_columns or tuple(c for c in table.columns if not pd.api.types.is_numeric_dtype(
+        table[c]))
+    try:
+        if suffix == ".csv":
+            neutralise_frame(table, text).to_csv(p, index=False, lineterminator=CSV_LINE_END)
+        elif suffix == ".json":
+            data = {"title": title, **dict(extra or {}), "columns": list(table.columns),
+                    "records": _records(table), "method": list(method),
+                    "cautions": list(CAUTIONS), "warnings": [w.as_dict() for w in warnings],
+                    "context": {k: v for k, v in _context_lines(context)}}
+            with open(p, "w", encoding="utf-8") as fh:
+                json.dump(data, fh, ensure_ascii=False, indent=1, allow_nan=False)
+                fh.write("\n")
+        else:
+            from .workbook import write_book
+
+            def build(wb: Any) -> None:
+                write_data_sheet(wb, table, sheet)
+                ws = wb.create_sheet("Method")
+                ws.append([title])
+                for heading, lines in (("Method", list(method)), ("Cautions", list(CAUTIONS)),
+                                       ("Warnings", [w.render() for w in warnings]),
+                                       ("Context", [f"{k}: {v}" for k, v in
+                                                    _context_lines(context)])):
+                    if lines:
+                        ws.append([])
+                        ws.append([heading])
+                        for line in lines:
+                            ws.append(["", line])
+
+            write_book(p, build)
     except OSError as err:
         raise fail(EX002, f"could not write {p.name!r}", expected="a writable file path",
                    found=f"{type(err).__name__}: {err.strerror or err}", file=str(p),

@@ -33,6 +33,7 @@ GR002 = register("GR002", "growth period not in the data")
 GR003 = register("GR003", "growth needs a period index")
 GR004 = register("GR004", "the split needs two of nominal, real and price growth")
 GR005 = register("GR005", "end period must come after the start period")
+GR006 = register("GR006", "unknown growth measure")
 
 Measure = Literal["period_on_period", "annualised", "year_on_year", "cumulative"]
 Values = pd.Series | pd.DataFrame
@@ -315,3 +316,148 @@ def growth_table(result: Any, series: str, deflator: str | int = 0, *,
         "real_growth": np.asarray(r_g),
         "status": status.to_numpy(),
     })
+
+
+# --------------------------------------------------------------------------- split table
+
+SPLIT_COLUMNS: tuple[str, ...] = (
+    "series", "deflator", "measure", "start", "end", "nominal_pct", "price_pct", "real_pct",
+)
+SPLIT_MEASURES: tuple[str, ...] = ("period", "annualised", "yoy", "cagr", "cumulative")
+_LAGGED = ("period", "annualised", "yoy")
+
+
+@dataclass(frozen=True, eq=False)
+class SplitTable:
+    """Nominal, price and real growth of every series under every deflator, in percent.
+
+    ``table`` has EXACTLY the columns :data:`SPLIT_COLUMNS`, one row per series x
+    deflator x measure x period (``cagr`` and ``cumulative`` one row each, first to last
+    period), ordered that way; the split is exact: (1 + nominal) = (1 + real)(1 + price).
+    """
+
+    table: pd.DataFrame
+    frequency: Frequency
+    method: tuple[str, ...]
+    warnings: tuple[Problem, ...] = ()
+
+    def method_note(self) -> tuple[str, ...]:
+        return self.method
+
+
+def split_table(result: Any, *, nominal: np.ndarray | None = None,
+                real: np.ndarray | None = None,
+                measures: tuple[str, ...] = SPLIT_MEASURES, adjusted: bool = False
+                ) -> SplitTable:
+    """Growth of every series of a :class:`pipeline.deflate.DeflationResult` under every
+    deflator, split exactly into price and real growth (vectorised over deflators x
+    periods x series).
+
+    Measures: ``period`` (on the period before), ``annualised`` ((x_t / x_t-1)^m - 1 with
+    m periods a year), ``yoy`` (on the same period a year earlier), ``cagr`` (compound
+    annual rate first to last period) and ``cumulative`` (first to last period). Price
+    growth is that of the deflator as used (the implicit deflator nominal / real for
+    aggregated periods), so real = (1 + nominal) / (1 + price) - 1 is the growth of the
+    real values themselves. ``nominal`` (T, S) and ``real`` (D, T, S) replace the result's
+    values (e.g. seasonally adjusted ones; say so with ``adjusted=True``)."""
+    freq: Frequency = result.frequency
+    periods: pd.PeriodIndex = result.periods
+    nom = np.asarray(result.nominal if nominal is None else nominal, dtype=float)
+    rea = np.asarray(result.real if real is None else real, dtype=float)
+    names = list(result.series_names)
+    dnames = list(result.deflator_names)
+    labels = np.array(freq.labels(periods), dtype=object)
+    if len(periods) > 1:  # lags go by the calendar: put the rows on the full range
+        from .periods import full_range
+
+        full = full_range(periods, freq)
+        if len(full) != len(periods):
+            pos = full.get_indexer(periods)
+            n2 = np.full((len(full), nom.shape[1]), np.nan)
+            n2[pos] = nom
+            r2 = np.full((rea.shape[0], len(full), rea.shape[2]), np.nan)
+            r2[:, pos] = rea
+            nom, rea, periods = n2, r2, full
+            labels = np.array(freq.labels(full), dtype=object)
+    d_n, t_n, s_n = rea.shape
+    m = freq.periods_per_year
+    unknown = [x for x in measures if x not in SPLIT_MEASURES]
+    if unknown or not measures:
+        raise fail(GR006, f"unknown growth measure {unknown[0] if unknown else '(none)'!r}",
+                   expected=" | ".join(SPLIT_MEASURES), found=", ".join(unknown) or "none",
+                   fix="Choose among period, annualised, yoy, cagr and cumulative.")
+    present = ~np.isnan(nom)[None, :, :] & ~np.isnan(rea)  # (D, T, S)
+    nom_d = np.broadcast_to(nom[None, :, :], rea.shape)
+    blocks: list[tuple[str, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]] = []
+    for measure in measures:
+        if measure in _LAGGED:
+            lag = m if measure == "yoy" else 1
+            g_n = lagged_ratio_wide(nom_d, lag)
+            g_r = lagged_ratio_wide(rea, lag)
+            if measure == "annualised":
+                g_n = ratio_to_rate(1.0 + g_n, power=float(m))
+                g_r = ratio_to_rate(1.0 + g_r, power=float(m))
+            keep = np.zeros(rea.shape, dtype=bool)
+            if t_n > lag:
+                keep[:, lag:] = present[:, lag:] & present[:, :-lag]
+            t_idx = np.broadcast_to(np.arange(t_n)[None, :, None], rea.shape)
+            blocks.append((measure, g_n, g_r, t_idx - lag, t_idx, keep))
+            continue
+        # first to last period with a value, per deflator and series
+        has = present.any(axis=1)  # (D, S)
+        first = np.argmax(present, axis=1)
+        last = t_n - 1 - np.argmax(present[:, ::-1], axis=1)
+        keep1 = has & (last > first)
+        di, si = np.indices((d_n, s_n))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            n0, n1 = nom[first, si], nom[last, si]
+            r0, r1 = rea[di, first, si], rea[di, last, si]
+            rn = np.where((n0 > 0) & (n1 >= 0), n1 / n0, np.nan)
+            rr = np.where((r0 > 0) & (r1 >= 0), r1 / r0, np.nan)
+            years = (last - first) * freq.months_per_period / 12.0
+            power = np.where(years > 0, 1.0 / np.where(years > 0, years, 1.0), np.nan) \
+                if measure == "cagr" else 1.0
+            g_n, g_r = rn ** power - 1.0, rr ** power - 1.0
+        blocks.append((measure, g_n[:, None, :], g_r[:, None, :], first[:, None, :],
+                       last[:, None, :], keep1[:, None, :]))
+    # rows ordered series, deflator, measure, period: (S, D, K) with K slots per pair
+    def stack(i: int) -> np.ndarray:
+        return np.concatenate([np.asarray(b[i]).transpose(2, 0, 1) for b in blocks], axis=2)
+
+    codes = np.concatenate([np.full(b[1].shape[1], j) for j, b in enumerate(blocks)])
+    sel = np.nonzero(stack(5).astype(bool))
+    n_rate, r_rate = stack(1)[sel], stack(2)[sel]
+    p_rate = split(nominal=n_rate, real=r_rate).price
+    a_idx, b_idx = stack(3)[sel].astype(np.intp), stack(4)[sel].astype(np.intp)
+    measure_names = np.array([b[0] for b in blocks], dtype=object)
+    table = pd.DataFrame({
+        "series": pd.array(np.asarray(names, dtype=object)[sel[0]], dtype="str"),
+        "deflator": pd.array(np.asarray(dnames, dtype=object)[sel[1]], dtype="str"),
+        "measure": pd.array(measure_names[codes[sel[2]]], dtype="str"),
+        "start": pd.array(labels[a_idx], dtype="str"),
+        "end": pd.array(labels[b_idx], dtype="str"),
+        "nominal_pct": 100.0 * n_rate,
+        "price_pct": 100.0 * np.asarray(p_rate),
+        "real_pct": 100.0 * r_rate,
+    }, columns=list(SPLIT_COLUMNS))
+    undefined = int(np.isnan(table["nominal_pct"].to_numpy()).sum()
+                    + np.isnan(table["real_pct"].to_numpy()).sum())
+    warnings = () if not undefined else (warn(
+        GR001, f"{undefined} growth rate(s) left blank: an earlier value is not positive or "
+        "the sign changes", expected="positive values at both ends of each span",
+        found=f"{undefined} rate(s) undefined",
+        fix="Growth rates of amounts that cross zero are not meaningful; compare levels "
+        "instead."),)
+    values = "seasonally adjusted values" if adjusted else "values as deflated"
+    method = (
+        f"Growth of the {values}, in percent, {freq.describe()} (m = {m} periods a year); "
+        "columns start and end name the two periods compared.",
+        "period: x_t / x_t-1 - 1; annualised: (x_t / x_t-1)^m - 1; yoy: x_t / x_t-m - 1 "
+        "(the same period a year earlier); cagr: (x_last / x_first)^(1/years) - 1; "
+        "cumulative: x_last / x_first - 1 (first and last period with a value).",
+        "nominal_pct is the growth of the nominal amount, real_pct that of the real value, "
+        "price_pct that of the deflator as used (for aggregated periods the implicit "
+        "deflator nominal / real); the split is exact: (1 + nominal) = (1 + real) x "
+        "(1 + price), so real growth is not nominal minus price growth.",
+    )
+    return SplitTable(table, freq, method, warnings)

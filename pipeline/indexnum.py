@@ -34,7 +34,7 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 
-from .errors import Problem, fail, register, warn
+from .errors import Problem, RealbasisError, fail, register, warn
 from .model import Frequency, Series
 from .periods import frequency_of_period
 from .settings import Settings
@@ -65,6 +65,9 @@ WS006 = register("WS006", "chained index broken: a link matched no items")
 WS007 = register("WS007", "comparison matched no items")
 WS008 = register("WS008", "items dropped from comparisons (not matched)")
 WS009 = register("WS009", "both quantity and expenditure given")
+WS010 = register("WS010", "rolling-year index needs monthly or quarterly prices")
+WS011 = register("WS011", "rolling-year base or weight period is not one year")
+_ROLLING_CELLS = 1_000_000  # (window, season, item) cells gathered at once
 
 
 # ---------------------------------------------------------------------------------------
@@ -410,10 +413,13 @@ class IndexNumbers:
     links: pd.Series | None = None
     frequency: Frequency | None = None
     warnings: tuple[Problem, ...] = ()
+    rolling_base: str | None = None  # base year of a rolling-year index (None otherwise)
 
     @property
     def name(self) -> str:
         kind = "chained" if self.chained else "fixed-base"
+        if self.rolling_base is not None:
+            return f"{FORMULA_NAMES[self.formula]} rolling-year price index, {kind}"
         return f"{FORMULA_NAMES[self.formula]} price index, {kind}"
 
     def labels(self) -> list[str]:
@@ -431,6 +437,8 @@ class IndexNumbers:
         })
 
     def method_note(self) -> tuple[str, ...]:
+        if self.rolling_base is not None:
+            return self._rolling_note()
         base = self.frequency.label(self.base) if self.frequency else str(self.base)
         notes = [
             f"{self.name} computed from item prices"
@@ -447,12 +455,33 @@ class IndexNumbers:
             notes.append(f"Weights from the weight-reference period {wp}.")
         return tuple(notes)
 
+    def _rolling_note(self) -> tuple[str, ...]:
+        per = "month" if self.frequency is None or self.frequency.code == "M" else "quarter"
+        n = 12 if per == "month" else 4
+        notes = [
+            f"{self.name} (ILO/IMF Consumer Price Index Manual 2004 and Producer Price Index "
+            "Manual 2004, ch. 22, rolling-year indexes for seasonal products): each item in "
+            f"each calendar {per} is a separate item, and the value for a {per} compares the "
+            f"{n} {per}s ending in it with the base year {self.rolling_base}.",
+            f"Base year {self.rolling_base} = 100 (the value of its last {per}).",
+            f"Each comparison uses only items priced (and, for weighted formulas, with a "
+            f"quantity or expenditure) in the same calendar {per} of both years compared.",
+        ]
+        if self.chained:
+            notes.append(f"Chained: each value is the value a year earlier times the "
+                         f"comparison of the {n} {per}s ending in it with the {n} {per}s "
+                         "ending a year earlier; years ending up to the end of the first year "
+                         "after the base are compared with the base year directly.")
+        if self.weight_period is not None:
+            notes.append(f"Weights from the year {self.weight_period}.")
+        return tuple(notes)
+
     def to_series(self, name: str | None = None, **fields: object) -> Series:
         if self.frequency is None:  # pragma: no cover - only exotic pandas freqs
             raise fail(WS004, "index frequency not supported",
                        expected="monthly, quarterly or annual periods",
                        found=str(self.values.index.freqstr), fix="Use M, Q or Y periods.")
-        ref = self.frequency.label(self.base)
+        ref = self.rolling_base or self.frequency.label(self.base)
         return Series(name or self.name, self.values.astype(float), self.frequency,
                       kind="index", reference=ref, notes=self.method_note(), **fields)  # type: ignore[arg-type]
 
@@ -476,6 +505,14 @@ def compute_index(
     (Lowe, Young only): the period whose quantities / expenditures weight the items
     (default: the base period). Lowe and Young are fixed-base only.
     """
+    formula = _check_formula(table, formula, chained, weight_period)
+    b = table.position(base) if base is not None else 0
+    return _compute_fixed_or_chained(table, formula, chained, b, weight_period)
+
+
+def _check_formula(table: PriceTable, formula: Formula | str, chained: bool,
+                   weight_period: object) -> Formula:
+    """The formula's canonical name, or a coded error when it cannot be computed here."""
     formula = str(formula).lower().replace("ö", "o")  # type: ignore[assignment]
     if formula not in FORMULAS:
         raise fail(WS004, f"unknown index formula {formula!r}", expected=", ".join(FORMULAS),
@@ -493,8 +530,11 @@ def compute_index(
         raise fail(WS004, f"the {FORMULA_NAMES[formula]} formula needs quantities",
                    expected="a quantity or expenditure column", found="prices only",
                    fix="Add quantities or expenditures, or use Jevons.", file=table.source)
+    return formula  # type: ignore[return-value]
 
-    b = table.position(base) if base is not None else 0
+
+def _compute_fixed_or_chained(table: PriceTable, formula: Formula, chained: bool, b: int,
+                              weight_period: pd.Period | str | None) -> IndexNumbers:
     wp = table.position(weight_period) if weight_period is not None else b
     P, Q, E = table.prices, table.quantities, table.expenditures
     observed = _observed(table)
@@ -565,6 +605,175 @@ def _usable(formula: str, p: np.ndarray, q: np.ndarray | None) -> int:
     if formula != "jevons" and q is not None:
         ok &= q >= 0
     return int(ok.sum())
+
+
+# ---------------------------------------------------------------------------------------
+# Rolling-year indexes for seasonal items
+
+
+def _year_rows(table: PriceTable, year: object, what: str,
+               fy_start: int | None) -> tuple[int, str]:
+    """First row of a base or weight year (a calendar or fiscal year, or any run of one
+    year of periods) in the table; coded errors when it is not one year of the table."""
+    from .periods import parse_span
+
+    n = table.frequency.periods_per_year
+    span = parse_span(year if isinstance(year, str) else str(year), fy_start)  # type: ignore[arg-type]
+    try:
+        periods = span.periods_in(table.frequency)
+    except RealbasisError:
+        periods = pd.PeriodIndex([], freq=table.periods.freq)
+    if len(periods) != n:
+        raise fail(WS011, f"the {what} of a rolling-year index must be one year",
+                   expected=f"a year of {n} consecutive periods, e.g. 2024 or FY2025",
+                   found=span.label, file=table.source, period=span.label,
+                   fix=f"Give the {what} as a year (or a range of {n} consecutive periods).")
+    start = periods[0]
+    if start not in table.periods or periods[-1] not in table.periods:
+        raise fail(WS005, f"{what} {span.label} not in the price table",
+                   expected=f"a year between {table.periods[0]} and {table.periods[-1]}",
+                   found=span.label, file=table.source, period=span.label,
+                   fix="Choose a year that the price file covers.")
+    return int(table.periods.get_loc(start)), span.label
+
+
+def _default_base_row(table: PriceTable) -> tuple[int, str]:
+    """The first calendar year the table covers fully (its first January or Q1)."""
+    first = table.periods.asfreq("M", how="start").month
+    jan = np.flatnonzero(np.asarray(first) == 1)
+    n = table.frequency.periods_per_year
+    if not len(jan) or jan[0] + n > len(table.periods):
+        raise fail(WS011, "the price table holds no complete calendar year to take as base",
+                   expected=f"at least one calendar year of {n} periods",
+                   found=f"{table.periods[0]} to {table.periods[-1]}", file=table.source,
+                   fix="Give the base year (a fiscal year, or any run of one year of "
+                   "periods), or a longer price file.")
+    return int(jan[0]), f"{table.periods[int(jan[0])].year:04d}"
+
+
+def compute_rolling_year(
+    table: PriceTable,
+    formula: Formula | str,
+    *,
+    chained: bool = False,
+    base: object = None,
+    weight_period: object = None,
+    fy_start: int | None = None,
+) -> IndexNumbers:
+    """Rolling-year (moving-year) index for seasonal items (ILO/IMF CPI Manual 2004 and
+    PPI Manual 2004, ch. 22).
+
+    Each item in each calendar month (quarter, for quarterly prices) is a separate item.
+    The value for period t compares the year of periods ending in t with the base year:
+    directly (fixed base), or with ``chained=True`` as the value a year earlier times the
+    comparison of the year ending in t with the year ending a year earlier -- years
+    ending up to the end of the first year after the base are compared with the base
+    directly. ``base``: a year (``2024``, ``FY2025`` with ``fy_start``, or a range of one
+    year of periods); default the first calendar year in the table. The base year's last
+    period is 100. ``weight_period`` (Lowe, Young): the year whose quantities or
+    expenditures weight the items (default the base year). Values start with the first
+    complete year of data; matched items count (item, month) pairs.
+    """
+    formula = _check_formula(table, formula, chained, weight_period)
+    n = table.frequency.periods_per_year
+    if n not in (4, 12):
+        raise fail(WS010, "rolling-year indexes need monthly or quarterly prices",
+                   expected="monthly or quarterly periods",
+                   found=table.frequency.describe(), file=table.source,
+                   fix="Give monthly or quarterly prices (a year has no seasons within it).")
+    n_t = len(table.periods)
+    if n_t < n:
+        raise fail(WS011, "the price table is shorter than one year",
+                   expected=f"at least {n} periods", found=f"{n_t} period(s)",
+                   file=table.source, fix="Give at least one year of prices.")
+    b0, base_label = (_year_rows(table, base, "base year", fy_start) if base is not None
+                      else _default_base_row(table))
+    w0, weight_label = (_year_rows(table, weight_period, "weight year", fy_start)
+                        if weight_period is not None else (b0, base_label))
+    season = np.arange(n)
+    ends = np.arange(n - 1, n_t)  # last row of each complete year window
+    offsets = (((ends - b0) % n)[:, None] - season[None, :]) % n
+    rows = ends[:, None] - offsets  # (windows, seasons): row of season s in window w
+
+    n_w = len(ends)
+    # windows are gathered a chunk at a time so memory stays near a few million cells
+    chunk = max(1, _ROLLING_CELLS // max(1, n * len(table.items)))
+
+    def windows(a: np.ndarray | None, w: np.ndarray) -> np.ndarray | None:
+        return None if a is None else a[rows[w]].reshape(len(w), -1)
+
+    def year(a: np.ndarray | None, start: int) -> np.ndarray | None:
+        return None if a is None else a[start:start + n].reshape(1, -1)
+
+    prices, quantities = table.prices, table.quantities
+    p_b, q_b = year(prices, b0), year(quantities, b0)
+    qw = year(quantities, w0) if formula == "lowe" else None
+    ew = year(table.expenditures, w0) if formula == "young" else None
+    seen_b = ~np.isnan(p_b)  # type: ignore[arg-type]
+    ratio = np.full(n_w, np.nan)
+    matched = np.zeros(n_w, dtype=int)
+    seen = np.zeros(n_w, dtype=int)  # (item, season) pairs observed in either year
+    for a in range(0, n_w, chunk):
+        w = np.arange(a, min(n_w, a + chunk))
+        pw = windows(prices, w)
+        ratio[w], matched[w] = compare(formula, p_b, pw, q_b,  # type: ignore[arg-type]
+                                       windows(quantities, w), qb=qw, eb=ew)
+        seen[w] = (~np.isnan(pw) | seen_b).sum(axis=1)  # type: ignore[arg-type]
+    ratio[int(np.flatnonzero(ends == b0 + n - 1)[0])] = 1.0
+    links = None
+    if chained:
+        link = np.full(n_w, np.nan)  # link[w]: the window ending a year before w -> w
+        n_link = np.zeros(n_w, dtype=int)
+        seen_link = np.zeros(n_w, dtype=int)
+        for a in range(n, n_w, chunk):
+            w = np.arange(a, min(n_w, a + chunk))
+            p0, p1 = windows(prices, w - n), windows(prices, w)
+            link[w], n_link[w] = compare(formula, p0, p1,  # type: ignore[arg-type]
+                                         windows(quantities, w - n), windows(quantities, w))
+            seen_link[w] = (~np.isnan(p0) | ~np.isnan(p1)).sum(axis=1)  # type: ignore[arg-type]
+        first_chained = int(np.searchsorted(ends, b0 + 2 * n))  # first window past base+1
+        for w in range(first_chained, n_w):
+            if not np.isfinite(link[w]):
+                raise fail(
+                    WS006, "chained rolling-year index broken: no item matched between a "
+                    "year and the year before", expected="at least one item priced (with "
+                    "quantity) in the same season of both years",
+                    found=f"year ending {table.periods[ends[w] - n]} to year ending "
+                    f"{table.periods[ends[w]]}: 0 items matched", file=table.source,
+                    period=str(table.periods[ends[w]]),
+                    fix="Fill the gap in the price file, or compute a fixed-base index.")
+            ratio[w] = ratio[w - n] * link[w]
+            matched[w] = n_link[w]
+            seen[w] = seen_link[w]
+        links = pd.Series(link, index=table.periods[ends], name="link")
+    dropped = seen - matched
+    warnings: list[Problem] = list(table.warnings)
+    empty = np.flatnonzero(~np.isfinite(ratio))
+    labels = table.periods[ends]
+    if len(empty):
+        warnings.append(warn(
+            WS007, f"{len(empty)} year(s) matched no item with the base year",
+            found=", ".join(str(labels[i]) for i in empty[:5]),
+            fix="Those periods are left empty; check the price file.", file=table.source))
+    if dropped.sum() > 0:
+        worst = int(np.argmax(dropped))
+        warnings.append(warn(
+            WS008, f"items were dropped from {int((dropped > 0).sum())} of {len(ends)} "
+            "rolling-year comparisons (not priced, or without quantity, in the same season of "
+            "both years)", found=f"most in the year ending {labels[worst]}: "
+            f"{int(dropped[worst])} dropped, {int(matched[worst])} matched",
+            fix="Matched-item comparisons are the standard treatment; items bought only in "
+            "some seasons count in those seasons.", file=table.source))
+    return IndexNumbers(
+        formula=formula, chained=chained, base=table.periods[b0 + n - 1],
+        values=pd.Series(100.0 * ratio, index=labels, name="index"),
+        matched=pd.Series(np.asarray(matched).astype(int), index=labels, name="matched_items"),
+        dropped=pd.Series(np.asarray(dropped).astype(int), index=labels, name="dropped_items"),
+        items=len(table.items),
+        weight_period=weight_label if formula in _WEIGHT_PERIOD else None,  # type: ignore[arg-type]
+        links=links, frequency=table.frequency, warnings=tuple(warnings),
+        rolling_base=base_label,
+    )
 
 
 def chain_links(links: pd.Series, *, reference: float = 100.0) -> pd.Series:

@@ -9,7 +9,8 @@ ISO date (+ time)      2024-01-31, 2024/01/31     monthly (a column may make it 
 slashed date           31/01/2024, 1/31/2024      monthly; day/month order decided by
                                                   the column (PE106 when it cannot be)
 year-month             2024-01, 2024/1, 2024M01,  monthly
-                       2024-M01 (SDMX)
+                       2024-M01 (SDMX), 202401
+month-year             03/2024, 3/2024, 03-2024   monthly
 month name             Jan 2024, January 2024,    monthly
                        Jan-2024, 2024 Jan
 quarter                2024Q1, 2024-Q1, Q1 2024   quarterly (calendar)
@@ -63,12 +64,14 @@ PE105 = register("PE105", "fiscal span label needs a start month other than Janu
 PE106 = register("PE106", "day and month order of dates is ambiguous")
 
 ACCEPTED = (
-    "2024-01-31, 2024-01, 2024M01, Jan 2024, January 2024, 2024Q1, 2024-Q1, Q1 2024, "
+    "2024-01-31, 2024-01, 2024M01, 03/2024, 202403, Jan 2024, January 2024, 2024Q1, 2024-Q1, Q1 2024, "
     "2024, FY2025, FY2025Q1, 2024-25, 2024/25"
 )
 
 # Label kinds (per unique label) ---------------------------------------------------------
-BAD, DATE, YM, AMBIG, SPAN, MNAME, QTR, YEAR, FYEAR, FYQTR, SLASH = range(11)
+BAD, DATE, YM, AMBIG, SPAN, MNAME, QTR, YEAR, FYEAR, FYQTR, SLASH, MY, YMNUM = range(13)
+# MY: month first (03/2024, 3/2024, 03-2024); YMNUM: six digits (202403), which a plain
+# number can also be, so a column of them is only taken for periods by its name or place
 
 _MONTHS = {
     "JAN": 1, "JANUARY": 1, "FEB": 2, "FEBRUARY": 2, "MAR": 3, "MARCH": 3, "APR": 4,
@@ -85,6 +88,8 @@ _PATTERNS: tuple[tuple[int, str], ...] = (
     (DATE, _Y + r"[-/](?P<m>\d{1,2})[-/](?P<d>\d{1,2})(?:[T ]\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?Z?)?"),
     (YEAR, _Y + r"(?:\.0+|-A1?)?"),
     (YM, _Y + r"(?:[-/]|\s*-?M)(?P<m>\d{1,2})"),
+    (MY, r"(?P<m>\d{1,2})[-/]" + _Y),
+    (YMNUM, _Y + r"(?P<m>0[1-9]|1[0-2])"),
     (SPAN, _Y + r"\s*[-/]\s*(?P<y2>[12]\d{3})"),
     (QTR, _Y + r"\s*[- ]?\s*Q(?P<q>[1-4])"),
     (QTR, r"Q(?P<q>[1-4])\s*[- ]?\s*" + _Y),
@@ -119,7 +124,7 @@ class _Unique:
     kind: np.ndarray  # int8 label kind per unique
     year: np.ndarray  # int64 (for SPAN/AMBIG: first year)
     sub: np.ndarray  # month (DATE/YM/AMBIG/MNAME) or quarter (QTR/FYQTR); 0 otherwise
-    sub2: np.ndarray  # SLASH dates: the second number (first is in sub); else 0
+    sub2: np.ndarray  # SLASH dates: the second number (first is in sub); DATE: the day
 
 
 def _check_fy_start(fy_start: int | None) -> int | None:
@@ -156,6 +161,7 @@ def _parse_uniques(values: Sequence[object]) -> _Unique:
             kind[hit] = DATE
             year[hit] = dt.dt.year.to_numpy()[hit]
             sub[hit] = dt.dt.month.to_numpy()[hit]
+            sub2[hit] = dt.dt.day.to_numpy()[hit]
             remaining &= ~hit
     for k, pattern in _PATTERNS:
         if not remaining.any():
@@ -183,6 +189,7 @@ def _parse_uniques(values: Sequence[object]) -> _Unique:
             kind[idx[valid]] = DATE
             year[idx] = y
             sub[idx] = m
+            sub2[idx] = d
         elif k == YM:
             m = g["m"].astype(np.int64).to_numpy()
             two = g["m"].str.len().to_numpy() == 2
@@ -191,6 +198,12 @@ def _parse_uniques(values: Sequence[object]) -> _Unique:
             month_ok = (m >= 1) & (m <= 12)
             kind[idx] = np.where(month_ok & fiscal_like, AMBIG,
                                  np.where(month_ok, YM, np.where(fiscal_like, SPAN, BAD)))
+            year[idx] = y
+            sub[idx] = m
+        elif k in (MY, YMNUM):
+            m = g["m"].astype(np.int64).to_numpy()
+            month_ok = (m >= 1) & (m <= 12)
+            kind[idx] = np.where(month_ok, k, BAD)
             year[idx] = y
             sub[idx] = m
         elif k == SPAN:
@@ -213,7 +226,7 @@ def _parse_uniques(values: Sequence[object]) -> _Unique:
 
 
 def _resolve_slash(u: _Unique, kind: np.ndarray, present: np.ndarray,
-                   where: dict[str, object]) -> tuple[np.ndarray, np.ndarray]:
+                   where: dict[str, object]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Decide day/month order of ``31/01/2024`` or ``1/31/2024`` dates for a whole column.
 
     A first number above 12 means day first; a second above 12 means month first. With
@@ -221,8 +234,8 @@ def _resolve_slash(u: _Unique, kind: np.ndarray, present: np.ndarray,
     ``1/4/2024`` is day first); otherwise the order is ambiguous (PE106)."""
     sl = (kind == SLASH) & present
     if not sl.any():
-        return kind, u.sub
-    kind, sub = kind.copy(), u.sub.copy()
+        return kind, u.sub, u.sub2
+    kind, sub, days = kind.copy(), u.sub.copy(), u.sub2.copy()
     a, b = u.sub[sl], u.sub2[sl]
     if (a > 12).any() and (b > 12).any():
         order = None
@@ -243,7 +256,7 @@ def _resolve_slash(u: _Unique, kind: np.ndarray, present: np.ndarray,
                    **where)  # type: ignore[arg-type]
     if order is None:
         kind[sl] = BAD
-        return kind, sub
+        return kind, sub, days
     month = a if order == "mdy" else b
     day = b if order == "mdy" else a
     pos = np.flatnonzero(sl)
@@ -252,7 +265,8 @@ def _resolve_slash(u: _Unique, kind: np.ndarray, present: np.ndarray,
     ok = (month >= 1) & (month <= 12) & (day >= 1) & (day <= dim)
     kind[pos] = np.where(ok, DATE, BAD)
     sub[pos] = month
-    return kind, sub
+    days[pos] = day
+    return kind, sub, days
 
 
 def _resolve_ambiguous(kind: np.ndarray, present: np.ndarray) -> np.ndarray:
@@ -270,7 +284,7 @@ def _resolve_ambiguous(kind: np.ndarray, present: np.ndarray) -> np.ndarray:
 
 
 # Frequency keys used internally: 'M', 'Q', 'A', 'FY', 'FQ'
-_KIND_FREQ = {DATE: "M", YM: "M", MNAME: "M", QTR: "Q", YEAR: "A", SPAN: "FY", FYEAR: "FY",
+_KIND_FREQ = {DATE: "M", YM: "M", MY: "M", YMNUM: "M", MNAME: "M", QTR: "Q", YEAR: "A", SPAN: "FY", FYEAR: "FY",
               FYQTR: "FQ"}
 
 
@@ -306,7 +320,7 @@ def _first_month_ordinal(kind: np.ndarray, year: np.ndarray, sub: np.ndarray,
     y = year.copy()
     m = np.ones_like(year)
     s = fy_start
-    month_like = np.isin(kind, (DATE, YM, MNAME))
+    month_like = np.isin(kind, (DATE, YM, MY, YMNUM, MNAME))
     m[month_like] = sub[month_like]
     q = kind == QTR
     m[q] = 3 * sub[q] - 2
@@ -328,7 +342,7 @@ def _frequency(key: str, fy_start: int | None) -> Frequency:
             "FY": Frequency("FY", s), "FQ": Frequency("Q", s)}[key]
 
 
-def _date_frequency(ordinals: np.ndarray, fy_start: int | None) -> str:
+def date_frequency(ordinals: np.ndarray, fy_start: int | None) -> str:
     """For a column of ISO dates only: 'M', or 'Q'/'A'/'FY' when spacing says so."""
     u = np.unique(ordinals)
     if len(u) < 2:
@@ -350,7 +364,7 @@ def _date_frequency(ordinals: np.ndarray, fy_start: int | None) -> str:
     return "M"
 
 
-def _to_periods(ordinals: np.ndarray, key: str, fy_start: int | None) -> pd.PeriodIndex:
+def to_periods(ordinals: np.ndarray, key: str, fy_start: int | None) -> pd.PeriodIndex:
     monthly = pd.PeriodIndex(pd.arrays.PeriodArray(ordinals.astype("int64"),
                                                    dtype=pd.PeriodDtype("M")))
     freq = _frequency(key, fy_start)
@@ -385,7 +399,7 @@ def _parse_label(text: str, fy_start: int | None) -> tuple[pd.Period, Frequency]
                    fix="Write the period in one of the accepted forms, e.g. 2024-01, 2024Q1, FY2025.")
     if kind[0] == AMBIG:
         kind[0] = YM
-    kind, sub = _resolve_slash(u, kind, np.ones(1, dtype=bool), {})
+    kind, sub, _ = _resolve_slash(u, kind, np.ones(1, dtype=bool), {})
     if kind[0] == BAD:
         raise fail(PE101, f"{text.strip()!r} is not a date", expected=ACCEPTED, found=repr(text),
                    fix="Write the period in one of the accepted forms, e.g. 2024-01-31 or 2024-01.")
@@ -393,7 +407,7 @@ def _parse_label(text: str, fy_start: int | None) -> tuple[pd.Period, Frequency]
     _needs_fy(kind, fy_start, {}, [text])
     key = _freq_key(kind)[0]
     ords = _first_month_ordinal(kind, u.year, u.sub, fy_start or 1)
-    idx = _to_periods(ords, key, fy_start)
+    idx = to_periods(ords, key, fy_start)
     return idx[0], _frequency(key, fy_start)
 
 
@@ -405,6 +419,7 @@ class ParsedColumn:
     keys: np.ndarray  # frequency key per value ('' where bad or missing)
     kinds: np.ndarray  # label kind per value (BAD=0; -1 missing)
     fy_start: int | None
+    days: np.ndarray | None = None  # day of the month of DATE labels (0 otherwise)
 
 
 def parse_values(values: Sequence[object], fy_start: int | None = None, *,
@@ -416,8 +431,8 @@ def parse_values(values: Sequence[object], fy_start: int | None = None, *,
     present = np.zeros(len(u.uniques), dtype=bool)
     present[u.codes[u.codes >= 0]] = True
     kind = _resolve_ambiguous(u.kind, present)
-    kind, sub = _resolve_slash(u, kind, present, where or {})
-    u = _Unique(u.uniques, u.codes, kind, u.year, sub, u.sub2)
+    kind, sub, day = _resolve_slash(u, kind, present, where or {})
+    u = _Unique(u.uniques, u.codes, kind, u.year, sub, day)
     used = kind[present]
     ex = [str(x) for x in u.uniques[present & np.isin(kind, (SPAN, FYEAR, FYQTR))][:3]]
     _needs_fy(used, fy_start, where or {}, ex)
@@ -428,7 +443,9 @@ def parse_values(values: Sequence[object], fy_start: int | None = None, *,
     keys = np.where(valid, keys_u[np.where(valid, u.codes, 0)], "")
     ords = np.where(valid, ords_u[np.where(valid, u.codes, 0)], 0)
     keys = np.where(kinds == BAD, "", keys)
-    return ParsedColumn(ords.astype(np.int64), keys.astype(object), kinds, fy_start)
+    days = np.where(valid & (kinds == DATE), u.sub2[np.where(valid, u.codes, 0)], 0)
+    return ParsedColumn(ords.astype(np.int64), keys.astype(object), kinds, fy_start,
+                        days.astype(np.int64))
 
 
 def finish(parsed: ParsedColumn, mask: np.ndarray | None = None) -> tuple[pd.PeriodIndex, str]:
@@ -442,15 +459,15 @@ def finish(parsed: ParsedColumn, mask: np.ndarray | None = None) -> tuple[pd.Per
     key = keys.pop() if keys else "M"
     ords = parsed.ordinals[sel]
     if key == "M" and good.any() and (parsed.kinds[good] == DATE).all():
-        key = _date_frequency(parsed.ordinals[good], parsed.fy_start)
-    return _to_periods(ords, key, parsed.fy_start), key
+        key = date_frequency(parsed.ordinals[good], parsed.fy_start)
+    return to_periods(ords, key, parsed.fy_start), key
 
 
 def frequency_of(key: str, fy_start: int | None) -> Frequency:
     return _frequency(key, fy_start)
 
 
-_FREQ_WORDS = {"M": "monthly", "Q": "quarterly", "A": "calendar years", "FY": "fiscal years",
+FREQ_WORDS = {"M": "monthly", "Q": "quarterly", "A": "calendar years", "FY": "fiscal years",
                "FQ": "fiscal quarters"}
 
 
@@ -476,7 +493,7 @@ def parse_label_column(values: Sequence[str], fy_start: int | None = None, *,
         p = int(pos_good[first[list(keys).index(minority)]])
         row = int(rows[p]) if rows is not None else p + 1
         found = "; ".join(
-            f"{_FREQ_WORDS[k]}: {counts[k]} labels, first {values[int(pos_good[f])]!r}"
+            f"{FREQ_WORDS[k]}: {counts[k]} labels, first {values[int(pos_good[f])]!r}"
             for k, f in zip(keys, first, strict=True))
         raise fail(PE103, "the period labels mix frequencies", expected="one frequency per period column",
                    found=found,

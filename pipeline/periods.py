@@ -9,8 +9,10 @@ Conventions (see pipeline.model.Frequency):
   average of its sub-periods, a flow the sum, a stock the value of the period's last
   sub-period. Only complete periods are kept; each partial period dropped is reported as
   a warning (code PE210).
-* Converting to a shorter period is refused (PE204) unless ``interpolate=True`` and the
-  series is an index; interpolated values are then flagged one by one
+* Converting to a shorter period is refused (PE204) unless interpolation is allowed and
+  the series is an index: ``interpolate=True`` or ``"denton"`` (proportional Denton,
+  keeping each period's average: :func:`pipeline.benchmark.interpolate`) or ``"linear"``
+  (:func:`interpolate_index`); interpolated values are then flagged one by one
   (:attr:`Converted.interpolated`) and the method note says how they were made.
 
 All grouping work is done on 2-D numpy arrays (:func:`aggregate_wide`) so that many
@@ -383,7 +385,7 @@ def _partial_warnings(name: str, idx: pd.PeriodIndex, complete: np.ndarray,
     return tuple(out)
 
 
-def to_frequency(series: Series, target: Frequency, *, interpolate: bool = False,
+def to_frequency(series: Series, target: Frequency, *, interpolate: bool | str = False,
                  rule: Rule | None = None) -> Converted:
     """Convert ``series`` to ``target`` frequency.
 
@@ -392,8 +394,9 @@ def to_frequency(series: Series, target: Frequency, *, interpolate: bool = False
     periods are left out and reported (PE210). Status: each new value takes the worst
     status of the values it rests on.
 
-    To shorter periods: refused (PE204) unless ``interpolate`` and the series is an index;
-    see :func:`interpolate_index`.
+    To shorter periods: refused (PE204) unless ``interpolate`` and the series is an index:
+    ``True``/``"denton"`` keeps each period's average (:func:`pipeline.benchmark.interpolate`),
+    ``"linear"`` draws straight lines (:func:`interpolate_index`).
     """
     check_index(series)
     src = series.frequency
@@ -422,8 +425,13 @@ def to_frequency(series: Series, target: Frequency, *, interpolate: bool = False
                        found=src.describe(), series=name,
                        fix="Use a deflator at least as frequent as the series, show the "
                        "results at the deflator's frequency, or allow interpolation (every "
-                       "interpolated value is then flagged).", remedy="result_frequency")
-        return interpolate_index(series, target)
+                       "interpolated value is then flagged).",
+                       remedy="result_frequency interpolate")
+        from .benchmark import DEFAULT_METHOD
+        from .benchmark import interpolate as interpolate_by
+
+        return interpolate_by(series, target,
+                              method=DEFAULT_METHOD if interpolate is True else str(interpolate))
     rule = rule or _RULE_OF_KIND[series.kind]
     full = full_range(series.index, src)
     vals = series.values.reindex(full).to_numpy(dtype=float)

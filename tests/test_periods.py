@@ -156,7 +156,7 @@ def test_interpolation_is_flagged_on_every_value():
                QUARTERLY, kind="index",
                status=pd.Series(["final", "final", "final", "preliminary"],
                                 index=pd.period_range("2024Q1", periods=4, freq="Q")))
-    out = to_frequency(q, MONTHLY, interpolate=True)
+    out = to_frequency(q, MONTHLY, interpolate="linear")
     v = out.series.values
     assert len(v) == 12 and out.interpolated is not None and bool(out.interpolated.all())
     # mid-quarter months carry the quarter's value; straight line between them
@@ -168,6 +168,14 @@ def test_interpolation_is_flagged_on_every_value():
     assert out.series.status["2024-08"] == "final"
     assert out.series.status["2024-09"] == "preliminary"
     assert (out.series.status["2024-01":"2024-08"] == "final").all()
+    # the default (Denton) keeps each quarter's average instead (IMF QNA Manual 2017,
+    # ch. 6) and is flagged alike; July-September sit next to the preliminary Q4
+    den = to_frequency(q, MONTHLY, interpolate=True)
+    dv = den.series.values
+    assert dv.groupby(dv.index.quarter).mean().to_numpy() == pytest.approx([100, 103, 106, 109])
+    assert bool(den.interpolated.all()) and [w.code for w in den.warnings] == ["PE208"]
+    assert (den.series.status["2024-01":"2024-06"] == "final").all()
+    assert (den.series.status["2024-07":"2024-12"] == "preliminary").all()
 
 
 def test_money_series_are_never_interpolated():

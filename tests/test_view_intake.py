@@ -205,3 +205,19 @@ def test_upload_limit_message_names_the_limit():
     p = err.problems[0]
     assert p.code == "UI001" and "50.0 MB" in p.message and "52,428,800" in p.expected
     assert "REALBASIS_MAX_UPLOAD_BYTES" in p.fix
+
+
+def test_reading_note_is_the_engines_and_names_skipped_title_rows():
+    # agencies put titles above their tables (common practice); the screen shows what
+    # the intake did, in the engine's own words, plus where to correct kinds
+    from pipeline.ingest import read_file
+
+    text = ("Table 1. Illustrative revenue\n\nperiod,Sales (USD)\n2024-01,1\n2024-02,\n"
+            "2024-03,3\n")
+    intake = read_file(text.encode(), filename="titled.csv")
+    lines = view.reading_note(intake)
+    assert lines[:-1] == [str(x) for x in intake.note]
+    assert any("above the header skipped" in x for x in lines), lines
+    assert any("missing" in x and "never bridged" in x for x in lines), lines
+    assert "Series to correct" in lines[-1]
+    assert not any("--" in x for x in lines)  # no command-line option on a screen

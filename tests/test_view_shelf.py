@@ -21,7 +21,8 @@ from pipeline.model import Workspace
 
 def test_shelf_rows_show_vintages_and_stretches(demo: Workspace):
     rows = [r for r in view.shelf_rows(demo) if r["name"] == "Chained consumer index"]
-    assert {r["vintage"] for r in rows} == {"2026-10-15", "2026-04-15"}
+    assert {r["vintage"] for r in rows} == {"2026-10-15", "2026-04-15", "2025-10-15",
+                                            "2025-04-15"}
     latest = next(r for r in rows if r["latest"] == "yes")
     assert latest["status"] == "preliminary 2025-11–2026-09"
 
@@ -73,7 +74,7 @@ def test_shelf_action_saves_a_new_version(access: DataAccess, small: Workspace):
 
 
 def test_index_pickers_name_the_vintage_used_when_several_are_held(demo: Workspace):
-    # The demo holds two vintages of the chained consumer index; pickers act on the latest,
+    # The demo holds several vintages of the chained consumer index; pickers act on the latest,
     # and the label must say which one (common practice: state the vintage used).
     opts = {o["value"]: o["label"] for o in view.index_options(demo)}
     assert opts["Chained consumer index"] == (

@@ -14,7 +14,8 @@ CLI: Mapping[str, str] = {
     "fiscal_start": "Pass --fiscal-start with the month number (e.g. --fiscal-start 7 "
                     "for a July start; --fy-start 7 in realbasis index).",
     "result_frequency": "Pass --to with a longer period (--to Q, --to A or --to FY).",
-    "interpolate": "Pass --interpolate to fill in the less frequent deflator.",
+    "interpolate": "Pass --interpolate to fill in the less frequent deflator (Denton, "
+                   "keeping its period averages; --interpolate linear for straight lines).",
     "deflator_missing": "Pass one or more --index FILE.",
     "series_kind": "Pass --kind flow or --kind stock (or --kind NAME=flow|stock|index).",
     "sheet": "Pass --sheet NAME (realbasis check lists the sheets).",

@@ -12,22 +12,14 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from pipeline.commands._intake import add_reading_arguments, parse_kinds, parse_markers
 from pipeline.commands._remedies import CLI
-from pipeline.errors import CL001, fail
 from pipeline.ingest import Intake, read_file
-from pipeline.model import KINDS, Series
+from pipeline.model import Series
 
 
 def _kinds(items: Sequence[str] | None) -> dict[str, str]:
-    out: dict[str, str] = {}
-    for item in items or ():
-        name, sep, kind = item.rpartition("=")
-        if not sep or not name.strip() or kind.strip() not in KINDS:
-            raise fail(CL001, "--kind takes NAME=flow, NAME=stock or NAME=index",
-                       expected="NAME=flow|stock|index, e.g. --kind 'Cash balance=stock'",
-                       found=repr(item), fix="Write the series name, '=', then the kind.")
-        out[name.strip()] = kind.strip()
-    return out
+    return parse_kinds(items)
 
 
 def series_row(s: Series) -> dict[str, str]:
@@ -69,11 +61,19 @@ def render(intake: Intake) -> str:
         notes = [(s.name, n) for s in intake.series for n in s.notes if "guessed" in n or "assumed" in n]
         if notes:
             lines += ["", "Kinds were guessed; override with --kind NAME=flow|stock|index:"]
-            lines += [f"  {name}: {n}" for name, n in notes]
+            lines += [f"  {name}: {n}" for name, n in notes[:50]]
+            if len(notes) > 50:
+                lines.append(f"  ... and {len(notes) - 50:,} more series guessed")
     else:
         lines.append("No series could be read.")
+    if intake.note:
+        lines += ["", "Reading note:"] + [f"  {n}" for n in intake.note]
     errors, warnings = intake.errors, intake.warnings
-    lines += ["", f"Problems: {len(errors)} error(s), {len(warnings)} warning(s)"]
+    n_err, n_warn = intake.totals()
+    listed = ("" if (n_err, n_warn) == (len(errors), len(warnings))
+              else f" ({len(errors) + len(warnings):,} listed; counts by code: "
+              + ", ".join(f"{c} {n:,}" for c, n in intake.problem_counts.items()) + ")")
+    lines += ["", f"Problems: {n_err:,} error(s), {n_warn:,} warning(s){listed}"]
     for p in errors:
         lines.append("error " + p.render(CLI))
     for p in warnings:
@@ -83,7 +83,8 @@ def render(intake: Intake) -> str:
 
 def _run(args: argparse.Namespace) -> int:
     intake = read_file(args.file, sheet=args.sheet, fy_start=args.fiscal_start,
-                       kinds=_kinds(args.kind))  # type: ignore[arg-type]
+                       kinds=_kinds(args.kind), markers=parse_markers(args.marker),
+                       daily=args.daily)  # type: ignore[arg-type]
     print(render(intake))
     return 2 if intake.errors else 0
 
@@ -91,7 +92,7 @@ def _run(args: argparse.Namespace) -> int:
 def register(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser(
         "check", help="show the series found in a file and every problem",
-        description="Read FILE (CSV, XLSX or SDMX-CSV) as intake would and print each series "
+        description="Read FILE (CSV, XLSX, XLS, ODS or SDMX-CSV) as intake would and print each series "
                     "found (frequency, kind, unit, first/last period, count, missing, status "
                     "stretches) and every problem. Exit 0 when there are no errors (warnings "
                     "allowed), 2 when there are errors.")
@@ -99,6 +100,5 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--fiscal-start", type=int, choices=range(1, 13), metavar="1-12",
                    help="month the fiscal year starts in (needed for FY2025 or 2024-25 labels)")
     p.add_argument("--sheet", metavar="NAME", help="workbook sheet (default: the first with data)")
-    p.add_argument("--kind", action="append", metavar="NAME=KIND",
-                   help="set a series' kind (flow, stock or index) instead of the guess; repeatable")
+    add_reading_arguments(p)
     p.set_defaults(func=_run)

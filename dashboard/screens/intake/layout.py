@@ -37,8 +37,8 @@ def layout() -> html.Div:
             html.Strong("Drop a file here"), " or ",
             html.Span("choose one", className="rb-linklike"),
             html.Br(),
-            html.Small("CSV, XLSX or SDMX-CSV; a period column (2024-01, 2024Q1, 2024, FY2025) "
-                       "and one column per series, or long columns series, period, value "
+            html.Small("CSV, XLSX, XLS, ODS or SDMX-CSV; a period column (2024-01, 2024Q1, "
+                       "2024, FY2025) and one column per series, or long columns series, period, value "
                        "(unit, status, vintage optional)."),
         ]),
     )

@@ -16,12 +16,10 @@ import binascii
 import calendar
 import dataclasses
 import hashlib
-import io
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
-import pandas as pd
 from dash import html, no_update
 
 from pipeline.errors import RealbasisError, fail, register
@@ -44,7 +42,7 @@ from .._shared.view import (
 UI001 = register("UI001", "uploaded file is too large")
 UI002 = register("UI002", "upload could not be decoded")
 
-ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm")
+ACCEPTED_TYPES = (".csv", ".txt", ".xlsx", ".xlsm", ".xls", ".ods")
 
 
 # --------------------------------------------------------------------------- reading a file
@@ -99,24 +97,14 @@ def _size(n: int) -> str:
     return f"{n:,} bytes"
 
 
-def preview(data: bytes, filename: str, rows: int = 8) -> tuple[list[str], list[dict[str, str]]]:
-    """The first rows of the file as text, exactly as written (no interpretation)."""
-    name = filename.lower()
-    if name.endswith((".xlsx", ".xlsm")):
-        frame = pd.read_excel(io.BytesIO(data), nrows=rows, dtype=str, header=None,
-                              engine="openpyxl")
-    else:
-        try:
-            frame = pd.read_csv(io.BytesIO(data), nrows=rows, dtype=str, header=None,
-                                sep=None, engine="python", encoding_errors="replace")
-        except (pd.errors.ParserError, UnicodeDecodeError, ValueError):
-            text = data[:4000].decode("utf-8", errors="replace").splitlines()[:rows]
-            return ["line"], [{"line": t} for t in text]
-    frame = frame.fillna("")
-    columns = [f"column {i + 1}" for i in range(frame.shape[1])]
-    out = [{c: str(v) for c, v in zip(columns, row, strict=True)}
-           for row in frame.itertuples(index=False)]
-    return columns, out
+def preview(data: bytes, filename: str, rows: int = 8, *, sheet: str | None = None,
+            settings: Any = None) -> tuple[list[str], list[dict[str, str]]]:
+    """The first rows of the file as written (no interpretation): the engine's
+    :func:`pipeline.ingest.preview`, which raises only coded errors."""
+    from pipeline.ingest import preview as engine_preview
+
+    return engine_preview(data, filename, rows, sheet=sheet,
+                          settings=settings if isinstance(settings, Settings) else None)
 
 
 def month_options() -> list[dict[str, Any]]:
@@ -170,9 +158,11 @@ def _read_and_preview(data: bytes, filename: str, fy_start: int | None,
     except RealbasisError as err:
         intake, problems = None, err.problems
     try:
-        shown: Any = preview(data, filename)
-    except Exception as err:  # the preview is a courtesy, never an error
-        shown = f"the first rows cannot be shown ({type(err).__name__})"
+        shown: Any = preview(data, filename, sheet=sheet if isinstance(sheet, str) and sheet
+                             else None, settings=settings)
+    except RealbasisError as err:
+        p = err.problems[0]
+        shown = f"[{p.code}] {p.message}"
     return intake, problems, shown
 
 
@@ -218,22 +208,12 @@ def intake_view(intake: Any, filename: str) -> IntakeView:
 
 
 def reading_note(intake: Any) -> list[str]:
-    """How the intake read the file, in words (format, encoding, delimiter, decimals)."""
-    lines = []
-    fmt = str(getattr(intake, "format", "") or "")
-    if fmt == "xlsx" or getattr(intake, "sheet", None):
-        lines.append(f"Read as a workbook, sheet {intake.sheet!r}.")
-    else:
-        enc = getattr(intake, "encoding", None) or "not stated"
-        d = str(getattr(intake, "delimiter", "") or "")
-        delim = {",": "comma", ";": "semicolon", "\t": "tab"}.get(d, d)
-        lines.append(f"Read as text: encoding {enc}, {delim}-separated.")
-    dec = getattr(intake, "decimal", ".")
-    lines.append("Decimal mark: " + ("comma (1.234,5)" if dec == "," else "point (1,234.5)") + ".")
-    lines.append(f"{int(getattr(intake, 'rows', 0) or 0):,} data rows; cells that are not "
-                 "numbers or not periods are listed as problems and left out.")
-    lines.append("Kinds were guessed from names, units and values unless corrected here; "
-                 "a price index is kept apart from money series and filed by vintage.")
+    """How the intake read the file, in words: the engine's reading note (format,
+    encoding, rows skipped, layout, markers, missing values, how kinds were decided),
+    then what the screen adds."""
+    lines = [str(line) for line in getattr(intake, "note", ()) or ()]
+    lines.append("Kinds found here can be corrected under 'Series to correct'; a price "
+                 "index is kept apart from money series and filed by vintage.")
     return lines
 
 

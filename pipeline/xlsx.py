@@ -1,0 +1,252 @@
+"""Streaming Excel writer behind every workbook realbasis writes (xlsxwriter).
+
+Workbooks are written row by row in xlsxwriter's constant-memory mode: each finished row
+goes to disk, so memory stays flat whatever the size, and a cell costs one call. The
+sheet writers of :mod:`pipeline.workbook` and :mod:`pipeline.export` use only this small
+surface:
+
+* :class:`Book` — ``with Book(path) as wb:`` writes ``<path>.part`` and renames it to
+  ``path`` when the block ends without an error (nothing half-written is left behind);
+  ``wb.create_sheet(title)``.
+* :class:`Sheet` — ``append(values, style=..., fmts=...)`` writes the next row;
+  ``append_columns(columns)`` the rows of a table given column by column (the fast path
+  for data sheets); ``freeze(cell)``, ``width(col, chars)``.
+* :class:`Cell` / :class:`Style` — a value with its look (bold, size, fill colour,
+  wrap, number format).
+
+Every text cell is written as text, never as a formula, hyperlink or number, after
+:func:`pipeline.export.neutralise` (a leading apostrophe on text a spreadsheet would
+run: OWASP "CSV Injection" guidance). NaN is an empty cell; +/-inf is the text
+``inf``/``-inf``; numbers keep full precision (number formats only change the look).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+import re
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from types import TracebackType
+from typing import Any
+
+import numpy as np
+import xlsxwriter
+import xlsxwriter.exceptions
+
+_DANGEROUS = ("=", "+", "-", "@", "\t", "\r")
+_CELL_RE = re.compile(r"^([A-Z]+)(\d+)$")
+_DATE_FORMAT = "yyyy-mm-dd hh:mm:ss"
+
+
+def _neutral(text: str) -> str:
+    return "'" + text if text.startswith(_DANGEROUS) else text
+
+
+@dataclass(frozen=True)
+class Style:
+    """How a cell looks: ``fill`` is an RGB hex colour such as ``"FFF2CC"``; ``num`` an
+    Excel number format such as ``"#,##0.00"``."""
+
+    bold: bool = False
+    size: float | None = None
+    fill: str | None = None
+    wrap: bool = False
+    num: str | None = None
+
+    def merged(self, other: Style | None) -> Style:
+        if other is None:
+            return self
+        return Style(self.bold or other.bold, other.size or self.size, other.fill or self.fill,
+                     self.wrap or other.wrap, other.num or self.num)
+
+
+PLAIN = Style()
+
+
+class Cell:
+    """A value with its look (for one cell of :meth:`Sheet.append`)."""
+
+    __slots__ = ("style", "value")
+
+    def __init__(self, value: Any, style: Style = PLAIN) -> None:
+        self.value, self.style = value, style
+
+
+def plain(value: Any) -> Any:
+    """A Python value for a cell: numpy scalars unwrapped, NaN None, inf as text."""
+    if isinstance(value, np.generic):
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None if math.isnan(value) else ("inf" if value > 0 else "-inf")
+    return value
+
+
+class Sheet:
+    """One worksheet being written, top row first."""
+
+    def __init__(self, book: Book, ws: Any) -> None:
+        self._book, self._ws, self.row = book, ws, 0
+
+    @property
+    def title(self) -> str:
+        return str(self._ws.get_name())
+
+    def freeze(self, cell: str) -> None:
+        """Freeze the rows above and the columns left of ``cell`` (e.g. ``"B4"``)."""
+        m = _CELL_RE.match(cell)
+        if not m:
+            raise ValueError(f"not a cell reference: {cell!r}")
+        col = 0
+        for ch in m.group(1):
+            col = col * 26 + (ord(ch) - 64)
+        self._ws.freeze_panes(int(m.group(2)) - 1, col - 1)
+
+    def width(self, col: int, chars: float) -> None:
+        """Width of column ``col`` (1-based) in characters."""
+        self._ws.set_column(col - 1, col - 1, chars)
+
+    def append(self, values: Sequence[Any] = (), *, style: Style | None = None,
+               fmts: Sequence[str | None] | None = None) -> None:
+        """Write the next row. ``style`` applies to every cell of the row, ``fmts`` gives
+        number formats by position; a :class:`Cell` carries its own look on top."""
+        ws, r, fmt_of = self._ws, self.row, self._book.format
+        base = style or PLAIN
+        for j, v in enumerate(values):
+            look = base
+            if isinstance(v, Cell):
+                look, v = base.merged(v.style), v.value
+            value = plain(v)
+            if fmts is not None and j < len(fmts) and fmts[j] and look.num is None \
+                    and isinstance(value, int | float) and not isinstance(value, bool):
+                look = Style(look.bold, look.size, look.fill, look.wrap, fmts[j])
+            fmt = None if look == PLAIN else fmt_of(look)
+            if value is None:
+                if fmt is not None and look.fill:
+                    ws.write_blank(r, j, None, fmt)
+            elif isinstance(value, str):
+                ws.write_string(r, j, _neutral(value), fmt)
+            elif isinstance(value, bool):
+                ws.write_boolean(r, j, value, fmt)
+            elif isinstance(value, int | float):
+                ws.write_number(r, j, value, fmt)
+            elif isinstance(value, dt.datetime | dt.date):
+                ws.write_datetime(r, j, value, fmt or fmt_of(Style(num=_DATE_FORMAT)))
+            else:
+                ws.write_string(r, j, _neutral(str(value)), fmt)
+        self.row += 1
+
+    def append_columns(self, columns: Sequence[Sequence[Any]], *, header: Sequence[str] = (),
+                       fmts: Sequence[str | None] | None = None,
+                       looks: Sequence[Mapping[Any, Style] | None] | None = None) -> None:
+        """Write a table given column by column (numpy arrays or lists of equal length):
+        the header row (bold), then one row per entry. ``fmts`` gives number formats by
+        column, ``looks`` a style per text value by column (e.g. a fill for
+        'preliminary'). Text is neutralised once per distinct value; NaN is empty. The
+        fast path for large sheets."""
+        if header:
+            self.append(list(header), style=Style(bold=True))
+        if not columns:
+            return
+        fmt_of = self._book.format
+        prepared: list[tuple[list[Any], Any, dict[Any, Any] | None]] = []
+        for j, col in enumerate(columns):
+            arr = np.asarray(col)
+            num = fmt_of(Style(num=fmts[j])) if fmts and j < len(fmts) and fmts[j] else None
+            look = looks[j] if looks and j < len(looks) else None
+            if arr.dtype.kind == "f":
+                vals = [None if math.isnan(x) else
+                        (x if math.isfinite(x) else ("inf" if x > 0 else "-inf"))
+                        for x in arr.astype(float).tolist()]
+            elif arr.dtype.kind in "iub":
+                vals = arr.tolist()
+            else:
+                memo: dict[Any, Any] = {}
+                vals = []
+                for x in (col.tolist() if hasattr(col, "tolist") else list(col)):
+                    x = plain(x)
+                    if x is None or isinstance(x, int | float):
+                        vals.append(x)
+                        continue
+                    y = memo.get(x)
+                    if y is None:
+                        y = memo[x] = _neutral(x if isinstance(x, str) else str(x))
+                    vals.append(y)
+            styled = ({_neutral(str(k)): fmt_of(v) for k, v in look.items()}
+                      if look else None)
+            prepared.append((vals, num, styled))
+        ws = self._ws
+        write_number, write_string, write_boolean = (ws.write_number, ws.write_string,
+                                                     ws.write_boolean)
+        r0 = self.row
+        n = len(prepared[0][0])
+        for i in range(n):
+            r = r0 + i
+            for j, (vals, num, styled) in enumerate(prepared):
+                v = vals[i]
+                if v is None:
+                    continue
+                if isinstance(v, str):
+                    write_string(r, j, v, styled.get(v) if styled else None)
+                elif isinstance(v, bool):
+                    write_boolean(r, j, v)
+                else:
+                    write_number(r, j, v, num)
+        self.row = r0 + n
+
+
+class Book:
+    """A workbook written to ``<path>.part`` and renamed to ``path`` on success."""
+
+    def __init__(self, path: str | Path) -> None:
+        self.path = Path(path)
+        self.part = self.path.with_name(self.path.name + ".part")
+        self._wb = xlsxwriter.Workbook(str(self.part), {
+            "constant_memory": True, "strings_to_formulas": False, "strings_to_urls": False,
+            "strings_to_numbers": False, "remove_timezone": True,
+        })
+        self._formats: dict[Style, Any] = {}
+        self.sheets: list[Sheet] = []
+
+    def format(self, style: Style) -> Any:
+        fmt = self._formats.get(style)
+        if fmt is None:
+            spec: dict[str, Any] = {}
+            if style.bold:
+                spec["bold"] = True
+            if style.size:
+                spec["font_size"] = style.size
+            if style.fill:
+                spec.update(pattern=1, bg_color="#" + style.fill)
+            if style.wrap:
+                spec.update(text_wrap=True, valign="top")
+            if style.num:
+                spec["num_format"] = style.num
+            fmt = self._formats[style] = self._wb.add_format(spec)
+        return fmt
+
+    def create_sheet(self, title: str) -> Sheet:
+        sheet = Sheet(self, self._wb.add_worksheet(title))
+        self.sheets.append(sheet)
+        return sheet
+
+    @property
+    def sheetnames(self) -> list[str]:
+        return [s.title for s in self.sheets]
+
+    def __enter__(self) -> Book:
+        return self
+
+    def __exit__(self, kind: type[BaseException] | None, err: BaseException | None,
+                 tb: TracebackType | None) -> None:
+        try:
+            if kind is None:
+                try:
+                    self._wb.close()
+                except xlsxwriter.exceptions.FileCreateError as e:
+                    raise (e.args[0] if e.args and isinstance(e.args[0], OSError)
+                           else OSError(str(e))) from None
+                self.part.replace(self.path)
+        finally:
+            self.part.unlink(missing_ok=True)
