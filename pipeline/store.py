@@ -965,11 +965,13 @@ class WorkspaceStore:
 
     def close_sessions(self, role: str | None = None) -> int:
         """End every open session (of ``role``); returns how many were open."""
-        q = sessions_table.update().where(sessions_table.c.revoked_at.is_(None))
+        now = _now()
+        q = sessions_table.update().where(sessions_table.c.revoked_at.is_(None),
+                                          sessions_table.c.expires_at > now)
         if role is not None:
             q = q.where(sessions_table.c.role == role)
         with self._write() as conn:
-            return int(conn.execute(q.values(revoked_at=_now())).rowcount or 0)
+            return int(conn.execute(q.values(revoked_at=now)).rowcount or 0)
 
     def throttle_wait(self, key: str, *, limit: int, window: dt.timedelta) -> float:
         """Seconds ``key`` (e.g. a client address) must wait before its next try: 0 while

@@ -581,3 +581,47 @@ def _up(port: int) -> bool:
             return True
     except OSError:
         return False
+
+
+# --------------------------------------------------------------------------- sign-in bookkeeping
+
+
+def test_sessions_and_wrong_token_counts(store):
+    """Editor sessions (random ids, hashed, ended by the server) and wrong-token counts
+    shared by every process: counted exactly under concurrent failures."""
+    import datetime as dt
+    import threading
+
+    from pipeline.store import AccessContext, access_context
+
+    with access_context(AccessContext("reviewer", None, "anonymous")):  # at sign-in
+        sid = store.open_session("editor", grant="g1")
+    assert len(sid) >= 43 and store.session_role(sid, grant="g1") == "editor"
+    assert store.session_role(sid, grant="g2") is None  # another token in force
+    assert store.session_role("x" * 43, grant="g1") is None
+    assert store.close_session(sid) and store.session_role(sid, grant="g1") is None
+    assert not store.close_session(sid)
+    old = store.open_session("editor", grant="g1", lifetime=dt.timedelta(seconds=-1))
+    assert store.session_role(old, grant="g1") is None  # expired
+    store.open_session("editor", grant="g1")
+    assert store.close_sessions("editor") == 1
+
+    window = dt.timedelta(minutes=5)
+    errors: list[BaseException] = []
+
+    def fail_five() -> None:
+        try:
+            for _ in range(5):
+                store.throttle_fail("client-a", limit=30, window=window)
+        except BaseException as err:  # reported below
+            errors.append(err)
+
+    threads = [threading.Thread(target=fail_five) for _ in range(8)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    assert errors == []
+    assert store.throttle_wait("client-a", limit=40, window=window) > 0  # all 40 counted
+    assert store.throttle_wait("client-a", limit=41, window=window) == 0
+    assert store.throttle_wait("client-b", limit=1, window=window) == 0
