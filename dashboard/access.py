@@ -463,7 +463,8 @@ def _access_error(err: RealbasisError) -> flask.Response:
 
 WRITE_CONTROLS = ("IN_UPLOAD", "IN_ADD", "IN_KIND_APPLY", "IN_NEW_WORKSPACE", "RT_SAVE",
                   "RT_SA_ALL", "SH_REBASE", "SH_PROJECT", "SH_LINK", "SH_COST_BUILD",
-                  "SX_LINK_CREATE", "SX_REVOKE")
+                  "BT_SAVE", "BT_OUTLAY_SAVE", "IN_FY_SAVE",
+                  "SX_LINK_CREATE", "SX_REVOKE", "IN_FY_SAVE", "BT_OUTLAY_SAVE", "BT_SAVE")
 """Names in dashboard.ids of controls that change something; disabled for reviewers (for
 looks: the server refuses the callbacks behind them, dashboard.writes)."""
 

@@ -80,11 +80,14 @@ def _stretches(status: Sequence[str], which: str) -> list[tuple[int, int]]:
 
 def _shade(fig: go.Figure, status: Sequence[str]) -> None:
     """Shade preliminary and projected stretches (category positions, ±0.5)."""
-    for which, fill, text in (("preliminary", PRELIM_FILL, "preliminary index"),
-                              ("projected", PROJECTED_FILL, "projected")):
+    # the projected label sits at the right of its stretch, so it never runs into the
+    # preliminary label when a short preliminary stretch comes just before it
+    for which, fill, text, where in (
+            ("preliminary", PRELIM_FILL, "preliminary index", "top left"),
+            ("projected", PROJECTED_FILL, "projected", "top right")):
         for a, b in _stretches(status, which):
             fig.add_vrect(x0=a - 0.5, x1=b + 0.5, fillcolor=fill, line_width=0, layer="below",
-                          annotation_text=text, annotation_position="top left",
+                          annotation_text=text, annotation_position=where,
                           annotation_font_size=11)
 
 

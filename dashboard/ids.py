@@ -51,6 +51,10 @@ IN_REREAD = "in-reread"
 IN_ADDED_AT = "in-added-at"       # dcc.Store: the workspace version the "Added" message names
 IN_WS_SERIES = "in-ws-series"       # series held in the workspace (editors and reviewers)
 IN_UPLOADS = "in-uploads"           # files added, from the audit trail
+IN_WS_FY = "in-ws-fy"               # the workspace's fiscal year, in words (everyone)
+IN_WS_FY_MONTH = "in-ws-fy-month"   # its start month, settable (editors)
+IN_FY_SAVE = "in-fy-save"
+IN_FY_MESSAGE = "in-fy-message"
 
 # Deflator shelf
 SH_TABLE = "sh-table"
@@ -92,6 +96,37 @@ RT_SA_METHOD = "rt-sa-method"
 RT_SA_ALL = "rt-sa-all"
 RT_SA_PROGRESS = "rt-sa-progress"
 RT_SA_MESSAGE = "rt-sa-message"
+RT_INTERP = "rt-interp"             # fill in a less frequent deflator (Denton)
+RT_DEFLATOR_WHY = "rt-deflator-why"  # why the other deflators are not offered
+RT_OUTLAY = "rt-outlay"             # outlay rates of the chosen series, in percent
+RT_OUTLAY_STATE = "rt-outlay-state"  # saved or not
+
+# Budget table
+BT_PROGRAMS = "bt-programs"
+BT_DEFLATOR = "bt-deflator"
+BT_INTERP = "bt-interp"
+BT_DEFLATOR_WHY = "bt-deflator-why"
+BT_BASE = "bt-base"
+BT_FREQ = "bt-freq"
+BT_GIVEN = "bt-given"
+BT_OUTLAY_PROGRAM = "bt-outlay-program"
+BT_OUTLAY = "bt-outlay"
+BT_OUTLAY_SAVE = "bt-outlay-save"
+BT_OUTLAY_MESSAGE = "bt-outlay-message"
+BT_OUTLAY_SAVED = "bt-outlay-saved"   # the rates saved for the programs
+BT_SAVE = "bt-save"
+BT_SAVED = "bt-saved"
+BT_TITLE = "bt-title"
+BT_SUMMARY = "bt-summary"
+BT_FIGURE = "bt-figure"
+BT_TABLE = "bt-table"
+BT_WARNINGS = "bt-warnings"
+BT_METHOD = "bt-method"
+BT_DL_CSV = "bt-dl-csv"
+BT_DL_XLSX = "bt-dl-xlsx"
+BT_DOWNLOAD = "bt-download"
+BT_DL_STATUS = "bt-dl-status"
+BT_DL_PROGRESS = "bt-dl-progress"
 
 # Deflator spread
 SP_SERIES = "sp-series"
@@ -105,6 +140,8 @@ SP_VERDICT = "sp-verdict"
 SP_GROWTH = "sp-growth"
 SP_METHOD = "sp-method"
 SP_WARNINGS = "sp-warnings"
+SP_INTERP = "sp-interp"
+SP_DEFLATOR_WHY = "sp-deflator-why"
 
 # Revisions
 RV_INDEX = "rv-index"

@@ -14,7 +14,9 @@ SCREEN: Mapping[str, str] = {
                     "the workspace.",
     "result_frequency": "Pick a longer period under 'Show as' (quarters, calendar or fiscal "
                         "years).",
-    "interpolate": "Choose a deflator at least as frequent as the series.",
+    "interpolate": "Tick 'Fill in a less frequent deflator (Denton, keeping its period "
+                   "averages)' beside the deflator, or choose a deflator at least as "
+                   "frequent as the series.",
     "deflator_missing": "Choose a price index, or add one on Data intake.",
     "series_kind": "Correct the kind under 'Series to correct' on Data intake.",
     "sheet": "Pick the sheet under 'Sheet' on Data intake.",
@@ -27,5 +29,6 @@ SCREEN: Mapping[str, str] = {
                       "and press 'Save these choices to the workspace'.",
     "projection_rate": "Type the rate in percent a year, e.g. 2.5.",
     "base_period": "Type another base period.",
-    "project_index": "Extend the index under 'Project out-years' on the Deflator shelf.",
+    "project_index": "Extend the index on the Deflator shelf under 'Rebase or project an "
+                     "index' (type the rate and 'Project until').",
 }

@@ -190,6 +190,14 @@ def _years_frequency(series: Sequence[Series], to: Frequency | None,
     return ANNUAL
 
 
+def budget_years(series: Sequence[Series], to: Frequency | None = None,
+                 fy_start: int | None = None) -> Frequency:
+    """The years a budget table of ``series`` is laid out by (as :func:`budget_table`
+    chooses them): ``to``, else the programs' own when they are yearly, else fiscal
+    years of ``fy_start``, else calendar years."""
+    return _years_frequency(series, to, fy_start) or series[0].frequency
+
+
 def from_result(result: DeflationResult, deflator: str | int = 0, *,
                 given: Given = "then-year", title: str | None = None) -> BudgetTable:
     """The budget table of an engine result (one deflator of it). ``given="constant"``

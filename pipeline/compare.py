@@ -362,7 +362,7 @@ def _fit_one(s: Series, d: Series, span: Span, to: Frequency | None, fy: int | N
                     missing = tuple(x for x in full if x not in labs)
                     verdict: Verdict = ("needs_interpolation" if interp_used and not interpolate
                                         else "serves_in_part")
-                    reason = (f"{runs}, so {_span_words(missing)} of the series "
+                    reason = (f"{runs}, so {_span_words(missing, full)} of the series "
                               f"{'is' if len(missing) == 1 else 'are'} left out"
                               f"{interp_note}{extra}")
                     if verdict == "needs_interpolation":
@@ -402,13 +402,29 @@ def _all_labels(s: Series, out: Frequency) -> list[str]:
     return out.labels(conv.series.values.dropna().index)
 
 
-def _span_words(labels: Sequence[str]) -> str:
+def _span_words(labels: Sequence[str], order: Sequence[str] = ()) -> str:
+    """'FY2027–FY2030', or 'FY2016–FY2018 and FY2027–FY2030' when the labels make more
+    than one run of consecutive periods of ``order`` (all the series' periods)."""
     labs = list(labels)
     if not labs:
         return "no period"
-    if len(labs) == 1:
-        return labs[0]
-    return f"{labs[0]}–{labs[-1]}" if len(labs) > 2 else f"{labs[0]} and {labs[1]}"
+    pos = {x: i for i, x in enumerate(order)}
+    runs: list[list[str]] = []
+    for x in labs:
+        follows = (not pos or (x in pos and runs[-1][-1] in pos
+                                and pos[x] == pos[runs[-1][-1]] + 1)) if runs else False
+        if follows:
+            runs[-1].append(x)
+        else:
+            runs.append([x])
+
+    def one(run: list[str]) -> str:
+        if len(run) == 1:
+            return run[0]
+        return f"{run[0]}–{run[-1]}" if len(run) > 2 else f"{run[0]} and {run[1]}"
+
+    return " and ".join(one(r) for r in runs) if len(runs) <= 3 else (
+        f"{', '.join(one(r) for r in runs[:2])} and {len(runs) - 2:,} more stretches")
 
 
 def _fy_of(series: Series, fy_start: int | None, to: Frequency | None) -> int | None:

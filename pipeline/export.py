@@ -6,7 +6,9 @@
 * ``.json``: ``{"base", "frequency", "dollars", "columns", "records", "method",
   "cautions", "warnings", "context"}``, plus ``"revision_bands"`` when revision bands
   are given (context ``bands=``: :class:`pipeline.revision_risk.RevisionBand`, each as
-  its ``as_dict()``); missing numbers are ``null``.
+  its ``as_dict()``) and ``"budget"`` when budget tables are given (context ``budget=``:
+  :class:`pipeline.budget.BudgetTable`, each as its ``as_dict()``); missing numbers are
+  ``null``.
 * ``.xlsx``: the audit workbook of :mod:`pipeline.workbook` (Summary, the "Real terms"
   data sheet written by :func:`write_data_sheet`, one "Real - <deflator>" sheet each,
   "Indexes used", "Status flags", "Revision band" when bands are given, "Method").
@@ -88,6 +90,7 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
     """Everything the JSON export holds, as plain Python objects. ``bands`` (a sequence of
     revision bands) becomes ``revision_bands``; other context is listed as text."""
     bands = context.pop("bands", None) or ()
+    budget = context.pop("budget", None)
     table = export_table(result)
     records = []
     cols = list(table.columns)
@@ -115,6 +118,9 @@ def result_dict(result: DeflationResult, **context: Any) -> dict[str, Any]:
     }
     if bands:
         out["revision_bands"] = [b.as_dict() for b in bands]
+    if budget is not None:
+        tables = list(budget) if isinstance(budget, list | tuple) else [budget]
+        out["budget"] = [t.as_dict() for t in tables]
     return out
 
 

@@ -555,3 +555,57 @@ def deflate_authority(series: Sequence[Series], deflators: Sequence[Series],
         out = _merge(out, deflate(plain, deflators, span, to=year, fy_start=fy,
                                   interpolate=interpolate, indicators=indicators))
     return out
+
+
+# --------------------------------------------------------------------------- what the index reaches
+
+
+def last_whole_year(index: Series, years: Frequency) -> pd.Period | None:
+    """The last year (of ``years``) whose every month ``index`` has a value in: the year
+    containing its last value, or the one before when that year is not complete."""
+    v = index.values.dropna()
+    if v.empty:
+        return None
+    end_month = v.index[-1].asfreq("M", how="end")
+    year = end_month.asfreq(years.pandas_freq)
+    if year.asfreq("M", how="end") != end_month:
+        year -= 1
+    return year
+
+
+def reach_until(series: Series, rates: OutlayRates, years: Frequency) -> str | None:
+    """The year an index must reach for the outlays of every year of ``series``'
+    authority: its last year plus the longest outlay lag (for the proposal 'project the
+    index until …')."""
+    v = series.values.dropna()
+    if v.empty:
+        return None
+    last = v.index[-1].asfreq(years.pandas_freq, how="end")
+    return years.label(last + (rates.years - 1))
+
+
+def cut_to_reach(series: Series, deflators: Sequence[Series], rates: OutlayRates,
+                 years: Frequency) -> tuple[Series, str | None]:
+    """Leave out the years of authority whose outlays reach beyond the last whole year
+    every deflator covers (authority of year t is spent until t + the longest lag), so
+    the others can be shown; returns the series and a note (None when nothing was cut,
+    or when nothing would be left: then :func:`deflate_authority` says what is missing,
+    DF022). Only the end is cut: outlays run forward in time."""
+    lasts = [y for y in (last_whole_year(d, years) for d in deflators) if y is not None]
+    v = series.values.dropna()
+    if not lasts or v.empty:
+        return series, None
+    last = min(lasts)
+    lag = rates.years - 1
+    year_of = v.index.asfreq(years.pandas_freq, how="end")
+    keep = np.asarray((year_of + lag) <= last)
+    if keep.all() or not keep.any():
+        return series, None
+    kept_end = v.index[keep][-1]
+    kept = series.values.loc[:kept_end]
+    status = series.status.reindex(kept.index) if series.status is not None else None
+    f = series.frequency
+    return series.with_values(kept, status=status), (
+        f"{series.name} is shown to {f.label(kept_end)}: the authority of later years is "
+        f"spent until {years.label(year_of[-1] + lag)} at its outlay rates, beyond the last "
+        f"year the deflator covers ({years.label(last)}).")

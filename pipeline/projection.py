@@ -197,8 +197,10 @@ def project(
                        expected="a rate a year above -100 % and at most 100 % (e.g. 2.5 %)",
                        found=_shown(shown[y], bare), series=index.name,
                        period=y if isinstance(rate, Mapping) else None,
-                       fix="Give the rate as a percent a year (2.5 %) or a fraction "
-                           "(0.025); rates above 100 % a year are refused.",
+                       fix=("Give the rate in percent a year (2.5 means 2.5 % a year); "
+                            "rates above 100 % a year are refused." if bare == "percent" else
+                            "Give the rate as a percent a year (2.5 %) or a fraction "
+                            "(0.025); rates above 100 % a year are refused."),
                        remedy="projection_rate")
     per_period = np.array([(1 + rates_by_year[y]) ** (1 / freq.periods_per_year)
                            for y in ylabels])

@@ -52,7 +52,7 @@ from typing import Any
 import numpy as np
 
 from . import __version__
-from .errors import fail, register
+from .errors import RealbasisError, fail, register
 from .export import EX002, EX003, XLSX_MAX_ROWS, export_table, write_data_sheet
 from .model import CAUTIONS, STATUSES
 from .xlsx import Book, Cell, Sheet, Style
@@ -669,7 +669,79 @@ def workspace_result(ws: Any, *, base: str | None = None,
     freq = _frequency(to if to is not None else settings.get("frequency", "auto"), money, defl)
     from .fiscal import fiscal_start_of
 
-    return deflate(money, defl, base, to=freq, fy_start=fiscal_start_of(ws)), used, notes
+    fy = fiscal_start_of(ws)
+    interp = bool(settings.get("interpolate"))
+    rates = saved_rates(ws, chosen)
+    if rates:
+        result = _authority_result([ws.series[n] for n in chosen], defl, base, rates, freq,
+                                   fy, interp, notes)
+        if result is not None:
+            for name in [n for n in used if n not in result.deflator_names]:
+                used.pop(name)
+            return result, used, notes
+    return deflate(money, defl, base, to=freq, fy_start=fy, interpolate=interp), used, notes
+
+
+def saved_rates(ws: Any, names: Sequence[str]) -> dict[str, Any]:
+    """The outlay rates saved for any of ``names`` (series name -> OutlayRates;
+    :data:`pipeline.outlay.SETTING`)."""
+    from .outlay import SETTING, rates_by_series
+
+    return {n: r for n, r in rates_by_series((ws.settings or {}).get(SETTING)).items()
+            if n in names}
+
+
+def _authority_result(money: list[Any], defl: list[Any], base: str, rates: Mapping[str, Any],
+                      freq: Any, fy: int | None, interp: bool, notes: list[str]) -> Any:
+    """The series with saved outlay rates deflated as budget authority
+    (:func:`pipeline.outlay.deflate_authority`): a deflator that cannot reach the outlay
+    years even of the base is left out, the years whose outlays the others do not reach
+    are cut (both noted); None when the results are not by year (noted: rates are shares
+    per year)."""
+    from .outlay import cut_to_reach, deflate_authority
+
+    years = freq if freq is not None else (
+        money[0].frequency if len({m.frequency for m in money}) == 1 else None)
+    # ``money`` is the series as held (not yet cut to the deflators' span)
+    if years is None or years.code not in ("A", "FY"):
+        notes.append("Outlay rates saved for " + ", ".join(repr(n) for n in rates)
+                     + " are not used: the results are "
+                     + (years.describe() if years is not None else "not by year")
+                     + ", and outlay rates are shares per year.")
+        return None
+    from .outlay import DF022
+
+    rated = [s for s in money if s.name in rates]
+    kept, first_error = [], None
+    for d in defl:  # a deflator that cannot reach the outlay years is left out, and named
+        trial = [cut_to_reach(_trim(s, [d])[0], [d], rates[s.name], years)[0]
+                 for s in rated]
+        try:
+            deflate_authority(trial, [d], base, dict(rates), to=freq, fy_start=fy,
+                              interpolate=interp)
+        except RealbasisError as err:
+            gap = next((p for p in err.problems if p.code == DF022), None)
+            if gap is None:
+                raise
+            first_error = first_error or err
+            notes.append(f"{d.name} is left out: {gap.message} ({gap.found}).")
+            continue
+        kept.append(d)
+    if not kept:
+        raise first_error  # type: ignore[misc]
+    # cut to what the deflators kept cover (the notes on cutting are made again for them)
+    notes[:] = [n for n in notes if "the periods every chosen deflator covers" not in n]
+    money = list(money)
+    for i, s in enumerate(money):
+        money[i], note = _trim(s, kept)
+        if note:
+            notes.append(note)
+        if s.name in rates:
+            money[i], note = cut_to_reach(money[i], kept, rates[s.name], years)
+            if note:
+                notes.append(note)
+    return deflate_authority(money, kept, base, dict(rates), to=freq, fy_start=fy,
+                             interpolate=interp)
 
 
 def workspace_bands(ws: Any, result: Any, used: Mapping[str, str]) -> tuple[Any, ...]:
@@ -699,7 +771,10 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
     """Write a workspace's result (.xlsx audit workbook, .csv or .json) the same way the
     command line does, with the workspace, its audit trail and index vintages recorded.
     When the workspace's settings hold a total of parts (:func:`saved_total`), the
-    workbook also gets its Contributions sheets (:func:`write_contributions_sheets`).
+    workbook also gets its Contributions sheets (:func:`write_contributions_sheets`);
+    when they hold a budget table (:func:`saved_budget`), the workbook gets its Budget
+    sheet and the JSON its ``budget`` (:func:`workspace_budget`). Series with saved
+    outlay rates are deflated as budget authority (:func:`workspace_result`).
     With a ``store`` and editor access, the export is noted in the audit trail."""
     from .export import write_result
     from .store import current_access
@@ -707,6 +782,16 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
     result, used, notes = workspace_result(ws, base=base, deflators=deflators, series=series,
                                            to=to)
     total = None
+    budget = None
+    if Path(path).suffix.lower() != ".csv" and saved_budget(ws) is not None:
+        try:
+            budget, budget_used, budget_notes = workspace_budget(ws)
+        except RealbasisError as err:  # the rest of the export stands; the file says why
+            notes.append(f"No budget table: {err.problems[0].message} "
+                         f"({err.problems[0].code}).")
+        else:
+            used.update({k: v for k, v in budget_used.items() if k not in used})
+            notes += [n for n in budget_notes if n not in notes]
     if Path(path).suffix.lower() == ".xlsx" and saved_total(ws) is not None:
         total, total_used, total_notes = workspace_total(ws, base=base, to=to)
         used.update({k: v for k, v in total_used.items() if k not in used})
@@ -723,11 +808,13 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
         "audit": events or None,
         "total": total,
         "bands": bands or None,
+        "budget": budget,
     }
     if Path(path).suffix.lower() != ".xlsx":
         context = {"workspace": context["workspace"], "command": context["command"],
                    "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items()),
-                   "bands": bands or None}
+                   "notes": "; ".join(notes) if notes else None,
+                   "bands": bands or None, "budget": budget}
     out = write_result(result, path, **{k: v for k, v in context.items() if v is not None})
     if store is not None and not current_access().read_only:
         store.record_use(ws.id, used, purpose=f"export {Path(path).name}", actor=actor)
@@ -938,3 +1025,105 @@ def workspace_total(ws: Any, *, base: str | None = None,
     total = total_of_parts(parts, list(defl.values()), pairs, base, chain=chain,  # type: ignore[arg-type]
                            to=freq)
     return total, used, notes
+
+
+# --------------------------------------------------------------------------- budget tables
+
+BUDGET_SETTING = "budget"
+"""Key of the saved budget-table choices in ``Workspace.settings``: ``{"programs": [...],
+"deflator": name, "base": label, "given": "then-year" | "constant", "frequency": choice,
+"interpolate": bool}``."""
+
+
+def saved_budget(ws: Any) -> dict[str, Any] | None:
+    """The budget-table choices a workspace's settings hold (:data:`BUDGET_SETTING`), or
+    None when no programs are saved."""
+    spec = (ws.settings or {}).get(BUDGET_SETTING)
+    if not isinstance(spec, Mapping) or not spec.get("programs"):
+        return None
+    return {"programs": [str(p) for p in spec["programs"]],
+            "deflator": str(spec["deflator"]) if spec.get("deflator") else None,
+            "base": str(spec.get("base") or ""),
+            "given": "constant" if spec.get("given") == "constant" else "then-year",
+            "frequency": str(spec.get("frequency") or "auto"),
+            "interpolate": bool(spec.get("interpolate"))}
+
+
+def workspace_budget(ws: Any, *, programs: Sequence[str] | None = None,
+                     deflator: str | None = None, base: str | None = None,
+                     given: str | None = None, to: Any = None,
+                     interpolate: bool | None = None) -> tuple[Any, dict[str, str], list[str]]:
+    """The budget table of a stored workspace (:func:`pipeline.budget.budget_table`).
+
+    Choices as given, else the saved ones (:func:`saved_budget`), else the workspace's
+    saved deflator and base; fiscal labels read with the workspace's fiscal year; the
+    deflator at its saved vintage or its latest; each program's saved outlay rates used
+    (:func:`pipeline.outlay.deflate_authority`). Each program is cut to the periods the
+    deflator covers and, with outlay rates, to the years whose outlays it reaches; the
+    notes say so and end up in the table's method note. Returns the table, the index
+    vintage used and the notes."""
+    import dataclasses
+
+    from .budget import budget_table, budget_years
+    from .compare import result_frequency, trim_to_cover
+    from .fiscal import fiscal_start_of
+    from .outlay import cut_to_reach
+
+    settings = dict(ws.settings or {})
+    spec = saved_budget(ws) or {}
+    names = [n for n in (programs if programs is not None else spec.get("programs") or [])
+             if n in ws.series]
+    dname = deflator or spec.get("deflator") or settings.get("deflator")
+    base = (base or spec.get("base") or str(settings.get("base") or "")).strip()
+    given = given or spec.get("given") or "then-year"
+    interp = bool(spec.get("interpolate")) if interpolate is None else bool(interpolate)
+    if not names or not base or dname not in ws.indexes:
+        raise fail(EX102, "the budget table needs " + ", ".join(
+                   w for w, ok in (("programs", names), ("a base period", base),
+                                   ("a deflator", dname in ws.indexes)) if not ok),
+                   expected="programs, a deflator and a base year",
+                   found=f"{len(names)} program(s); base {base or 'none'}; deflator "
+                         f"{dname or 'none'}",
+                   fix="Choose the programs, the deflator and the base year of the budget "
+                       "table.", remedy="export_choices")
+    saved_vintages = settings.get("vintages") if isinstance(settings.get("vintages"), dict) else {}
+    vins = ws.indexes[dname]
+    key = str(saved_vintages.get(dname)) if saved_vintages.get(dname) in vins else _latest(vins)
+    d = vins[key]
+    fy = fiscal_start_of(ws)
+    money = [ws.series[n] for n in names]
+    code = to if to is not None else spec.get("frequency") or "auto"
+    years = (code if not isinstance(code, str) else
+             None if code in ("auto", "native") else
+             result_frequency(code, money[0], [d], fy_start=fy))
+    years_used = budget_years(money, years, fy)
+    rates = saved_rates(ws, names)
+    notes: list[str] = []
+    cut = []
+    for s in money:
+        s, note = trim_to_cover(s, [d])
+        if note:
+            notes.append(note)
+        if s.name in rates:
+            s, note = cut_to_reach(s, [d], rates[s.name], years_used)
+            if note:
+                notes.append(note)
+        cut.append(s)
+    table = budget_table(cut, d, base, fy_start=fy, to=years, outlay_rates=rates or None,
+                         given="constant" if given == "constant" else "then-year",
+                         interpolate=interp)
+    from .fiscal import workspace_fiscal_year
+
+    fiscal = workspace_fiscal_year(ws)
+    extra = [*notes, *(fiscal.method_note() if fiscal.known else ())]
+    # programs in the order chosen (outlay-weighted ones come first from the engine)
+    rows = [n for n in names if n in table.then_year.index]
+    rows += [r for r in table.then_year.index if r not in rows]
+    table = dataclasses.replace(
+        table, programs=tuple(n for n in names if n in table.programs),
+        then_year=table.then_year.reindex(rows), constant=table.constant.reindex(rows),
+        deflator_index=table.deflator_index.reindex(rows), status=table.status.reindex(rows),
+        real_growth=table.real_growth.reindex(rows),
+        nominal_cagr=table.nominal_cagr.reindex(rows), real_cagr=table.real_cagr.reindex(rows),
+        method=(*table.method, *extra))
+    return table, {dname: key}, notes

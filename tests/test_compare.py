@@ -223,3 +223,15 @@ def test_trim_to_cover():
     with pytest.raises(RealbasisError) as e:
         trim_to_cover(s, [far])
     assert e.value.code == "DF040"
+
+
+def test_missing_periods_in_two_stretches_are_named_apart(demo):
+    """An index that starts after the series and ends before it leaves out two
+    stretches; the reason names each, not one range over the periods it does cover."""
+    bus = demo["programs"][0]
+    wage = demo["indexes"]["Private-sector wage index"]
+    late = wage.with_values(wage.values["2019Q1":])
+    chk = serve_check(bus, [late], "FY2025", to="auto", fy_start=7)
+    f = chk.fits[0]
+    assert f.verdict == "serves_in_part"
+    assert "FY2016–FY2019 and FY2027–FY2030 of the series are left out" in f.reason

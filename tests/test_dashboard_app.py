@@ -236,7 +236,7 @@ def test_serve_with_gunicorn_leaves_no_server_behind_when_stopped(tmp_path: Path
 
 def test_screens_are_discovered_in_order():
     keys = [s.key for s in discover()]
-    assert keys[:5] == ["intake", "shelf", "real", "spread", "revisions"]
+    assert keys[:6] == ["intake", "shelf", "real", "budget", "spread", "revisions"]
 
 
 def test_address_keeps_other_parameters():

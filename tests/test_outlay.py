@@ -220,3 +220,30 @@ def test_rates_saved_per_series_with_the_workspace():
     with pytest.raises(RealbasisError) as e:
         with_outlay_rates(ws, "Capital program", "0.5,0.4")
     assert e.value.code == "DF020"
+
+
+def test_authority_years_beyond_the_index_can_be_left_out():
+    """The last year of authority t needs the index until t + the longest lag: years
+    whose outlays the index does not reach are cut (said), the rest is deflated; the
+    projection that would reach them all is named."""
+    from pipeline.outlay import cut_to_reach, last_whole_year, reach_until
+
+    ba = authority([1000.0, 1000.0, 1000.0, 1000.0])  # FY2025-FY2028
+    ix = fy_index(INDEX)  # FY2025-FY2028
+    rates = outlay_rates("0.5,0.3,0.2")
+    assert last_whole_year(ix, FY7) == pd.Period("2028", "Y-JUN")
+    assert reach_until(ba, rates, FY7) == "FY2030"
+    kept, note = cut_to_reach(ba, [ix], rates, FY7)
+    assert list(FY7.labels(kept.values.dropna().index)) == ["FY2025", "FY2026"]
+    assert note is not None and "FY2026" in note and "FY2030" in note and "FY2028" in note
+    res = deflate_authority([kept], [ix], "FY2025", rates)
+    # FY2026 by hand: 1000 x (0.5 x 100/104 + 0.3 x 100/108.16 + 0.2 x 100/112.4864)
+    assert res.real_series("Capital program", 0)[pd.Period("2026", "Y-JUN")] == pytest.approx(
+        1000 * (0.5 * 100 / 104 + 0.3 * 100 / 108.16 + 0.2 * 100 / 112.4864))
+    # nothing to cut, or nothing would be left: the series as it was
+    assert cut_to_reach(ba, [ix], outlay_rates("1"), FY7) == (ba, None)
+    assert cut_to_reach(ba, [fy_index(INDEX[:1])], rates, FY7) == (ba, None)
+    # a monthly index ending in March: the fiscal year ending June is not complete
+    months = pd.period_range("2024-07", "2026-03", freq="M")
+    m = Series("M", pd.Series(100.0, index=months), Frequency("M"), kind="index")
+    assert last_whole_year(m, FY7) == pd.Period("2025", "Y-JUN")

@@ -107,3 +107,33 @@ def test_remedy_survives_as_warning_and_dict():
     p = fail("PE102", "m", fix="f", remedy="fiscal_start").problems[0]
     assert p.as_warning().remedy == "fiscal_start"
     assert p.as_dict()["remedy"] == "fiscal_start"
+
+
+def _dashboard_texts() -> list[tuple[str, int, str]]:
+    """Every literal text the dashboard itself puts in a problem (fail/warn/Problem in
+    dashboard/) and every notice it builds from literals (notice(...), the screens' own
+    words on the page)."""
+    out = []
+    for path in sorted((ROOT / "dashboard").rglob("*.py")):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        for node in ast.walk(tree):
+            if not isinstance(node, ast.Call):
+                continue
+            name = getattr(node.func, "id", getattr(node.func, "attr", ""))
+            if name not in ("fail", "warn", "Problem", "notice"):
+                continue
+            args = [*node.args[:5], *(k.value for k in node.keywords
+                                     if k.arg in ("expected", "found", "fix"))]
+            for arg in args:
+                for sub in ast.walk(arg):
+                    if isinstance(sub, ast.Constant) and isinstance(sub.value, str):
+                        out.append((str(path.relative_to(ROOT)), sub.lineno, sub.value))
+    return out
+
+
+def test_dashboard_messages_name_no_command_line_option_or_python_argument():
+    texts = _dashboard_texts()
+    assert len(texts) > 40  # the walk really sees the dashboard's own messages
+    bad = [(f, n, t) for f, n, t in texts
+           if OPTION.search(t) or PY_ARG.search(t) or "fy_start" in t or "bare=" in t]
+    assert not bad, bad

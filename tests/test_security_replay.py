@@ -122,6 +122,7 @@ def _values(site: dict[str, Any], pending: Any = None) -> dict[str, Any]:
         f"{ids.SH_INDEX}.value": "Chained consumer index",
         f"{ids.SH_TARGET}.value": "Chained consumer index", f"{ids.SH_REBASE_BASE}.value": "2024",
         f"{ids.SX_LINK_LABEL}.value": "replayed", f"{ids.SX_LINK_DAYS}.value": 7,
+        f"{ids.BT_OUTLAY_PROGRAM}.value": "Bus operations", f"{ids.BT_OUTLAY}.value": "50, 30, 20",
     })
     return values
 
@@ -163,7 +164,9 @@ def test_the_registry_names_callbacks_the_page_has(site: dict[str, Any]):
     # the ones the product has today, by what they write (a rename is fine, a loss is not)
     for what in ("upload a file", "start a workspace", "add a file's series to the workspace",
                  "add an index to the workspace", "save the real-terms choices",
-                 "seasonally adjust the workspace's series", "create or revoke a reviewer link"):
+                 "seasonally adjust the workspace's series", "create or revoke a reviewer link",
+                 "save the workspace's fiscal year", "save the outlay rates",
+                 "save the budget-table choices"):
         assert what in registry.values(), what
 
 

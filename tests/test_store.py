@@ -487,6 +487,8 @@ def _save_body(ws_id: str, base: str, output: str) -> dict:
                       {"id": "rt-base", "property": "value", "value": base},
                       {"id": "rt-freq", "property": "value", "value": "auto"},
                       {"id": "rt-sa", "property": "value", "value": []},
+                      {"id": "rt-interp", "property": "value", "value": []},
+                      {"id": "rt-outlay", "property": "value", "value": ""},
                       {"id": "rb-workspace", "property": "data",
                        "value": {"id": ws_id, "version": 0}}],
             "changedPropIds": ["rt-save.n_clicks"]}

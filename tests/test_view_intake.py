@@ -207,6 +207,49 @@ def test_upload_limit_message_names_the_limit():
     assert "REALBASIS_MAX_UPLOAD_BYTES" in p.fix
 
 
+def test_the_workspace_fiscal_year_is_shown_inferred_and_settable(access: DataAccess):
+    """A workspace's fiscal year comes from its fiscal series when they agree, can be set
+    (saved with the workspace, and then it wins) and is used to read the next file."""
+    import dataclasses
+
+    from pipeline.fiscal import SETTING
+
+    demo_ref = access.demo_ref()
+    demo = access.load(demo_ref)
+    text, options, value = view.fiscal_view(demo)
+    assert "Fiscal years start in July" in str(text.to_plotly_json())
+    assert "taken from the workspace's 4 fiscal series" in str(text.to_plotly_json())
+    assert options[0] == {"label": "Taken from the fiscal series (July)", "value": 0}
+    assert value == 0
+    # set: saved (a copy, since the demo is shared), and shown as set
+    new_ref, message = view.save_fiscal_year(access, demo_ref, 10)
+    assert new_ref is not None and "Saved as version" in str(message.to_plotly_json())
+    saved = access.load(new_ref)
+    assert saved.settings[SETTING] == 10
+    text, _options, value = view.fiscal_view(saved)
+    assert value == 10 and "as set for this workspace" in str(text.to_plotly_json())
+    # the fiscal series now disagree with the setting: PE301, in the dashboard's words
+    assert "PE301" in str(text.to_plotly_json())
+    cleared, _ = view.save_fiscal_year(access, new_ref, 0)
+    assert SETTING not in access.load(cleared).settings
+    # a workspace with no fiscal series and no setting: said plainly, none assumed
+    empty = access.create("empty")
+    text, _o, _v = view.fiscal_view(dataclasses.replace(empty))
+    assert "No fiscal year is set" in str(text.to_plotly_json())
+
+
+def test_a_file_of_fiscal_labels_is_read_with_the_workspace_fiscal_year(access: DataAccess):
+    csv = b"period,Program A (USD)\nFY2024,1\nFY2025,2\n"
+    pending, _ = view.receive(access, _data_url(csv), "budget.csv")
+    refused = view.interpret(access, pending, 0, {})
+    assert "PE102" in str(refused[2].to_plotly_json())
+    read = view.interpret(access, pending, 0, {}, workspace_fy=7)
+    assert "fiscal years starting July" in str(read[1].to_plotly_json())
+    assert read[5] is False  # can be added
+    assert view.month_options(7)[0]["label"] == ("As the workspace: fiscal year starts in "
+                                                 "July")
+
+
 def test_reading_note_is_the_engines_and_names_skipped_title_rows():
     # agencies put titles above their tables (common practice); the screen shows what
     # the intake did, in the engine's own words, plus where to correct kinds

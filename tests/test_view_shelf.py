@@ -98,3 +98,55 @@ def test_shelf_actions_run_by_name_and_need_the_index_to_work_on(access: DataAcc
     assert new_ref is not None and "Index A linked with Index B" in access.load(new_ref).indexes
     events = [e.detail.get("action") for e in access.store.audit(ws.id) if e.event == "save"]
     assert view.ACTIONS["link"] in events
+
+
+def test_fiscal_periods_on_the_shelf(demo: Workspace):
+    """Rebase a monthly index to FY2025 and project it until FY2030 with the workspace's
+    July fiscal year: the rebased index averages 100 over July 2024 - June 2025 (ILO/IMF
+    CPI Manual 2020, ch. 9: rebasing divides by the new base period's average); the
+    projection reaches June 2030, the end of FY2030."""
+    ws, lines = view.rebase_index(demo, "Chained consumer index", "FY2025")
+    r = pick_index(ws, "Chained consumer index (FY2025=100)")
+    assert r.values["2024-07":"2025-06"].mean() == pytest.approx(100.0)
+    assert "July 2024 to June 2025" in lines[0]
+    same, _ = view.rebase_index(demo, "Chained consumer index", "2024-25")
+    assert pick_index(same, "Chained consumer index (FY2025=100)").values.equals(r.values)
+    ws, lines = view.project_index(demo, "Chained consumer index", "2.5", "FY2030")
+    p = pick_index(ws, "Chained consumer index projected at 2.5 % a year")
+    assert p.values.index[-1] == pd.Period("2030-06", "M")
+    assert any("Fiscal years start in July" in line for line in lines)
+    # an overlap given as a fiscal year: I(t) = I_new(t) x I_old(o) / I_new(o) from o on
+    ws, lines = view.link_indexes(demo, "Chained consumer index", "Fixed-basket consumer index",
+                                  "FY2021")
+    assert "Chained consumer index linked with Fixed-basket consumer index" in ws.indexes
+
+
+def test_projection_rate_is_percent_a_year_and_answered_as_typed(small: Workspace):
+    # the field says "% a year": 2.5 and 2.5 % are both 2.5 % a year (pipeline.projection
+    # parse_rate with bare="percent")
+    a, _ = view.project_index(small, "Index A", "2.5", "2025-12")
+    b, _ = view.project_index(small, "Index A", "2.5 %", "2025-12")
+    name = "Index A projected at 2.5 % a year"
+    assert pick_index(a, name).values.equals(pick_index(b, name).values)
+    # compounding: twelve months at (1.025)^(1/12) each (common practice)
+    v = pick_index(a, name).values
+    assert v.iloc[-1] / v.iloc[-13] == pytest.approx(1.025)
+    with pytest.raises(RealbasisError) as err:
+        view.project_index(small, "Index A", "250", "2025-12")
+    p = err.value.problems[0]
+    assert p.code == "WS202" and p.found.startswith("'250'")  # what was typed, not 2.5
+    fix = view.error_dicts(err.value)[0]["fix"]
+    assert "fraction" not in fix and "percent a year" in fix
+    with pytest.raises(RealbasisError) as err:
+        view.project_index(small, "Index A", "two", "2025-12")
+    assert err.value.code == "WS206"
+
+
+def test_typed_weights_are_located_by_line_of_the_box(demo: Workspace):
+    comps = ["Goods purchased", "Wages and benefits"]
+    weights = "period,Goods purchased,Wages and benefits\n2023,600,250\n2024,abc,260\n"
+    with pytest.raises(RealbasisError) as err:
+        view.build_cost_index(demo, "x", comps, weights, "fixed")
+    shown = view.error_dicts(err.value)
+    assert any("line 3" in d["where_text"] for d in shown)
+    assert not any("weights.csv" in str(d) or "row " in d["where_text"] for d in shown)

@@ -25,13 +25,45 @@ def test_spread_screen_outputs(demo: Workspace):
 
 def test_deflator_choices_follow_the_current_then_the_saved_then_the_first_five(
         demo: Workspace):
-    s_opts, series, d_opts, chosen = view.options_for(demo, None, ["Chained consumer index",
-                                                                   "gone"])
+    _s_opts, series, _interp = view.options_for(demo, None, None)
     assert series == demo.settings["series"]
-    assert chosen == ["Chained consumer index"]  # kept while offered, the rest dropped
+    _d, chosen, _why = view.deflator_picker(demo, series, ["Chained consumer index", "gone"],
+                                            "2024", "auto", [])
+    assert chosen == ["Chained consumer index"]  # kept while it exists, the rest dropped
     saved = dataclasses.replace(demo, settings={**demo.settings,
                                                 "deflators": ["Fixed-basket consumer index"]})
-    assert view.options_for(saved, None, ["gone"])[3] == ["Fixed-basket consumer index"]
+    assert view.deflator_picker(saved, series, ["gone"], "2024", "auto", [])[1] == [
+        "Fixed-basket consumer index"]
     bare = dataclasses.replace(demo, settings={})
-    assert view.options_for(bare, None, None)[3] == [o["value"] for o in d_opts[:5]]
-    assert view.options_for(bare, None, None)[1] == s_opts[0]["value"]
+    first = view.deflator_picker(bare, "Rail operations", None, "FY2025", "auto", [])
+    offered = [o["value"] for o in first[0] if not o.get("disabled")]
+    assert first[1] == offered[:5] and "Construction cost index" not in first[1]
+
+
+def test_a_deflator_that_cannot_serve_is_left_out_and_named(demo: Workspace):
+    """One unusable deflator no longer stops the comparison: the calendar-year
+    construction cost index does not nest with July fiscal years; it is left out, named
+    with the reason, and the verdict is over the other two."""
+    verdict, title, _fig, growth, _warn, method = view.outputs(
+        demo, "Rail operations", ["Construction cost index", "Chained consumer index",
+                                  "Government consumption deflator"], "FY2025", "auto", "cagr")
+    text = str(verdict.to_plotly_json())
+    assert "of 2 deflators" in text  # the verdict is over the two that serve
+    assert "Left out: Construction cost index (serves only if interpolated" in text
+    assert "To use Construction cost index: Allow interpolation" in text
+    assert "Tick 'Fill in a less frequent deflator" in text
+    assert "--" not in text  # no command-line option on the screen
+    assert "under 2 deflator(s)" in title
+    assert "Construction cost index" not in str(growth.to_plotly_json())
+    assert "The verdict is over the other deflators" in str(method.to_plotly_json())
+    # interpolation allowed: all three serve
+    verdict, title, *_ = view.outputs(
+        demo, "Rail operations", ["Construction cost index", "Chained consumer index",
+                                  "Government consumption deflator"], "FY2025", "auto", "cagr",
+        interpolate=["denton"])
+    assert "under 3 deflator(s)" in title
+    # none can serve: a coded problem per deflator, with this screen's words
+    verdict, title, _f, _g, warn, _m = view.outputs(
+        demo, "Rail operations", ["Construction cost index"], "FY2025", "auto", "cagr")
+    assert "none of the chosen deflators" in str(verdict.to_plotly_json())
+    assert "DF040" in str(warn.to_plotly_json())

@@ -133,14 +133,15 @@ def main() -> None:
                     time.sleep(0.3)
             values = {f"{ids.WORKSPACE}.data": ref, f"{ids.RT_SERIES}.value": "Illustrative series 007",
                       f"{ids.RT_BASE}.value": "2024", f"{ids.RT_FREQ}.value": "auto",
-                      f"{ids.RT_SA}.value": []}
+                      f"{ids.RT_SA}.value": [], f"{ids.RT_INTERP}.value": [],
+                      f"{ids.RT_OUTLAY}.value": ""}
             switch = []
             for i in range(N_CALLS + 10):
                 values[f"{ids.RT_DEFLATOR}.value"] = DEFLATORS[i % len(DEFLATORS)]
                 switch.append(payload(deps, f"{ids.RT_FIGURE}.figure", values,
                                       f"{ids.RT_DEFLATOR}.value"))
             nav_values = {f"{ids.URL}.hash": ""}
-            screens = ["intake", "shelf", "real", "spread", "revisions"]
+            screens = ["intake", "shelf", "real", "budget", "spread", "revisions"]
             trivial = []
             for i in range(N_CALLS + 10):
                 key = screens[i % len(screens)]

@@ -47,3 +47,14 @@ def register_frequency_options(app: Dash, rb: Any, series_id: str, freq_id: str)
         except RealbasisError:
             s = None
         return view.frequency_options(ws, s)
+
+
+def register_period_placeholders(app: Dash, rb: Any, *field_ids: str) -> None:
+    """Period fields show what they take, with fiscal labels once the workspace's fiscal
+    year is known (view.period_placeholder -> pipeline.fiscal.examples)."""
+
+    @app.callback([Output(f, "placeholder") for f in field_ids], Input(ids.WORKSPACE, "data"))
+    def _placeholders(ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        text = view.period_placeholder(rb.data.load(r) if r is not None else None)
+        return [text] * len(field_ids)

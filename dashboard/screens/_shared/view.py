@@ -11,13 +11,26 @@ them and no screen imports another (tests/test_architecture.py):
   same frequency, kind and unit, :func:`total_groups`), :func:`pick_index` (latest
   vintage unless one is named), the option builders :func:`series_options`,
   :func:`deflator_options` and :func:`choose` (keep a choice while it is offered);
-* **frequency**: :func:`frequency_options`, :func:`parse_frequency` (``auto``, ``native``,
-  ``Q``, ``A``, ``FY-<month>``);
+* **fiscal year and period fields**: :func:`fiscal_year`, :func:`fy_start`,
+  :func:`fiscal_note` (the method-note line), :func:`period_placeholder` and
+  :func:`read_base` — every period field is read by :func:`pipeline.fiscal.read_period`
+  with the workspace's fiscal year;
+* **frequency**: :func:`frequency_options`, :func:`result_frequency` (the engine's
+  :func:`pipeline.compare.result_frequency`: ``auto``, ``native``, ``Q``, ``A``,
+  ``FY-<month>``);
 * **base period**: :func:`default_base`, :func:`base_fits`, :func:`base_after_series_change`,
   :func:`base_for`, :func:`shown_base`;
-* **several deflators**: :func:`trim_to_cover` (the span every deflator covers) and
-  :func:`spread` (one series under several deflators, growth per deflator and the verdict;
+* **deflators that serve**: :func:`deflator_choices` (every index judged by
+  :func:`pipeline.compare.serve_check`, and for outlay-weighted authority by
+  :func:`pipeline.outlay.deflate_authority`: options that cannot serve are disabled with
+  the reason, notes say what would make them serve, projections are proposed),
+  :func:`choices_view`, the interpolation switch (:data:`INTERPOLATE_LABEL`,
+  :func:`interpolation`);
+* **several deflators**: :func:`comparison` (:func:`pipeline.compare.compare_deflators`;
   used by Deflator spread and by the share screen's chart image);
+* **outlay rates**: the per-series box in percent (:func:`outlay_field`,
+  :func:`read_outlay_field`, :func:`save_outlay`, :func:`saved_outlay`), checked and
+  saved by :mod:`pipeline.outlay`;
 * numbers and progress: :func:`isfinite`, :data:`ProgressFn`;
 * **adding series** to a workspace: :func:`add_intake` (Data intake, and the demo
   workspace built by :mod:`dashboard.demo`).
@@ -38,7 +51,9 @@ from typing import Any
 import pandas as pd
 
 from pipeline.errors import Problem, RealbasisError, fail, register
+from pipeline.fiscal import FiscalYear, Use, examples, read_period, workspace_fiscal_year
 from pipeline.model import Frequency, Series, Workspace
+from pipeline.periods import Span
 
 UI004 = register("UI004", "series cannot be totalled")
 UI005 = register("UI005", "nothing chosen to compute")
@@ -136,15 +151,6 @@ def choose(current: Any, options: list[dict[str, Any]], *preferred: Any) -> Any:
     return values[0] if values else None
 
 
-def deflator_options(ws: Workspace) -> list[dict[str, str]]:
-    out = []
-    for name, vins in ws.indexes.items():
-        s = vins[latest_vintage(vins)]
-        vin = latest_vintage(vins) or "vintage not stated"
-        out.append({"label": f"{name} ({s.frequency.describe()}, {vin})", "value": name})
-    return out
-
-
 def total_groups(ws: Workspace) -> dict[tuple[str, str, str], list[str]]:
     """Money series that can be totalled: same frequency, kind and unit."""
     groups: dict[tuple[str, str, str], list[str]] = {}
@@ -191,48 +197,73 @@ def pick_series(ws: Workspace, key: str, group_of: str | None = None) -> Series:
                   notes=(f"sum of: {', '.join(names)}",))
 
 
+# --------------------------------------------------------------------------- fiscal year, period fields
+
+
+def fiscal_year(ws: Workspace) -> FiscalYear:
+    """The workspace's fiscal year (:func:`pipeline.fiscal.workspace_fiscal_year`)."""
+    return workspace_fiscal_year(ws)
+
+
+def fy_start(ws: Workspace) -> int | None:
+    """The workspace's fiscal-year start month, or None while unknown."""
+    return fiscal_year(ws).month
+
+
+def fiscal_note(ws: Workspace) -> tuple[str, ...]:
+    """The method-note line on the workspace's fiscal year (none when it has none)."""
+    fy = fiscal_year(ws)
+    return fy.method_note() if fy.known or fy.source == "disagree" else ()
+
+
+def period_placeholder(ws: Workspace | None) -> str:
+    """What a period field takes, with fiscal labels once the workspace's fiscal year is
+    known (:func:`pipeline.fiscal.examples`)."""
+    month = fy_start(ws) if ws is not None else None
+    if month is not None and month != 1:
+        return "e.g. FY2025, 2024-25 or FY2025..FY2027"
+    return "e.g. " + ", ".join(examples(month).split(", ")[:3])
+
+
+def read_base(ws: Workspace, text: str, frequency: Frequency | None = None, *,
+              use: Use = "base") -> Span:
+    """A period field read with the workspace's fiscal year (:func:`pipeline.fiscal.
+    read_period`): ``FY2025``, ``2024-25``, ``2024Q1``, ranges ``A..B``."""
+    return read_period(text, fy_start(ws), frequency=frequency, use=use)
+
+
 # --------------------------------------------------------------------------- result frequency
 
 
 def frequency_options(ws: Workspace, series: Series | None) -> list[dict[str, str]]:
-    """Frequencies a result can be shown at: the series' own and the coarser ones."""
+    """Frequencies a result can be shown at: the series' own and the coarser ones; fiscal
+    years are the workspace's (and any other start a fiscal series of it has)."""
     opts = [{"label": "Automatic (the series' own; the deflator's if less frequent)",
              "value": "auto"}, {"label": "As the series", "value": "native"}]
     if series is None:
         return opts
     ppy = series.frequency.periods_per_year
-    fy_starts = sorted({s.frequency.fy_start for s in ws.series.values() if s.frequency.is_fiscal})
+    starts = {s.frequency.fy_start for s in ws.series.values() if s.frequency.is_fiscal}
+    month = fy_start(ws)
+    if month is not None and month != 1:
+        starts.add(month)
     if ppy > 4:
         opts.append({"label": "Quarters", "value": "Q"})
     if ppy > 1:
         opts.append({"label": "Calendar years", "value": "A"})
-        for m in fy_starts or []:
+        for m in sorted(starts):
             opts.append({"label": f"Fiscal years starting {calendar.month_name[m]}",
                          "value": f"FY-{m}"})
     return opts
 
 
-def parse_frequency(code: str | None, series: Series | None = None,
-                    deflators: Sequence[Series] = ()) -> Frequency | None:
-    """The result frequency chosen on screen. ``auto``: the series' own, or the least
-    frequent deflator's when that is coarser (the engine refuses to deflate a series by a
-    less frequent index without interpolation)."""
-    if code == "auto":
-        if series is None or not deflators:
-            return None
-        coarsest = min(deflators, key=lambda d: d.frequency.periods_per_year).frequency
-        if coarsest.periods_per_year < series.frequency.periods_per_year:
-            if coarsest.code == "Q" and series.frequency.is_fiscal:
-                return Frequency("Q", series.frequency.fy_start)
-            if coarsest.code == "A" and series.frequency.is_fiscal:
-                return Frequency("FY", series.frequency.fy_start)
-            return coarsest
-        return None
-    if not code or code == "native":
-        return None
-    if code.startswith("FY-"):
-        return Frequency("FY", int(code[3:]))
-    return Frequency(code)  # type: ignore[arg-type]
+def result_frequency(ws: Workspace, choice: str | None, series: Series | None = None,
+                     deflators: Sequence[Series] = ()) -> Frequency | None:
+    """The result frequency chosen under 'Show as' (:func:`pipeline.compare.
+    result_frequency`, with the workspace's fiscal year)."""
+    from pipeline.compare import result_frequency as engine_frequency
+
+    return engine_frequency(choice or "auto", series, deflators, fy_start=fy_start(ws))
 
 
 # --------------------------------------------------------------------------- base period
@@ -260,14 +291,13 @@ def default_base(series: Series) -> str:
     return str(last.year if complete else last.year - 1)
 
 
-def base_fits(series: Series, base: str | None) -> bool:
-    """Whether ``base`` is made of whole periods of the series (pipeline.periods)."""
-    from pipeline.periods import parse_span
-
+def base_fits(series: Series, base: str | None, fy: int | None = None) -> bool:
+    """Whether ``base`` is made of whole periods of the series, read with the fiscal
+    year ``fy`` (:func:`pipeline.fiscal.read_period`)."""
     if not (base or "").strip():
         return True
     try:
-        parse_span(base.strip(), series.frequency).periods_in(series.frequency)
+        read_period(str(base), fy, frequency=series.frequency, use="base")
     except RealbasisError:
         return False
     return True
@@ -283,7 +313,7 @@ def base_after_series_change(ws: Workspace, series_key: str | None, base: str | 
         s = pick_series(ws, series_key)
     except RealbasisError:
         return None
-    return None if base_fits(s, base) else default_base(s)
+    return None if base_fits(s, base, fy_start(ws)) else default_base(s)
 
 
 def shown_base(ws: Workspace, current: str | None) -> str:
@@ -309,149 +339,390 @@ def isfinite(x: object) -> bool:
 ProgressFn = Callable[[int, int], None]
 
 
-# --------------------------------------------------------------------------- several deflators
+# --------------------------------------------------------------------------- deflators that serve
+
+INTERPOLATE_LABEL = " Fill in a less frequent deflator (Denton, keeping its period averages)"
+"""The words of the interpolation switch beside every deflator picker (Real terms,
+Deflator spread, Budget table); dashboard/remedies.py points at them."""
+INTERPOLATE_VALUE = "denton"
 
 
-def trim_to_cover(s: Series, deflators: Sequence[Series]) -> tuple[Series, str | None]:
-    """Cut the series to the periods every deflator covers (first to last value), so
-    deflators of different lengths can be compared. Only the ends are cut; a gap inside
-    a deflator is still refused by the engine. Returns the series and a note (or None)."""
-    values = s.values.dropna()
-    if values.empty or not deflators:
-        return s, None
-    start = max(d.values.dropna().index[0].start_time for d in deflators if d.values.notna().any())
-    end = min(d.values.dropna().index[-1].end_time for d in deflators if d.values.notna().any())
-    idx = s.values.index
-    keep = (idx.start_time >= start) & (idx.end_time <= end)
-    if keep.all():
-        return s, None
-    kept = s.values[keep]
-    if kept.dropna().empty:
-        raise fail(UI005, f"the chosen deflators do not cover any period of {s.name!r}",
-                   expected=f"index values from {s.frequency.label(idx[0])} to "
-                            f"{s.frequency.label(idx[-1])}",
-                   found=f"deflators covering {start:%Y-%m} to {end:%Y-%m}",
-                   fix="Choose deflators that cover the series, or project the index on the "
-                       "deflator shelf.")
-    status = s.status.reindex(kept.index) if s.status is not None else None
-    out = s.with_values(kept, status=status)
-    first, last = kept.dropna().index[0], kept.dropna().index[-1]
-    note = (f"{s.name} is shown from {s.frequency.label(first)} to {s.frequency.label(last)}, "
-            "the periods every chosen deflator covers.")
-    return out, note
+def interpolation_switch(switch_id: str) -> Any:
+    """The interpolation switch shown under a deflator picker (off by default)."""
+    from dash import dcc
+
+    return dcc.Checklist(id=switch_id, options=[{"label": INTERPOLATE_LABEL,
+                                                 "value": INTERPOLATE_VALUE}],
+                         value=[], className="rb-check rb-switch", inline=True,
+                         inputStyle={"marginRight": "6px"})
 
 
-MEASURES = {
-    "yoy": "latest period on a year earlier",
-    "cagr": "compound annual rate over the whole span",
-    "pop": "latest period on the one before",
-}
+def interpolation(flag: Any) -> bool:
+    """The interpolation switch (a checklist value, or a bool) as the engine's choice:
+    True means proportional Denton (:func:`pipeline.benchmark.interpolate`)."""
+    if isinstance(flag, list | tuple | set):
+        return INTERPOLATE_VALUE in flag
+    return bool(flag)
+
+
+_VERDICT_RANK = {"serves": 0, "serves_in_part": 1, "needs_interpolation": 2,
+                 "needs_projection": 3, "cannot": 4}
 
 
 @dataclass(frozen=True)
-class Spread:
-    table: pd.DataFrame                 # the engine's tidy table (one series, many deflators)
-    rows: list[dict[str, Any]]          # per deflator: nominal, price and real growth
-    verdict: str
-    verdict_tone: str
-    title: str
-    unit: str
-    measure_words: str
-    method: tuple[str, ...]
-    warnings: tuple[Problem, ...]
+class DeflatorChoices:
+    """The deflators a picker offers for some series, base and result frequency, as the
+    engine's serve check (:func:`pipeline.compare.serve_check`) judges them.
+
+    ``options``: every price index of the workspace; those that cannot deflate the series
+    are disabled, with the reason in the label's tail and the tooltip. ``usable``: the
+    names that can (all periods or part of them). ``notes``: one sentence per deflator
+    that does not fully serve — why, and what would make it serve, in this screen's
+    words. ``project_until``: deflator -> the period a projection must reach for it to
+    serve (the proposal). ``summary``: the heading of the notes."""
+
+    options: list[dict[str, Any]]
+    usable: tuple[str, ...]
+    notes: tuple[str, ...] = ()
+    project_until: Mapping[str, str] = dataclasses.field(default_factory=dict)
+    summary: str = ""
+    fits: Mapping[str, Any] = dataclasses.field(default_factory=dict)
+
+    def alternatives(self, deflator: str) -> tuple[str, ...]:
+        """Other deflators that serve every period as they are."""
+        return tuple(n for n, f in self.fits.items()
+                     if n != deflator and f.verdict == "serves")
 
 
-def spread(ws: Workspace, series_key: str, deflators: Sequence[str], base: str | None, *,
-           to: str | None = "auto", measure: str = "yoy") -> Spread:
-    """One series under every chosen deflator, with growth per deflator and a verdict."""
-    from pipeline import growth
-    from pipeline.deflate import deflate
+def _plain_option(ws: Workspace, name: str) -> dict[str, Any]:
+    vins = ws.indexes[name]
+    s = vins[latest_vintage(vins)]
+    vin = latest_vintage(vins) or "vintage not stated"
+    return {"label": f"{name} ({s.frequency.describe()}, {vin})", "value": name}
 
-    if not deflators:
-        raise fail(UI005, "no deflator chosen", expected="one or more price indexes",
-                   found="none", fix="Tick the deflators to compare.")
+
+def deflator_options(ws: Workspace) -> list[dict[str, Any]]:
+    """Every price index of the workspace (latest vintage), unjudged."""
+    return [_plain_option(ws, name) for name in ws.indexes]
+
+
+def _worst_fit(fits: Sequence[Any]) -> Any:
+    return max(fits, key=lambda f: _VERDICT_RANK.get(f.verdict, 4))
+
+
+def deflator_choices(ws: Workspace, series: Sequence[Series], base: str | None, *,
+                     to: str | Frequency | None = "auto", interpolate: Any = False,
+                     outlay: Mapping[str, Any] | None = None, mark_partial: bool = True
+                     ) -> DeflatorChoices:
+    """Judge every price index of ``ws`` for ``series`` (one money series, or a budget's
+    programs) at ``base`` and result frequency ``to`` (a 'Show as' choice or a
+    Frequency), with interpolation allowed or not. With ``outlay`` (series name ->
+    outlay rates) a deflator must also reach every outlay year
+    (:func:`pipeline.outlay.deflate_authority` is asked; DF022 otherwise).
+
+    When the base cannot be read the options are offered unjudged (the screen shows the
+    base problem where the figures would be). ``mark_partial`` False leaves the label of a
+    deflator that serves part of the periods as it is (a multi-select shows every chosen
+    label; the tooltip and the notes still say it)."""
+    from pipeline.compare import VERDICT_WORDS, serve_check
+
+    names = list(ws.indexes)
+    plain = deflator_options(ws)
+    money = [s for s in series if s is not None]
+    if not money or not names:
+        return DeflatorChoices(plain, tuple(names))
+    fy = fy_start(ws)
+    interp = interpolation(interpolate)
+    candidates = [pick_index(ws, n) for n in names]
+    fits_by: dict[str, list[Any]] = {n: [] for n in names}
+    try:
+        for s in _union_by_frequency(money):
+            span = read_base(ws, base_for(s, base))
+            check = serve_check(s, candidates, span, to=_choice_for(ws, to, s, candidates),
+                                fy_start=fy, interpolate=interp)
+            for n, d in zip(names, candidates, strict=True):
+                fits_by[n].append(check.fit(d.name))
+    except RealbasisError:
+        return DeflatorChoices(plain, tuple(names))
+    fits = {n: _worst_fit(v) for n, v in fits_by.items()}
+    until: dict[str, str] = {n: f.project_until for n, f in fits.items() if f.project_until}
+    extra: dict[str, str] = {}
+    partial: dict[str, bool] = {}
+    if outlay:
+        for n, d in zip(names, candidates, strict=True):
+            if fits[n].usable:
+                reason, proposal, serves = _outlay_reach(ws, money, d, base, to, interp,
+                                                         outlay)
+                if reason:
+                    extra[n] = reason
+                    partial[n] = serves
+                    if proposal:
+                        until[n] = proposal
+    label_of = {o["value"]: o["label"] for o in plain}
+    options: list[dict[str, Any]] = []
+    notes: list[str] = []
+    who = money[0].name if len(money) == 1 else f"the {len(money):,} programs"
+    for n in names:
+        f = fits[n]
+        if n in extra:
+            if partial[n]:
+                options.append({"label": label_of[n] + (" — serves part of the years"
+                                                        if mark_partial else ""),
+                                "value": n, "title": extra[n]})
+            else:
+                options.append({"label": f"{label_of[n]} — does not reach every outlay "
+                                         "year", "value": n, "disabled": True,
+                                "title": extra[n]})
+            notes.append(extra[n])
+            continue
+        words = VERDICT_WORDS[f.verdict]
+        plain_label = f.verdict == "serves" or (f.usable and not mark_partial)
+        option = {"label": label_of[n] + ("" if plain_label else f" — {words}"), "value": n}
+        if not f.usable:
+            option["disabled"] = True
+        if f.reason:
+            option["title"] = f.reason
+        options.append(option)
+        if f.verdict != "serves":
+            fix = problem_dict(f.as_problem(who))["fix"]
+            notes.append(f"{f.text()}. {fix}".replace("..", "."))
+    usable = tuple(n for n in names if fits[n].usable and partial.get(n, True))
+    blocked = len(names) - len(usable)
+    partly = sum(1 for n in usable if fits[n].verdict != "serves" or n in extra)
+    summary = ""
+    if notes:
+        parts = []
+        if blocked:
+            parts.append(f"{blocked:,} of {len(names):,} deflators cannot deflate {who} as "
+                         "asked")
+        if partly:
+            parts.append(f"{partly:,} cover only part of its periods")
+        summary = "; ".join(parts) + ": why, and what would make them serve"
+    return DeflatorChoices(options, usable, tuple(notes), until, summary, fits)
+
+
+def _union_by_frequency(series: Sequence[Series]) -> list[Series]:
+    """One series per frequency spanning every period any of ``series`` has a value in
+    (a budget's programs are judged together: a deflator serves them when it covers
+    their union)."""
+    groups: dict[Frequency, list[Series]] = {}
+    for s in series:
+        groups.setdefault(s.frequency, []).append(s)
+    out = []
+    for members in groups.values():
+        if len(members) == 1:
+            out.append(members[0])
+            continue
+        frame = pd.concat([m.values for m in members], axis=1)
+        first = members[0]
+        out.append(Series(name=f"the {len(members):,} programs",
+                          values=frame.sum(axis=1, min_count=1).astype(float),
+                          frequency=first.frequency, kind=first.kind, unit=first.unit))
+    return out
+
+
+def _choice_for(ws: Workspace, to: str | Frequency | None, s: Series,
+                candidates: Sequence[Series]) -> str | Frequency | None:
+    """A 'Show as' choice for the serve check: FY codes resolved with the workspace's
+    fiscal year; ``auto`` left to the check (judged per deflator)."""
+    if isinstance(to, Frequency) or to in (None, "auto", "native"):
+        return to
+    return result_frequency(ws, str(to), s, candidates)
+
+
+def outlay_years(rates: Mapping[str, Any], series: Sequence[Series], frequency: Frequency
+                 ) -> str | None:
+    """The last year an index must reach for the outlays of ``series``' authority at
+    ``rates`` (series name -> OutlayRates): :func:`pipeline.outlay.reach_until`, the
+    latest over the series."""
+    from pipeline.outlay import reach_until
+
+    best: str | None = None
+    key = None
+    for s in series:
+        r = rates.get(s.name)
+        label = reach_until(s, r, frequency) if r is not None else None
+        if label is None:
+            continue
+        p = read_period(label, frequency.fy_start if frequency.is_fiscal else None).first_month
+        if key is None or p > key:
+            best, key = label, p
+    return best
+
+
+def _outlay_reach(ws: Workspace, money: Sequence[Series], d: Series, base: str | None,
+                  to: Any, interp: bool, outlay: Mapping[str, Any]
+                  ) -> tuple[str | None, str | None, bool]:
+    """Whether ``d`` reaches the outlay years of the programs with rates, once the
+    authority years whose outlays it cannot reach are left out (as the screens do,
+    :func:`cut_to_outlays`): (the reason or None, the year a projection must reach,
+    whether it still serves — in part)."""
+    from pipeline.outlay import DF022, cut_to_reach, deflate_authority
+
+    rated = [s for s in money if s.name in outlay]
+    if not rated:
+        return None, None, True
+    years = yearly_frequency(ws, to, rated)
+    cut = [cut_to_reach(s, [d], outlay[s.name], years) for s in rated]
+    until = outlay_years(outlay, rated, years)
+    try:
+        deflate_authority([c[0] for c in cut], [d], read_base(ws, base_for(rated[0], base)),
+                          {s.name: outlay[s.name] for s in rated}, to=years,
+                          fy_start=fy_start(ws), interpolate=interp)
+    except RealbasisError as err:
+        gaps = [p for p in err.problems if p.code == DF022]
+        if not gaps:
+            return None, None, True
+        p = gaps[0]
+        return f"{d.name}: {p.message} — {p.found}. {problem_dict(p)['fix']}", until, False
+    notes = [n for _, n in cut if n]
+    if notes:
+        return (f"{d.name}: serves part of the years — " + " ".join(notes)
+                + f" Projected until {until} it would serve them all. "
+                + screen_words("project_index"), until, True)
+    return None, None, True
+
+
+def screen_words(key: str) -> str:
+    from ...remedies import SCREEN
+
+    return SCREEN.get(key, "")
+
+
+def yearly_frequency(ws: Workspace, to: Any, series: Sequence[Series]) -> Frequency:
+    """Years for authority spent at outlay rates: the chosen yearly frequency, else the
+    series' own when yearly, else the workspace's fiscal years, else calendar years."""
+    from pipeline.model import ANNUAL
+
+    if isinstance(to, Frequency) and to.code in ("A", "FY"):
+        return to
+    if isinstance(to, str) and to not in ("auto", "native"):
+        f = result_frequency(ws, to, series[0] if series else None)
+        if f is not None and f.code in ("A", "FY"):
+            return f
+    own = {s.frequency for s in series}
+    if len(own) == 1 and next(iter(own)).code in ("A", "FY"):
+        return next(iter(own))
+    month = fy_start(ws)
+    return Frequency("FY", month) if month is not None and month != 1 else ANNUAL
+
+
+def choices_view(choices: DeflatorChoices) -> Any:
+    """The notes under a deflator picker: a closed list, why each deflator not offered
+    (or offered for part of the periods) cannot serve and what would make it serve."""
+    from dash import html
+
+    if not choices.notes:
+        return None
+    return html.Details([html.Summary(choices.summary),
+                         html.Ul([html.Li(n) for n in choices.notes])],
+                        className="rb-details rb-why")
+
+
+# --------------------------------------------------------------------------- several deflators
+
+
+def comparison(ws: Workspace, series_key: str, deflators: Sequence[str], base: str | None, *,
+               to: str | None = "auto", measure: str = "yoy", interpolate: Any = False
+               ) -> Any:
+    """One series under every chosen deflator that can serve it, the verdict over those
+    and the others named with their reasons (:func:`pipeline.compare.compare_deflators`);
+    used by Deflator spread and by the share screen's chart image."""
+    from pipeline.compare import compare_deflators
+
     s = pick_series(ws, series_key)
     ds = [pick_index(ws, name) for name in deflators]
-    s, cut = trim_to_cover(s, ds)
-    res = deflate([s], ds, base_for(s, base), to=parse_frequency(to, s, ds))
-    table = res.table()
-    f = res.frequency
-    nominal = res.nominal_series(s.name)
-    rows = []
-    for name in res.deflator_names:
-        real = res.real_series(s.name, name)
-        price = 100.0 * nominal / real
-        rates = {}
-        for key, v in (("nominal", nominal), ("price", price), ("real", real)):
-            rates[key] = _measure(growth, v, f, measure)
-        worst = table.loc[table["deflator"] == name, "status"]
-        rows.append({"deflator": name, **rates, "status": _worst(worst)})
-    span = _measure_span(nominal, f, measure)
-    verdict, tone = verdict_text([r["real"] for r in rows], MEASURES.get(measure, measure), span)
-    title = f"{s.name} in {res.dollars_label} under {len(rows):,} deflator(s) ({s.unit or 'unit not stated'})"
-    return Spread(table, rows, verdict, tone, title, s.unit or "unit not stated",
-                  f"{MEASURES.get(measure, measure)} ({span})",
-                  (*res.method_note(), *([cut] if cut else [])), res.warnings)
+    span = read_base(ws, base_for(s, base))
+    to_choice: str | Frequency | None = to or "auto"
+    if to_choice not in ("auto", "native"):
+        to_choice = result_frequency(ws, str(to_choice), s, ds)
+    return compare_deflators(s, ds, span, to=to_choice, fy_start=fy_start(ws),
+                             interpolate=interpolation(interpolate), measure=measure)
 
 
-def _measure_span(nominal: pd.Series, f: Frequency, measure: str) -> str:
-    idx = nominal.dropna().index
-    if len(idx) < 2:
+# --------------------------------------------------------------------------- outlay rates
+
+
+def outlay_field(ws: Workspace, series_key: str | None) -> str:
+    """The outlay-rate box's text for a series: its saved rates in percent
+    ('50, 30, 20'), or empty."""
+    from pipeline.outlay import SETTING, rates_by_series
+
+    if not series_key:
         return ""
-    last = idx[-1]
-    if measure == "cagr":
-        return f"{f.label(idx[0])} to {f.label(last)}"
-    if measure == "yoy" and f.periods_per_year > 1:
-        return f"{f.label(last)} on {f.label(last - f.periods_per_year)}"
-    return f"{f.label(last)} on {f.label(last - 1)}"
+    try:
+        saved = rates_by_series(ws.settings.get(SETTING))
+    except RealbasisError:
+        return ""
+    r = saved.get(series_key)
+    return percent_text(r.rates) if r is not None else ""
 
 
-def _measure(growth: Any, v: pd.Series, f: Frequency, measure: str) -> float:
-    v = v.dropna()
-    if len(v) < 2:
-        return float("nan")
-    last = v.index[-1]
-    if measure == "cagr":
-        return float(growth.cagr(v, v.index[0], last, f).value)
-    if measure == "yoy" and f.periods_per_year > 1:
-        g = growth.year_on_year(v, f)
-    else:
-        g = growth.period_on_period(v, f)
-    return float(g.values.get(last, float("nan")))
+def percent_text(rates: Sequence[float]) -> str:
+    return ", ".join(f"{100 * r:.10g}" for r in rates)
 
 
-def _worst(statuses: pd.Series) -> str:
-    from pipeline.model import STATUS_RANK
+def read_outlay_field(text: str | None, series: str | None = None) -> Any:
+    """The outlay-rate box read as percent (the box says '% spent each year'): '50, 30,
+    20' or '50%, 30%, 20%'; bare shares that add up to 1 ('0.5, 0.3, 0.2') are read as
+    shares. Checked by :func:`pipeline.outlay.outlay_rates` (DF020, DF021), whose problem
+    then shows the text as typed. None when the box is empty."""
+    from pipeline.outlay import outlay_rates
 
-    if statuses.empty:
-        return "final"
-    return max(statuses, key=lambda s: STATUS_RANK.get(s, 0))
+    raw = (text or "").strip()
+    if not raw:
+        return None
+    parts = [p.strip() for p in raw.replace(";", ",").replace(" ", ",").split(",") if p.strip()]
+    bare = [p for p in parts if not p.endswith("%")]
+    as_shares = False
+    if len(bare) == len(parts):
+        try:
+            as_shares = abs(sum(float(p) for p in parts) - 1.0) <= 1e-9
+        except ValueError:
+            as_shares = False
+    given = parts if as_shares else [p if p.endswith("%") else f"{p}%" for p in parts]
+    try:
+        return outlay_rates(given, series=series)
+    except RealbasisError as err:
+        raise RealbasisError([_typed(p, raw) for p in err.problems]) from None
 
 
-def verdict_text(real_rates: Sequence[float], measure_words: str = "", span: str = ""
-                 ) -> tuple[str, str]:
-    """The plain verdict on the sign of real growth across deflators."""
-    usable = [r for r in real_rates if isfinite(r)]
-    n = len(usable)
-    what = f" ({measure_words}, {span})" if measure_words and span else ""
-    if n == 0:
-        return "Real growth cannot be computed for the chosen periods.", "warn"
-    word = "deflator" if n == 1 else "deflators"
-    pos = sum(1 for r in usable if r > 0)
-    neg = sum(1 for r in usable if r < 0)
-    if pos == n:
-        return (f"Real growth is positive under all {n:,} {word}{what}."
-                if n > 1 else f"Real growth is positive under the one deflator chosen{what}.",
-                "ok")
-    if neg == n:
-        return (f"Real growth is negative under all {n:,} {word}{what}."
-                if n > 1 else f"Real growth is negative under the one deflator chosen{what}.",
-                "warn")
-    if pos + neg == 0:
-        return f"Real growth is zero under all {n:,} {word}{what}.", "info"
-    return (f"The sign depends on the deflator: real growth is positive under {pos:,} and "
-            f"negative under {neg:,} of {n:,} {word}{what}.", "error")
+def _typed(p: Problem, raw: str) -> Problem:
+    """An outlay-rate problem restated for a box in percent: what was typed, in percent."""
+    if p.code == "DF020":
+        try:
+            values = [float(x.rstrip("%")) for x in
+                      raw.replace(";", ",").replace(" ", ",").split(",") if x.strip()]
+            total = f"; they add up to {sum(values):.10g} %"
+        except ValueError:
+            total = ""
+        return dataclasses.replace(
+            p, message="the outlay rates do not add up to 100 %",
+            expected="percentages of the authority spent in its year and the following "
+                     "ones, adding up to 100 (e.g. 50, 30, 20)",
+            found=f"{raw!r}{total}",
+            fix="Correct the percentages so that they add up to exactly 100.")
+    return dataclasses.replace(p, found=f"{p.found} in {raw!r}",
+                               expected="a percentage >= 0 for each outlay year, e.g. "
+                                        "50, 30, 20")
 
+
+def saved_outlay(ws: Workspace) -> dict[str, Any]:
+    """Every series' saved outlay rates (series name -> OutlayRates)."""
+    from pipeline.outlay import SETTING, rates_by_series
+
+    try:
+        return rates_by_series(ws.settings.get(SETTING))
+    except RealbasisError:
+        return {}
+
+
+def save_outlay(ws: Workspace, series_key: str, text: str | None) -> Workspace:
+    """A copy of ``ws`` with the series' outlay rates saved (empty text clears them)."""
+    from pipeline.outlay import with_outlay_rates
+
+    rates = read_outlay_field(text, series_key)
+    return with_outlay_rates(ws, series_key, list(rates.rates) if rates else None)  # type: ignore[return-value]
 
 # --------------------------------------------------------------------------- adding series
 

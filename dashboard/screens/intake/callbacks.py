@@ -7,6 +7,7 @@ from typing import Any
 from dash import Dash, Input, Output, State, no_update
 
 from pipeline.errors import RealbasisError
+from pipeline.fiscal import fiscal_start_of
 
 from ... import ids
 from ...components import notice, problems_view
@@ -59,6 +60,28 @@ def register(app: Dash) -> None:
         pending, status = view.receive(rb.data, contents, filename, WorkspaceRef.from_dict(ref))
         return pending, status, {}, None
 
+    @app.callback(Output(ids.IN_WS_FY, "children"), Output(ids.IN_WS_FY_MONTH, "options"),
+                  Output(ids.IN_WS_FY_MONTH, "value"), Output(ids.IN_FY_START, "options"),
+                  Input(ids.WORKSPACE, "data"))
+    def _fiscal(ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update
+        ws = rb.data.load(r)
+        return (*view.fiscal_view(ws), view.month_options(fiscal_start_of(ws)))
+
+    @app.callback(Output(ids.WORKSPACE, "data", allow_duplicate=True),
+                  Output(ids.IN_FY_MESSAGE, "children"),
+                  Input(ids.IN_FY_SAVE, "n_clicks"), State(ids.IN_WS_FY_MONTH, "value"),
+                  State(ids.WORKSPACE, "data"), prevent_initial_call=True)
+    @writes("save the workspace's fiscal year")
+    def _save_fiscal(n: Any, month: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None or not n:
+            return no_update, no_update
+        new_ref, message = view.save_fiscal_year(rb.data, r, month)
+        return (new_ref.as_dict() if new_ref else no_update), message
+
     @app.callback(Output(ids.IN_WS_SERIES, "children"), Output(ids.IN_UPLOADS, "children"),
                   Input(ids.WORKSPACE, "data"))
     def _contents(ref: Any) -> Any:
@@ -77,6 +100,7 @@ def register(app: Dash) -> None:
         Output(ids.IN_SHEET, "options"), Output(ids.IN_STATUS, "children", allow_duplicate=True),
         Input(ids.IN_PENDING, "data"), Input(ids.IN_FY_START, "value"),
         Input(ids.IN_KINDS, "data"), Input(ids.IN_SHEET, "value"),
+        State(ids.WORKSPACE, "data"),
         background=True,
         progress=[Output(ids.IN_PROGRESS, "value"), Output(ids.IN_PROGRESS, "max")],
         running=[(Output(ids.IN_PROGRESS, "style"), {"visibility": "visible"},
@@ -84,9 +108,12 @@ def register(app: Dash) -> None:
         prevent_initial_call=True,
     )
     def _interpret(set_progress: Any, pending: Any, fy_start: Any, kinds: Any,
-                   sheet: Any) -> Any:
+                   sheet: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        workspace_fy = fiscal_start_of(rb.data.load(r)) if r is not None and pending else None
         return (*view.interpret(rb.data, pending, fy_start, kinds,
-                           lambda done, total: set_progress((str(done), str(total))), sheet),
+                                lambda done, total: set_progress((str(done), str(total))),
+                                sheet, workspace_fy),
                 view.status_after_reading(pending))
 
     @app.callback(Output(ids.IN_KINDS, "data", allow_duplicate=True),

@@ -15,7 +15,14 @@ from ...components import (
     progress_bar,
     screen,
 )
-from .view import ACCEPTED_TYPES, kind_options, month_options, size_text, upload_limit
+from .view import (
+    ACCEPTED_TYPES,
+    fiscal_month_options,
+    kind_options,
+    month_options,
+    size_text,
+    upload_limit,
+)
 
 
 def layout() -> html.Div:
@@ -50,9 +57,11 @@ def layout() -> html.Div:
         "data-max-bytes": str(limit), "data-limit-text": size_text(limit),
         "data-status-id": ids.IN_STATUS})
     interpretation = html.Div([
-        field("Fiscal year", dcc.Dropdown(id=ids.IN_FY_START, options=month_options(),
-                                          value=0, clearable=False, className="rb-dropdown"),
-              ids.IN_FY_START, hint="Needed when labels like FY2025 appear."),
+        field("Fiscal year of the file's labels",
+              dcc.Dropdown(id=ids.IN_FY_START, options=month_options(), value=0,
+                           clearable=False, className="rb-dropdown"),
+              ids.IN_FY_START, hint="Needed when labels like FY2025 appear; the workspace's "
+                                    "fiscal year to begin with."),
         field("Sheet", dcc.Dropdown(id=ids.IN_SHEET, options=[], value=None, clearable=True,
                                     placeholder="First sheet with data",
                                     className="rb-dropdown"), ids.IN_SHEET,
@@ -71,6 +80,21 @@ def layout() -> html.Div:
         "Editors drop new files here: every series found is listed with its frequency, "
         "kind and unit, and every problem with where it is.",
         html.Div([*_editor_part(workspace, upload, interpretation)], className=EDITOR_ONLY_CLASS),
+        html.H3("Fiscal year of this workspace"),
+        html.Div(id=ids.IN_WS_FY),
+        html.Div([
+            html.Div([
+                field("Fiscal year starts in", dcc.Dropdown(
+                    id=ids.IN_WS_FY_MONTH, options=fiscal_month_options(None), value=0,
+                    clearable=False, className="rb-dropdown"), ids.IN_WS_FY_MONTH,
+                    hint="Every period field (base, rebase, project until, overlap) reads "
+                         "FY2025 and 2024-25 with it."),
+                html.Div(html.Button("Save the fiscal year", id=ids.IN_FY_SAVE, n_clicks=0,
+                                     type="button", className="rb-button"),
+                         className="rb-field"),
+            ], className="rb-controls"),
+            html.Div(id=ids.IN_FY_MESSAGE, role="status"),
+        ], className=EDITOR_ONLY_CLASS),
         html.H3("In this workspace"),
         html.Div(id=ids.IN_WS_SERIES),
         html.H3("Files added"),

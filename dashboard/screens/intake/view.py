@@ -27,7 +27,7 @@ from pipeline.model import KINDS, Series, Workspace
 from pipeline.settings import Settings
 
 from ... import bounded
-from ...components import Column, method_view, notice, problems_view, table
+from ...components import Column, method_view, notice, problems_view, table, warnings_view
 from ...context import current
 from ...data import DEMO_NAME, DataAccess, WorkspaceRef
 from .._shared.view import (
@@ -107,12 +107,58 @@ def preview(data: bytes, filename: str, rows: int = 8, *, sheet: str | None = No
                           settings=settings if isinstance(settings, Settings) else None)
 
 
-def month_options() -> list[dict[str, Any]]:
-    opts: list[dict[str, Any]] = [{"label": "Not stated (labels need no fiscal year)",
-                                   "value": 0}]
+def month_options(workspace_fy: int | None = None) -> list[dict[str, Any]]:
+    """How the file's fiscal labels are read: as the workspace's fiscal year (the first
+    choice, value 0), or a start month chosen for this file."""
+    first = (f"As the workspace: fiscal year starts in {calendar.month_name[workspace_fy]}"
+             if workspace_fy else "Not stated (labels need no fiscal year)")
+    opts: list[dict[str, Any]] = [{"label": first, "value": 0}]
     opts += [{"label": f"Fiscal year starts in {calendar.month_name[m]}", "value": m}
              for m in range(1, 13)]
     return opts
+
+
+def fiscal_month_options(found: int | None) -> list[dict[str, Any]]:
+    """The workspace's fiscal-year choice: taken from its fiscal series (saying which
+    month they give, when they agree), or a month set for the workspace."""
+    first = ("Taken from the fiscal series" + (f" ({calendar.month_name[found]})"
+                                               if found else ""))
+    return [{"label": first, "value": 0},
+            *({"label": f"{calendar.month_name[m]}" + (" (calendar years)" if m == 1 else ""),
+               "value": m} for m in range(1, 13))]
+
+
+def fiscal_view(ws: Workspace) -> tuple[Any, list[dict[str, Any]], int]:
+    """The workspace's fiscal year in words (everyone sees it; PE301 when its fiscal
+    series disagree), the month choices and the choice to show (0 = from the series)."""
+    from pipeline.fiscal import SETTING, infer_fiscal_start, workspace_fiscal_year
+
+    fy = workspace_fiscal_year(ws)
+    from_series = infer_fiscal_start([s for s in ws.series.values()] + [
+        s for v in ws.indexes.values() for s in v.values()])
+    saved = (ws.settings or {}).get(SETTING)
+    text = html.Div([notice(fy.describe(), "info" if fy.known else "warn"),
+                     warnings_view(problem_dicts(fy.warnings))])
+    return text, fiscal_month_options(from_series.month), int(saved) if saved else 0
+
+
+def save_fiscal_year(data: DataAccess, ref: WorkspaceRef, month: Any
+                     ) -> tuple[WorkspaceRef | None, Any]:
+    """Save the workspace's fiscal-year start month (0 or None: taken from its fiscal
+    series again) through :func:`pipeline.fiscal.with_fiscal_start`."""
+    from pipeline.fiscal import with_fiscal_start, workspace_fiscal_year
+
+    try:
+        ws = data.load(ref)
+        chosen = int(month) if month else None
+        saved = data.save(with_fiscal_start(ws, chosen), action="set the fiscal year")
+    except (RealbasisError, TypeError, ValueError) as err:
+        if isinstance(err, RealbasisError):
+            return None, problems_view(error_dicts(err), title="Not saved")
+        return None, notice(f"Not saved: {month!r} is not a month.", "error")
+    fy = workspace_fiscal_year(saved)
+    return WorkspaceRef(saved.id, saved.version), notice(
+        f"{fy.describe()} Saved as version {saved.version:,}.", "ok")
 
 
 def kind_options() -> list[dict[str, str]]:
@@ -267,11 +313,12 @@ def receive(data: DataAccess, contents: str | None, filename: str | None,
 
 def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | None,
               kinds: dict[str, str] | None, progress: ProgressFn | None = None,
-              sheet: str | None = None
+              sheet: str | None = None, workspace_fy: int | None = None
               ) -> tuple[Any, Any, Any, Any, list[dict[str, str]], bool, list[dict[str, str]]]:
-    """Read the kept file with the user's choices: summary, series table, problems,
-    preview, the series names (for corrections), whether it can be added, and the
-    workbook's sheets."""
+    """Read the kept file with the user's choices (fiscal labels with the start month
+    chosen for the file, else the workspace's fiscal year): summary, series table,
+    problems, preview, the series names (for corrections), whether it can be added, and
+    the workbook's sheets."""
     step = progress or (lambda done, total: None)
     if not pending:
         return None, None, None, None, [], True, []
@@ -282,7 +329,7 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
         step(2, 4)
         s = data.settings
         intake, problems, shown = bounded.run(
-            _read_and_preview, raw, name, fy_start, kinds, s, sheet,
+            _read_and_preview, raw, name, fy_start or workspace_fy, kinds, s, sheet,
             memory_bytes=s.read_memory_bytes, seconds=s.read_seconds).value
         if intake is None:
             raise RealbasisError(problems)
@@ -290,8 +337,9 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
         step(4, 4)
         lines = [f"{_name(pending)} could not be read."]
         if "PE102" in err.codes:
-            lines.append("Choose the month the fiscal year starts in under 'How the file is "
-                         "read' below; the file is then read again.")
+            lines.append("Choose the month the fiscal year starts in under 'Fiscal year of "
+                         "this workspace' above (saved with the workspace) or under 'How the "
+                         "file is read' below (for this file); the file is then read again.")
         return (notice(lines, "error"),
                 None, problems_view(error_dicts(err), title="The file cannot be read"),
                 _preview_view(shown), [], True, [])
@@ -412,12 +460,14 @@ def add_with_summary(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str
     if not pending:
         return None, notice("Drop a file first.", "warn"), ""
     try:
+        from pipeline.fiscal import fiscal_start_of
+
         raw, name = data.upload(pending.get("upload") if isinstance(pending, dict) else None,
                                 ref.id)
-        intake = read_upload(raw, name, fy_start=fy_start, kinds=kinds,
-                                   settings=data.settings, sheet=sheet)
-        intake.raise_for_errors()
         ws = data.load(ref)
+        intake = read_upload(raw, name, fy_start=fy_start or fiscal_start_of(ws), kinds=kinds,
+                             settings=data.settings, sheet=sheet)
+        intake.raise_for_errors()
         note = ""
         if ws.name == DEMO_NAME:
             ws, note = start_from_demo(data, ws, name, actor)

@@ -12,8 +12,12 @@ from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
 from ...writes import writes
-from .._shared.callbacks import register_base_follows_series, register_frequency_options
-from .._shared.view import shown_base
+from .._shared.callbacks import (
+    register_base_follows_series,
+    register_frequency_options,
+    register_period_placeholders,
+)
+from .._shared.view import outlay_field, shown_base
 from . import view
 
 
@@ -22,20 +26,49 @@ def register(app: Dash) -> None:
 
     register_base_follows_series(app, rb, ids.RT_SERIES, ids.RT_BASE)
     register_frequency_options(app, rb, ids.RT_SERIES, ids.RT_FREQ)
+    register_period_placeholders(app, rb, ids.RT_BASE)
 
     @app.callback(
         Output(ids.RT_SERIES, "options"), Output(ids.RT_SERIES, "value"),
-        Output(ids.RT_DEFLATOR, "options"), Output(ids.RT_DEFLATOR, "value"),
-        Output(ids.RT_BASE, "value"),
+        Output(ids.RT_BASE, "value"), Output(ids.RT_INTERP, "value"),
         Input(ids.WORKSPACE, "data"),
-        State(ids.RT_SERIES, "value"), State(ids.RT_DEFLATOR, "value"), State(ids.RT_BASE, "value"),
+        State(ids.RT_SERIES, "value"), State(ids.RT_BASE, "value"), State(ids.RT_INTERP, "value"),
     )
-    def _options(ref: Any, series: Any, deflator: Any, base: Any) -> Any:
+    def _options(ref: Any, series: Any, base: Any, interp: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
         ws = rb.data.load(r)
-        return (*view.options_for(ws, series, deflator), shown_base(ws, base))
+        s_opts, chosen, saved_interp = view.options_for(ws, series)
+        return s_opts, chosen, shown_base(ws, base), interp or saved_interp
+
+    @app.callback(Output(ids.RT_OUTLAY, "value"),
+                  Input(ids.RT_SERIES, "value"), Input(ids.WORKSPACE, "data"))
+    def _outlay(series: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        return no_update if r is None else outlay_field(rb.data.load(r), series)
+
+    @app.callback(Output(ids.RT_OUTLAY_STATE, "children"),
+                  Input(ids.RT_OUTLAY, "value"), State(ids.RT_SERIES, "value"),
+                  State(ids.WORKSPACE, "data"))
+    def _outlay_state(text: Any, series: Any, ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        return no_update if r is None else view.outlay_state(rb.data.load(r), series, text)
+
+    @app.callback(
+        Output(ids.RT_DEFLATOR, "options"), Output(ids.RT_DEFLATOR, "value"),
+        Output(ids.RT_DEFLATOR_WHY, "children"),
+        Input(ids.WORKSPACE, "data"), Input(ids.RT_SERIES, "value"), Input(ids.RT_BASE, "value"),
+        Input(ids.RT_FREQ, "value"), Input(ids.RT_INTERP, "value"), Input(ids.RT_OUTLAY, "value"),
+        State(ids.RT_DEFLATOR, "value"),
+    )
+    def _deflators(ref: Any, series: Any, base: Any, freq: Any, interp: Any, outlay: Any,
+                   deflator: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update
+        return view.deflator_picker(rb.data.load(r), series, deflator, base, freq, interp,
+                                    outlay)
 
     @app.callback(
         Output(ids.RT_TITLE, "children"), Output(ids.RT_FIGURE, "figure"),
@@ -43,29 +76,36 @@ def register(app: Dash) -> None:
         Output(ids.RT_METHOD, "children"),
         Input(ids.RT_SERIES, "value"), Input(ids.RT_DEFLATOR, "value"),
         Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"), Input(ids.RT_SA, "value"),
+        Input(ids.RT_INTERP, "value"), Input(ids.RT_OUTLAY, "value"),
         State(ids.WORKSPACE, "data"),
     )
-    def _compute(series: Any, deflator: Any, base: Any, freq: Any, sa: Any, ref: Any) -> Any:
+    def _compute(series: Any, deflator: Any, base: Any, freq: Any, sa: Any, interp: Any,
+                 outlay: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.outputs(rb.data.load(r), series, deflator, base, freq, "sa" in (sa or []))
+        return view.outputs(rb.data.load(r), series, deflator, base, freq, "sa" in (sa or []),
+                            interpolate=interp, outlay=outlay)
 
     @app.callback(
         Output(ids.WORKSPACE, "data", allow_duplicate=True), Output(ids.RT_SAVED, "children"),
         Input(ids.RT_SAVE, "n_clicks"),
         State(ids.RT_SERIES, "value"), State(ids.RT_DEFLATOR, "value"),
         State(ids.RT_BASE, "value"), State(ids.RT_FREQ, "value"), State(ids.RT_SA, "value"),
+        State(ids.RT_INTERP, "value"), State(ids.RT_OUTLAY, "value"),
         State(ids.WORKSPACE, "data"), prevent_initial_call=True,
     )
     @writes("save the real-terms choices")
-    def _save(n: Any, series: Any, deflator: Any, base: Any, freq: Any, sa: Any, ref: Any) -> Any:
+    def _save(n: Any, series: Any, deflator: Any, base: Any, freq: Any, sa: Any, interp: Any,
+              outlay: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None or not n:
             return no_update, no_update
         try:
             saved = rb.data.save(view.save_choices(rb.data.load(r), series, deflator, base, freq,
-                                              "sa" in (sa or [])), action="real-terms choices")
+                                                   "sa" in (sa or []), interpolate=interp,
+                                                   outlay=outlay),
+                                 action="real-terms choices")
         except RealbasisError as err:
             return no_update, f" Not saved: {err.problems[0].message}"
         return WorkspaceRef(saved.id, saved.version).as_dict(), f" Saved as version {saved.version:,}."

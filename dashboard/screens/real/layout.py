@@ -9,19 +9,27 @@ from pipeline.model import Workspace
 from ... import ids
 from ...components import cautions_view, dropdown, field, progress_bar, screen
 from ...figures import empty_figure
-from .._shared.view import frequency_options
+from .._shared.view import (
+    frequency_options,
+    interpolation_switch,
+    period_placeholder,
+)
 from .view import SA_METHODS
 
 
 def layout() -> html.Div:
     controls = html.Div([
         field("Series", dropdown(ids.RT_SERIES, placeholder="Choose a series"), ids.RT_SERIES),
-        field("Deflator", dropdown(ids.RT_DEFLATOR, placeholder="Choose a price index"),
-              ids.RT_DEFLATOR),
+        field("Deflator",
+              html.Div([dropdown(ids.RT_DEFLATOR, placeholder="Choose a price index"),
+                        interpolation_switch(ids.RT_INTERP)]),
+              ids.RT_DEFLATOR, wide=True,
+              hint="Only the indexes that can deflate this series are offered; the others "
+                   "say why."),
         field("Base period", dcc.Input(id=ids.RT_BASE, type="text", debounce=True,
-                                       placeholder="e.g. 2024, FY2025, 2024Q1",
+                                       placeholder=period_placeholder(None),
                                        className="rb-input"), ids.RT_BASE,
-              hint="One period or a range such as 2024-01..2024-12; empty = last full year."),
+              hint="One period or a range such as FY2025..FY2026; empty = last full year."),
         field("Show as", dcc.Dropdown(id=ids.RT_FREQ, options=frequency_options(Workspace("", ""), None),
                                       value="auto", clearable=False,
                                       className="rb-dropdown"), ids.RT_FREQ),
@@ -30,6 +38,12 @@ def layout() -> html.Div:
                                                             "deflation)", "value": "sa"}],
                             value=[], className="rb-check",
                             inline=True, inputStyle={"marginRight": "6px"}), ids.RT_SA),
+        field("Outlay rates (% spent each year)",
+              dcc.Input(id=ids.RT_OUTLAY, type="text", debounce=True, inputMode="decimal",
+                        placeholder="e.g. 50, 30, 20", className="rb-input"), ids.RT_OUTLAY,
+              hint="For budget authority spent over several years: the percent spent in "
+                   "the year of authority, the next year, … (adding up to 100). Empty = "
+                   "each year's amount deflated by that year's index."),
         html.Div([html.Button("Save these choices to the workspace", id=ids.RT_SAVE,
                               n_clicks=0, type="button", className="rb-button"),
                   html.Span(id=ids.RT_SAVED, role="status")], className="rb-field"),
@@ -39,6 +53,8 @@ def layout() -> html.Div:
         "A nominal series and the same series in constant dollars of the base period you "
         "choose, with growth split exactly into price and real growth.",
         controls,
+        html.Div(id=ids.RT_DEFLATOR_WHY),
+        html.Div(id=ids.RT_OUTLAY_STATE, role="status", className="rb-hint"),
         html.H3(id=ids.RT_TITLE, className="rb-result-title"),
         dcc.Loading(dcc.Graph(id=ids.RT_FIGURE, figure=empty_figure("Loading…"),
                               config={"displaylogo": False, "responsive": True},

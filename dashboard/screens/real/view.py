@@ -21,6 +21,7 @@ from dash import html
 
 from pipeline.errors import Problem, RealbasisError, fail
 from pipeline.model import Frequency, Series, Workspace
+from pipeline.periods import Span
 
 from ...components import (
     Column,
@@ -33,18 +34,29 @@ from ...components import (
 from ...data import DataAccess, WorkspaceRef
 from ...figures import empty_figure, real_terms_figure
 from .._shared.view import (
+    INTERPOLATE_VALUE,
+    TOTAL,
     UI005,
     ProgressFn,
     base_for,
+    choices_view,
     choose,
-    deflator_options,
+    deflator_choices,
     error_dicts,
-    parse_frequency,
+    fiscal_note,
+    fy_start,
+    interpolation,
+    outlay_field,
+    outlay_years,
     pick_index,
     pick_series,
     problem_dicts,
+    read_base,
+    read_outlay_field,
+    result_frequency,
+    save_outlay,
     series_options,
-    trim_to_cover,
+    yearly_frequency,
 )
 
 # --------------------------------------------------------------------------- computing
@@ -67,6 +79,7 @@ class Computed:
     deflator_name: str
     vintage: str
     left_out: str | None = None    # periods of the series the deflator does not reach
+    outlay: str | None = None      # the outlay rates used, in words
 
 
 def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
@@ -75,22 +88,54 @@ def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: s
 
 
 def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None, *,
-                 to: str | None = "auto", sa: bool = False, vintage: str | None = None
-                 ) -> Computed:
+                 to: str | None = "auto", sa: bool = False, vintage: str | None = None,
+                 interpolate: Any = False, outlay: str | None = None) -> Computed:
     """Deflate one series (or the total) by one deflator through the engine; optionally
-    seasonally adjust nominal and real (after deflation) through pipeline.seasonal."""
+    seasonally adjust nominal and real (after deflation) through pipeline.seasonal.
+
+    Period fields are read with the workspace's fiscal year (``FY2025``, ``2024-25``);
+    ``interpolate`` lets a less frequent deflator serve (Denton, flagged); ``outlay``
+    (the outlay-rate box, in percent) deflates the series as budget authority spent over
+    several years (:func:`pipeline.outlay.deflate_authority`), by year. The series is cut
+    to the periods the deflator covers (:func:`pipeline.compare.trim_to_cover`) and, with
+    outlay rates, to the years whose outlays it reaches; what was left out is said, with
+    the deflators that would show it and the projection that would (the serve check)."""
+    from pipeline.compare import trim_to_cover
     from pipeline.deflate import deflate
+    from pipeline.outlay import cut_to_reach
 
     original = pick_series(ws, series_key)
     d = pick_index(ws, deflator, vintage)
+    fy = fy_start(ws)
+    interp = interpolation(interpolate)
+    rates = (read_outlay_field(outlay, original.name)
+             if outlay and not series_key.startswith(TOTAL) else None)
     s, cut = trim_to_cover(original, [d])
-    base_text = base_for(s, base)
-    res = deflate([s], [d], base_text, to=parse_frequency(to, s, [d]))
+    span = read_base(ws, base_for(s, base))
+    freq = result_frequency(ws, to, s, [d])
+    method_extra: list[str] = []
+    if rates is not None:
+        if (freq is None or freq.code not in ("A", "FY")) and (to or "auto") == "auto":
+            freq = yearly_frequency(ws, None, [s])
+            if freq != s.frequency:
+                method_extra.append(f"With outlay rates the results are by "
+                                    f"{freq.describe()}: rates are shares per year.")
+        if freq is None or freq.code in ("A", "FY"):
+            s, outlay_cut = cut_to_reach(s, [d], rates, freq or s.frequency)
+            if outlay_cut:
+                cut = f"{cut} {outlay_cut}" if cut else outlay_cut
+    if rates is not None:
+        from pipeline.outlay import deflate_authority
+
+        res = deflate_authority([s], [d], span, rates, to=freq, fy_start=fy,
+                                interpolate=interp)
+    else:
+        res = deflate([s], [d], span, to=freq, fy_start=fy, interpolate=interp)
     nominal = res.nominal_series(s.name)
     real = res.real_series(s.name, 0)
     status = res.status_frame(0)[s.name].reindex(nominal.index)
     index_used = res.index_frame(0)[s.name].reindex(nominal.index)
-    method = list(res.method_note()) + ([cut] if cut else [])
+    method = [*res.method_note(), *method_extra]
     warnings = list(res.warnings)
     if sa:
         from pipeline.seasonal import adjust
@@ -109,24 +154,27 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
         "nominal": nominal.to_numpy(), "real": real.to_numpy(),
         "deflator_index": index_used.to_numpy(), "status": status.astype(str).to_numpy(),
     })
+    left_out = None
+    if cut:
+        left_out = left_out_text(ws, original, s, d, span, res.frequency, interp, rates)
+        method.append(cut)
+    method.extend(fiscal_note(ws))
     return Computed(frame, nominal, real, res.frequency, res.base_label, res.dollars_label,
-                    s.unit or "unit not stated", tuple(method), tuple(warnings), s.name,
-                    d.name, d.vintage or "",
-                    left_out_text(ws, original, s, d) if cut else None)
+                    s.unit or "unit not stated", tuple(m for m in method if m),
+                    tuple(warnings), s.name, d.name, d.vintage or "", left_out,
+                    rates.describe() if rates is not None else None)
 
 
-def _covers(index: Series, s: Series) -> bool:
-    """Whether ``index`` has values from the first to the last value of ``s``."""
-    iv, sv = index.values.dropna(), s.values.dropna()
-    return (not iv.empty and not sv.empty and iv.index[0].start_time <= sv.index[0].start_time
-            and iv.index[-1].end_time >= sv.index[-1].end_time)
-
-
-def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Series
-                  ) -> str | None:
+def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Series,
+                  base: Span, frequency: Frequency, interpolate: bool = False,
+                  rates: Any = None) -> str | None:
     """Which periods of the series are not shown because the deflator does not reach
-    them (e.g. a budget's projected out-years), and which deflators of the workspace
-    would show them. None when nothing was left out."""
+    them (e.g. a budget's projected out-years), which deflators of the workspace would
+    show them and the projection that would: the engine's serve check
+    (:func:`pipeline.compare.serve_check`: ``Fit.missing``, ``Fit.project_until``,
+    ``ServeCheck.alternatives``). None when nothing was left out."""
+    from pipeline.compare import serve_check
+
     values = original.values.dropna()
     kept_index = kept.values.dropna().index
     dropped = values.index.difference(kept_index)
@@ -143,19 +191,37 @@ def left_out_text(ws: Workspace, original: Series, kept: Series, deflator: Serie
     ends = deflator.values.dropna()
     text = (f"{' and '.join(spans)}{what} of {original.name} are not shown: {deflator.name} "
             f"runs only from {deflator.frequency.label(ends.index[0])} to "
-            f"{deflator.frequency.label(ends.index[-1])}.")
-    covering = [name for name in sorted(ws.indexes)
-                if name != deflator.name and _covers(pick_index(ws, name), original)]
+            f"{deflator.frequency.label(ends.index[-1])}")
+    if rates is not None:
+        text += f", and their outlays at {rates.describe()} need its later years"
+    names = list(ws.indexes)
+    candidates = [pick_index(ws, n) for n in names]
+    try:
+        check = serve_check(original, candidates, base, to=frequency, fy_start=fy_start(ws),
+                            interpolate=interpolate)
+    except RealbasisError:
+        return text + "."
+    fit = check.fit(deflator.name)
+    covering = list(check.alternatives(deflator.name))
+    until = fit.project_until
+    if rates is not None:
+        until = outlay_years({original.name: rates}, [original], frequency) or until
+        covering = []  # the serve check does not know outlay years: propose the projection
+    how = []
     if covering:
-        return (text + " To see them in real terms choose a deflator that reaches them ("
-                + ", ".join(covering[:3]) + ") or project this one on the Deflator shelf.")
-    return text + " To see them in real terms project the index on the Deflator shelf."
+        how.append("choose a deflator that reaches them (" + ", ".join(covering[:3]) + ")")
+    if until:
+        how.append(f"project {deflator.name} until {until}")
+    if not how:
+        return text + "."
+    return text + ". To see them in real terms " + " or ".join(how) + "."
 
 
 def real_title(c: Computed, *, sa: bool = False) -> str:
     adj = ", seasonally adjusted" if sa else ""
+    through = f" through outlay rates ({c.outlay})" if c.outlay else ""
     return (f"{c.series_name} in {c.dollars_label} ({c.unit}{adj}), "
-            f"deflated by {c.deflator_name}")
+            f"deflated by {c.deflator_name}{through}")
 
 
 def growth_summary(nominal: pd.Series, real: pd.Series, frequency: Frequency, *,
@@ -276,26 +342,56 @@ def recent_columns(unit: str, dollars: str, yearly: bool) -> tuple[Column, ...]:
     )
 
 
-def options_for(ws: Workspace, series: Any, deflator: Any) -> tuple[Any, ...]:
+def options_for(ws: Workspace, series: Any) -> tuple[Any, ...]:
+    """Series options and the series to show (the current one while offered, else the
+    saved one), and the saved interpolation switch."""
     s_opts = series_options(ws)
-    d_opts = deflator_options(ws)
     saved = ws.settings
     return (s_opts, choose(series, s_opts, saved.get("series")),
-            d_opts, choose(deflator, d_opts, saved.get("deflator")))
+            [INTERPOLATE_VALUE] if saved.get("interpolate") else [])
+
+
+def deflator_picker(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any,
+                    interpolate: Any, outlay: Any) -> tuple[Any, Any, Any]:
+    """The deflator options for the chosen series, base, 'Show as' and outlay rates:
+    only those that can deflate it are enabled, the others disabled with the reason and
+    listed under the picker with what would make them serve
+    (:func:`dashboard.screens._shared.view.deflator_choices`); the choice kept while it
+    can serve, else the saved one, else the first that serves."""
+    series_list: list[Series] = []
+    rates = None
+    if series:
+        try:
+            series_list = [pick_series(ws, series)]
+            if outlay and not str(series).startswith(TOTAL):
+                rates = read_outlay_field(outlay, series_list[0].name)
+        except RealbasisError:
+            rates = None
+    ch = deflator_choices(ws, series_list, base, to=freq or "auto", interpolate=interpolate,
+                          outlay={series_list[0].name: rates} if rates and series_list
+                          else None)
+    enabled = [o for o in ch.options if not o.get("disabled")]
+    serving = [o for o in enabled if o["value"] in ch.fits
+               and ch.fits[o["value"]].verdict == "serves"]
+    value = choose(deflator if deflator in [o["value"] for o in enabled] else None,
+                   enabled, ws.settings.get("deflator"), *(o["value"] for o in serving))
+    return ch.options, value, choices_view(ch)
 
 
 def outputs(ws: Workspace, series: str | None, deflator: str | None, base: str | None,
-            freq: str | None, sa: bool) -> tuple[Any, Any, Any, Any, Any]:
+            freq: str | None, sa: bool, *, interpolate: Any = False, outlay: str | None = None
+            ) -> tuple[Any, Any, Any, Any, Any]:
     """Title, figure, warnings, growth tables and method note for the chosen inputs."""
     if not series or not deflator:
         msg = "Choose a series and a deflator."
         return msg, empty_figure(msg), None, None, method_view(())
     try:
-        c = compute_real(ws, series, deflator, base, to=freq or "auto", sa=sa)
+        c = compute_real(ws, series, deflator, base, to=freq or "auto", sa=sa,
+                         interpolate=interpolate, outlay=outlay)
     except RealbasisError as err:
         return ("These figures cannot be computed", empty_figure("See the problems below."),
                 problems_view(error_dicts(err), title="Cannot compute"), None,
-                method_view(()))
+                method_view(fiscal_note(ws)))
     title = real_title(c, sa=sa)
     fig = real_terms_figure(c.frame, title="", unit=c.unit,
                             real_label=f"Real ({c.dollars_label})",
@@ -331,12 +427,19 @@ def _status_note(frame: Any) -> str | None:
     return " ".join(parts) or None
 
 
-def save_choices(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any, sa: bool
-                 ) -> Workspace:
+def save_choices(ws: Workspace, series: Any, deflator: Any, base: Any, freq: Any, sa: bool,
+                 *, interpolate: Any = False, outlay: str | None = None) -> Workspace:
+    """The screen's choices in the workspace settings (the exports use them); the
+    series' outlay rates with them (:func:`pipeline.outlay.with_outlay_rates`; empty
+    clears them)."""
     settings = dict(ws.settings)
     settings.update({"series": series, "deflator": deflator, "base": base or "",
-                     "frequency": freq or "auto", "seasonal_adjustment": bool(sa)})
-    return dataclasses.replace(ws, settings=settings)
+                     "frequency": freq or "auto", "seasonal_adjustment": bool(sa),
+                     "interpolate": interpolation(interpolate)})
+    out = dataclasses.replace(ws, settings=settings)
+    if series and series in ws.series and (outlay or outlay_field(ws, series)):
+        out = save_outlay(out, series, outlay)
+    return out
 
 
 def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
@@ -352,3 +455,24 @@ def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
     return (WorkspaceRef(saved.id, saved.version),
             html.Div([notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
                       method_view(lines[1:], title="How they were adjusted")]))
+
+
+def outlay_state(ws: Workspace, series: Any, text: Any) -> str | None:
+    """A line under the outlay-rate box: read as what, saved or not (never an error here;
+    a bad entry is shown as a coded problem with the figures)."""
+    if not series:
+        return None
+    if str(series).startswith(TOTAL):
+        return ("Outlay rates apply to one series at a time; the total is deflated year by "
+                "year." if (text or "").strip() else None)
+    try:
+        rates = read_outlay_field(text, str(series))
+    except RealbasisError:
+        return None
+    saved = outlay_field(ws, str(series))
+    if rates is None:
+        return ("Outlay rates cleared; press 'Save these choices to the workspace' to keep "
+                "that." if saved else None)
+    state = ("saved with the workspace" if saved and read_outlay_field(saved) == rates
+             else "not saved yet: press 'Save these choices to the workspace' to keep them")
+    return f"Outlay rates of {series}: {rates.describe()} ({state})."

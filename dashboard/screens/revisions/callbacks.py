@@ -9,7 +9,7 @@ from dash import Dash, Input, Output, State, no_update
 from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
-from .._shared.callbacks import register_base_follows_series
+from .._shared.callbacks import register_base_follows_series, register_period_placeholders
 from .._shared.view import shown_base
 from . import view
 
@@ -18,6 +18,7 @@ def register(app: Dash) -> None:
     rb = context(app)
 
     register_base_follows_series(app, rb, ids.RV_SERIES, ids.RV_BASE)
+    register_period_placeholders(app, rb, ids.RV_BASE)
 
     @app.callback(
         Output(ids.RV_INDEX, "options"), Output(ids.RV_INDEX, "value"),

@@ -17,7 +17,8 @@ def layout() -> html.Div:
         field("Later vintage", dropdown(ids.RV_NEW), ids.RV_NEW),
         field("Series", dropdown(ids.RV_SERIES, placeholder="Choose a series"), ids.RV_SERIES),
         field("Base period", dcc.Input(id=ids.RV_BASE, type="text", debounce=True,
-                                       placeholder="e.g. 2024", className="rb-input"),
+                                       placeholder="e.g. 2024, FY2025",
+                                       className="rb-input"),
               ids.RV_BASE),
     ], className="rb-controls")
     return screen(

@@ -23,10 +23,13 @@ from .._shared.view import (
     base_for,
     choose,
     error_dicts,
-    parse_frequency,
+    fiscal_note,
+    fy_start,
     pick_index,
     pick_series,
     problem_dicts,
+    read_base,
+    result_frequency,
     series_options,
     stretch_text,
 )
@@ -68,8 +71,10 @@ def revisions(ws: Workspace, index: str, old: str, new: str, series_key: str,
                    found=old or "vintage not stated", fix="Choose an earlier and a later vintage.")
     o, n = pick_index(ws, index, old), pick_index(ws, index, new)
     s = pick_series(ws, series_key)
-    cmp = compare_vintages(o, n)
-    impact = revision_impact([s], o, n, base_for(s, base), to=parse_frequency(to, s, [n]))
+    fy = fy_start(ws)
+    cmp = compare_vintages(o, n, fy_start=fy)
+    impact = revision_impact([s], o, n, read_base(ws, base_for(s, base)),
+                             to=result_frequency(ws, to, s, [n]), fy_start=fy)
     t = impact.table[impact.table["series"] == s.name].reset_index(drop=True)
     changed = t[t["real_change"].abs() > 1e-9]
     moved = changed.iloc[::-1].head(24).to_dict("records")
@@ -91,7 +96,7 @@ def revisions(ws: Workspace, index: str, old: str, new: str, series_key: str,
     title = (f"{s.name} in constant {impact.base} dollars under two vintages of {index} "
              f"({unit})")
     return Revisions(cmp, impact, t, moved, summary, title, unit,
-                     (*cmp.method_note(), *impact.method_note()),
+                     (*cmp.method_note(), *impact.method_note(), *fiscal_note(ws)),
                      (*cmp.warnings, *impact.warnings))
 
 

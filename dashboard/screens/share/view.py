@@ -15,6 +15,7 @@ import os
 import re
 import shutil
 import tempfile
+import textwrap
 from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
@@ -28,7 +29,7 @@ from pipeline.store import SH005, AuditEvent, LinkInfo, WorkspaceStore, current_
 from pipeline.workbook import EX103, workspace_result
 
 from ...components import Column, table
-from .._shared.view import spread
+from .._shared.view import comparison, problem_dict
 
 FORMATS = {"xlsx": "Excel workbook (audit)", "csv": "CSV table", "json": "JSON"}
 PNG_SIZE = (1200, 675)
@@ -62,16 +63,30 @@ def audit_rows(events: Sequence[AuditEvent]) -> list[dict[str, str]]:
 
 def scope_text(ws: Workspace) -> list[str]:
     """What the downloads will contain, from the saved choices."""
+    from pipeline.workbook import saved_budget, workspace_budget
+
     try:
         result, used, notes = workspace_result(ws)
     except RealbasisError as err:
         return [f"Nothing to export yet: {err.problems[0].message}.",
-                err.problems[0].fix]
+                problem_dict(err.problems[0])["fix"]]
     lines = [f"Amounts in {result.dollars_label}, {result.frequency.describe()}.",
              "Series: " + ", ".join(result.series_names) + ".",
              "Deflators: " + ", ".join(f"{k} (vintage {v or 'not stated'})"
                                        for k, v in used.items()) + ".",
              *notes]
+    rates = getattr(result, "rates", None) or {}
+    if rates:
+        lines.append("Deflated through outlay rates (budget authority): " + "; ".join(
+            f"{k} ({v.describe()})" for k, v in rates.items()) + ".")
+    if saved_budget(ws) is not None:
+        try:
+            budget, _used, _notes = workspace_budget(ws)
+        except RealbasisError as err:
+            lines.append(f"No budget table: {err.problems[0].message}.")
+        else:
+            lines.append(f"The workbook's 'Budget' sheet and the JSON's 'budget': "
+                         f"{budget.title}.")
     if result.worst_status != "final":
         lines.append("Some figures rest on preliminary or projected index values; the "
                      "workbook's 'Status flags' sheet lists them.")
@@ -120,16 +135,21 @@ def chart_figure(ws: Workspace) -> Any:
         raise fail(EX103, "no chart to draw yet", expected="a series and deflators chosen",
                    found=f"series {series or 'none'}; {len(names)} deflators",
                    fix="Choose them on the Deflator spread screen and save.")
-    sp = spread(ws, str(series), names, str(settings.get("base") or "") or None,
-                      to=str(settings.get("frequency") or "auto"))
-    fig = spread_figure(sp.table, title=sp.title, unit=sp.unit)
+    cmp = comparison(ws, str(series), names, str(settings.get("base") or "") or None,
+                     to=str(settings.get("frequency") or "auto"),
+                     interpolate=settings.get("interpolate"))
+    unit = (cmp.result.units[0] if cmp.result.units else None) or "unit not stated"
+    fig = spread_figure(cmp.table(), title=cmp.title, unit=unit)
+    # the image travels without the page: say which deflators are not drawn, and why
+    left = cmp.left_out_text()
+    notes = textwrap.wrap(left.replace("<", "‹"), 150) if left else []
     # Every caution, one per line, under the chart: a PNG travels without the page.
-    fig.add_annotation(text="<br>".join(CAUTIONS), align="left",
+    fig.add_annotation(text="<br>".join([*notes, *CAUTIONS]), align="left",
                        xref="paper", yref="paper", x=0, y=-0.2, yanchor="top", showarrow=False,
                        xanchor="left", font={"size": 10})
     # On the page the title is HTML above the chart; in the image it needs room of its own
     # above the legend.
-    fig.update_layout(margin={"t": 140, "b": 170},
+    fig.update_layout(margin={"t": 140, "b": 170 + 14 * len(notes)},
                       title={"xref": "paper", "x": 0, "xanchor": "left", "y": 0.985,
                              "yanchor": "top"})
     return fig

@@ -10,11 +10,14 @@ from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
 from ...writes import writes
+from .._shared.callbacks import register_period_placeholders
 from . import view
 
 
 def register(app: Dash) -> None:
     rb = context(app)
+
+    register_period_placeholders(app, rb, ids.SH_REBASE_BASE)
 
     @app.callback(
         Output(ids.SH_TABLE, "children"), Output(ids.SH_FIGURE, "figure"),

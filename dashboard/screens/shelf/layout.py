@@ -16,8 +16,10 @@ SHELF_RULES = (
     "not move.",
     "Link: from the overlap on, I(t) = I_new(t) × I_old(o) / I_new(o); before it the older "
     "segment.",
-    "Project: each projected year grows at the assumed annual rate; projected values are "
-    "flagged and drawn dashed wherever they are used.",
+    "Project: each projected year grows at the assumed rate in percent a year; projected "
+    "values are flagged and drawn dashed wherever they are used.",
+    "Periods are read with the workspace's fiscal year (Data intake): FY2025 and 2024-25 "
+    "are the same fiscal year.",
     "Own cost index: component indexes blended with yearly spending weights (fixed weights, "
     "annual chain, or chained Törnqvist).",
     "Any value resting on a preliminary or projected value keeps that status.",
@@ -39,12 +41,14 @@ def layout() -> html.Div:
                                            className="rb-input"), ids.SH_REBASE_BASE),
         html.Div(_button("Rebase", ids.SH_REBASE), className="rb-field"),
     ], className="rb-controls"), html.Div([
-        field("Assumed rate (% a year)", dcc.Input(id=ids.SH_PROJECT_RATE, type="number",
-                                                   step=0.1, placeholder="e.g. 2.5",
-                                                   className="rb-input"), ids.SH_PROJECT_RATE),
+        field("Assumed rate (% a year)", dcc.Input(id=ids.SH_PROJECT_RATE, type="text",
+                                                   inputMode="decimal", placeholder="e.g. 2.5",
+                                                   className="rb-input"), ids.SH_PROJECT_RATE,
+              hint="Percent a year: 2.5 (or 2.5 %) is 2.5 % a year; -1 a fall of 1 % a year."),
         field("Project until", dcc.Input(id=ids.SH_PROJECT_UNTIL, type="text",
                                          placeholder="e.g. 2030 or FY2030",
-                                         className="rb-input"), ids.SH_PROJECT_UNTIL),
+                                         className="rb-input"), ids.SH_PROJECT_UNTIL,
+              hint="The last out-year the index must reach."),
         html.Div(_button("Project", ids.SH_PROJECT), className="rb-field"),
     ], className="rb-controls")])
     linking = html.Div([
@@ -54,7 +58,8 @@ def layout() -> html.Div:
               ids.SH_LINK_NEW),
         field("Overlap", dcc.Input(id=ids.SH_LINK_OVERLAP, type="text",
                                    placeholder="empty = latest common period",
-                                   className="rb-input"), ids.SH_LINK_OVERLAP),
+                                   className="rb-input"), ids.SH_LINK_OVERLAP,
+              hint="A period both segments cover, e.g. 2020 or FY2021."),
         html.Div(_button("Link", ids.SH_LINK), className="rb-field"),
     ], className="rb-controls")
     cost = html.Div([
@@ -70,7 +75,8 @@ def layout() -> html.Div:
         field("Yearly weights (spending or shares)",
               dcc.Textarea(id=ids.SH_COST_WEIGHTS, className="rb-textarea",
                            placeholder="period,Goods,Wages\n2023,600,250\n2024,620,260"),
-              ids.SH_COST_WEIGHTS, hint="A small table: period, then one column per component."),
+              ids.SH_COST_WEIGHTS, hint="A small table, one line per year: period, then one "
+                                        "column per component (problems name the line)."),
         html.Div(_button("Build the cost index", ids.SH_COST_BUILD), className="rb-field"),
     ], className="rb-controls")
     return screen(

@@ -24,9 +24,12 @@ from ...figures import empty_figure, index_figure
 from .._shared.view import (
     UI005,
     error_dicts,
-    isfinite,
+    fiscal_note,
+    fy_start,
     latest_vintage,
+    period_placeholder,
     pick_index,
+    read_base,
     span_text,
     stretch_text,
 )
@@ -81,50 +84,64 @@ def _put_index(ws: Workspace, s: Series) -> Workspace:
 
 
 def rebase_index(ws: Workspace, name: str, base: str) -> tuple[Workspace, list[str]]:
-    """Add the index rebased to ``base`` = 100 (pipeline.indexes.rebase)."""
+    """Add the index rebased to ``base`` = 100 (pipeline.indexes.rebase); the period is
+    read with the workspace's fiscal year (FY2025, 2024-25, ranges)."""
     from pipeline.indexes import rebase
 
     if not (base or "").strip():
-        raise fail(UI005, "no base period given", expected="a period such as 2024 or FY2025",
+        raise fail(UI005, "no base period given", expected=period_placeholder(ws)[5:],
                    found="nothing", fix="Type the new base period.")
     s = pick_index(ws, name)
-    out = rebase(s, base.strip())
-    out = dataclasses.replace(out, name=f"{name} ({base.strip()}=100)")
+    span = read_base(ws, base.strip(), s.frequency, use="rebase")
+    out = rebase(s, span, fy_start=fy_start(ws))
+    out = dataclasses.replace(out, name=f"{name} ({span.label}=100)")
     return _put_index(ws, out), [
-        f"Added {out.name!r}: {name} rebased so that its average over {base.strip()} is 100 "
-        "(percent changes do not move)."]
+        f"Added {out.name!r}: {name} rebased so that its average over {span.describe()} is "
+        "100 (percent changes do not move).", *fiscal_note(ws)]
 
 
 def link_indexes(ws: Workspace, old: str, new: str, overlap: str | None
                  ) -> tuple[Workspace, list[str]]:
-    """Add the two segments linked at the overlap (pipeline.indexes.link)."""
+    """Add the two segments linked at the overlap (pipeline.indexes.link); the overlap is
+    read with the workspace's fiscal year."""
     from pipeline.indexes import link
 
     if old == new:
         raise fail(UI005, "the same index is chosen twice", expected="two different indexes",
                    found=old, fix="Choose the older and the newer segment.")
-    linked = link(pick_index(ws, old), pick_index(ws, new), (overlap or "").strip() or None)
+    o, n = pick_index(ws, old), pick_index(ws, new)
+    text = (overlap or "").strip()
+    span = read_base(ws, text, n.frequency, use="overlap") if text else None
+    linked = link(o, n, span, fy_start=fy_start(ws))
     out = dataclasses.replace(linked.series, name=f"{old} linked with {new}")
     return _put_index(ws, out), [
         f"Added {out.name!r}: linked at {linked.overlap}, factor {linked.factor:,.6f}.",
-        linked.method, *(p.message for p in linked.warnings)]
+        linked.method, *(p.message for p in linked.warnings), *fiscal_note(ws)]
 
 
-def project_index(ws: Workspace, name: str, rate_pct: float | None, until: str | None
+def project_index(ws: Workspace, name: str, rate: Any, until: str | None
                   ) -> tuple[Workspace, list[str]]:
-    """Add the index extended to ``until`` at an assumed annual rate (pipeline.projection)."""
-    from pipeline.projection import project
+    """Add the index extended to ``until`` at an assumed rate in percent a year
+    (pipeline.projection.project with ``bare="percent"``: '2.5' and '2.5%' are 2.5 % a
+    year; an out-of-range rate is answered with what was typed). ``until`` is read with
+    the workspace's fiscal year (FY2030, 2029-30)."""
+    from pipeline.projection import parse_rate, project
 
-    if rate_pct is None or not isfinite(rate_pct) or not (until or "").strip():
+    text = "" if rate is None else str(rate).strip()
+    if not text or not (until or "").strip():
         raise fail(UI005, "projection needs an annual rate and an end period",
-                   expected="a rate in percent a year and a period such as 2030 or FY2030",
-                   found=f"rate {rate_pct!r}, until {until!r}",
+                   expected="a rate in percent a year and a period such as "
+                            + ("FY2030" if fy_start(ws) else "2030"),
+                   found=f"rate {text or '(empty)'}, until {(until or '').strip() or '(empty)'}",
                    fix="Fill in both fields.")
-    p = project(pick_index(ws, name), float(rate_pct) / 100.0, until=until.strip())
-    out = dataclasses.replace(p.series, name=f"{name} projected at {float(rate_pct):g} % a year")
+    end = read_base(ws, until.strip(), use="until")
+    p = project(pick_index(ws, name), text, until=end, fy_start=fy_start(ws), bare="percent")
+    pct = 100 * parse_rate(text, bare="percent")
+    out = dataclasses.replace(p.series, name=f"{name} projected at {pct:g} % a year")
     return _put_index(ws, out), [
         f"Added {out.name!r}: {p.first} to {p.last} projected (assumed, not measured), "
-        f"at {float(rate_pct):g} % a year.", *(w.message for w in p.warnings)]
+        f"at {pct:g} % a year.", *p.method_note(), *(w.message for w in p.warnings),
+        *fiscal_note(ws)]
 
 
 COST_METHODS = {"fixed": "fixed weights", "annual-chain": "annual chain",
@@ -135,21 +152,17 @@ def build_cost_index(ws: Workspace, name: str | None, components: Sequence[str],
                      weights_csv: str | None, method: str, settings: Any = None
                      ) -> tuple[Workspace, list[str]]:
     """Blend component indexes with yearly weights into an own cost index
-    (pipeline.costindex.blend); the weights table is read by the intake."""
-    from pipeline.costindex import blend, weights_from_series
-    from pipeline.ingest import read_file
+    (pipeline.costindex.blend); the typed weights are read by
+    :func:`pipeline.costindex.weights_from_text` (problems by line of the box)."""
+    from pipeline.costindex import blend, weights_from_text
 
     if len(components) < 2:
         raise fail(UI005, "a cost index needs two or more components",
                    expected="two or more component indexes", found=f"{len(components)} chosen",
                    fix="Choose the component indexes.")
-    if not (weights_csv or "").strip():
-        raise fail(UI005, "no weights given", expected="a small table: period, then one column "
-                   "per component", found="nothing", fix="Paste the weights table.")
-    intake = read_file(weights_csv.encode("utf-8"), filename="weights.csv",
-                       kinds={c: "flow" for c in components}, settings=settings)
-    intake.raise_for_errors()
-    weights = weights_from_series(list(intake.series), source="weights table")
+    # typed or pasted weights: problems are located by line of the box, not by a file
+    weights = weights_from_text(weights_csv or "", components=list(components),
+                                fy_start=fy_start(ws), settings=settings)
     title = (name or "").strip() or "Own cost index"
     ci = blend([pick_index(ws, c) for c in components], weights,
                methods=[method] if method in COST_METHODS else None, name=title)

@@ -1,0 +1,25 @@
+"""Budget table: every program by (fiscal) year in then-year and constant dollars.
+
+The programs of the workspace side by side by year — then-year dollars (as appropriated
+or proposed), constant dollars of the chosen base year, real growth on the previous year
+and the compound annual rate over the span — with totals, the proposed out-years marked
+projected, each program's outlay rates (authority spent over several years) and the
+conversion the other way (amounts given in constant dollars turned into then-year
+dollars). The numbers come from the engine (:func:`pipeline.workbook.workspace_budget`
+-> :func:`pipeline.budget.budget_table`), the same as the audit workbook's Budget sheet;
+downloads (CSV, workbook) are background jobs.
+
+``layout.py`` builds the page, ``callbacks.py`` registers the callbacks, ``view.py`` holds
+the view model they call.
+"""
+
+from __future__ import annotations
+
+from .callbacks import register
+from .layout import layout
+
+KEY = "budget"
+TITLE = "Budget table"
+ORDER = 35
+
+__all__ = ["KEY", "ORDER", "TITLE", "layout", "register"]
