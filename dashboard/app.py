@@ -23,7 +23,7 @@ from dash import Dash, Input, Output, ctx, dcc, html, no_update
 from pipeline.settings import Settings, load_settings
 from pipeline.store import WorkspaceStore
 
-from . import access, ids, jobs
+from . import access, failures, ids, jobs
 from .context import AppContext, attach, context
 from .data import DEMO_NAME, DataAccess, WorkspaceRef
 from .screens import ScreenInfo, discover
@@ -81,6 +81,7 @@ def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
         dcc.Location(id=ids.URL, refresh=False),
         dcc.Store(id=ids.WORKSPACE, storage_type="memory"),
         dcc.Store(id=ids.SCREEN, data=first),
+        html.Div(id=ids.PAGE_PROBLEM, className="rb-page-problem", **{"aria-live": "assertive"}),
         html.Header([
             html.Div([html.H1(APP_TITLE), html.P(TAGLINE, className="rb-tagline")],
                      className="rb-brand"),
@@ -140,6 +141,16 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
                 + [chosen])
 
 
+REQUEST_ALLOWANCE = 64 * 1024
+"""Bytes of a callback request besides the base64 file: ids, file name, other inputs."""
+
+
+def request_limit(max_upload_bytes: int) -> int:
+    """Flask's MAX_CONTENT_LENGTH for an upload limit: base64 of the largest file plus
+    :data:`REQUEST_ALLOWANCE`."""
+    return 4 * ((int(max_upload_bytes) + 2) // 3) + REQUEST_ALLOWANCE
+
+
 def too_large_response(settings: Settings) -> Any:
     """A request cut off for its size (Flask's MAX_CONTENT_LENGTH, before any callback
     ran). To Dash's callback route: a normal answer changing no output that puts the
@@ -175,13 +186,14 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
         assets_folder=str(ASSETS),
         background_callback_manager=jobs.make_manager(settings),
         serve_locally=True,
+        on_error=failures.on_callback_error,
     )
     server = app.server
     server.secret_key = secret_key(settings)
-    # Uploads travel base64-encoded in JSON (4/3 of the file). Requests far above the
-    # upload limit are cut off by Flask; files up to twice the limit still reach the
-    # intake, which refuses them with a clear message (UI001).
-    server.config["MAX_CONTENT_LENGTH"] = int(settings.max_upload_bytes * 8 / 3) + 1_000_000
+    # Uploads travel base64-encoded in JSON (4/3 of the file): requests above that plus a
+    # small allowance for the rest of the request are cut off by Flask before anything
+    # reads them (the 413 answer below says UI001); the intake checks the decoded size too.
+    server.config["MAX_CONTENT_LENGTH"] = request_limit(settings.max_upload_bytes)
     server.register_error_handler(413, lambda _err: too_large_response(settings))
     rb = AppContext(settings, data, screens)
     rb.resolve_workspace = default_resolver(data)

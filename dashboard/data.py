@@ -6,9 +6,13 @@ all gunicorn workers. Saved versions are immutable, so a per-app cache keyed by
 ``(id, version)`` is always right; it lives on the :class:`DataAccess` object that
 ``create_app`` builds (one per app and process), never at module level.
 
-Uploaded files waiting to be added to a workspace are kept on disk under
-``data_dir/uploads/<sha256>`` (shared by the workers), so the browser holds only the
-upload's hash and the interpretation choices.
+Uploaded files waiting to be added to a workspace are kept on disk (shared by the
+workers) under ``data_dir/uploads/<session scope>/<upload id>``: the id is random, the
+scope is derived from the browser session that dropped the file, so a kept file is found
+only by the session that kept it, and only for the workspace it was dropped into (the
+browser holds the upload id and the interpretation choices). Each session may keep at
+most ``upload_quota_bytes`` (``UI703``); files older than ``upload_expiry_seconds`` are
+deleted (``UI003`` if asked for later). Keeping a file is a write: refused to reviewers.
 """
 
 from __future__ import annotations
@@ -17,9 +21,12 @@ import contextlib
 import dataclasses
 import fcntl
 import hashlib
+import json
 import os
 import re
+import secrets
 import threading
+import time
 from collections import OrderedDict
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
@@ -28,14 +35,18 @@ from pathlib import Path
 from pipeline.errors import fail, register
 from pipeline.model import Workspace
 from pipeline.settings import Settings
-from pipeline.store import WorkspaceStore, require_read
+from pipeline.store import WorkspaceStore, current_access, require_read, require_write
 
 UI003 = register("UI003", "uploaded file has expired from the server")
+UI701 = register("UI701", "the page's workspace reference is not valid")
+UI703 = register("UI703", "upload space of this session is used up")
 
 DEMO_NAME = "Demo: Harbourline Outfitters and Tallmere Transit (illustrative)"
 DEMO_COPY_NAME = "My copy of the demo (illustrative)"
 DEMO_DIR = Path(__file__).resolve().parent.parent / "demo_data"
-_HASH_RE = re.compile(r"^[0-9a-f]{64}$")
+_UPLOAD_ID_RE = re.compile(r"^[0-9a-f]{32}$")
+_WORKSPACE_ID_RE = re.compile(r"^[A-Za-z0-9_.-]{1,64}$")
+MAX_VERSION = 2**31 - 1
 CACHE_SIZE = 16
 
 
@@ -51,12 +62,28 @@ class WorkspaceRef:
 
     @classmethod
     def from_dict(cls, data: object) -> WorkspaceRef | None:
-        if not isinstance(data, dict) or not data.get("id"):
+        """The reference the page holds; None when it holds none yet. Anything else the
+        server never handed out (an id that is not one, a version that is not a count,
+        such as ``10**30``) is refused with ``UI701`` (the request gets 400)."""
+        if data is None or data == {} or (isinstance(data, dict) and not data.get("id")):
             return None
-        try:
-            return cls(str(data["id"]), int(data.get("version") or 0))
-        except (TypeError, ValueError):
-            return None
+        if not isinstance(data, dict):
+            raise _bad_ref("a workspace reference", type(data).__name__)
+        wid, version = data.get("id"), data.get("version") or 0
+        if not isinstance(wid, str) or not _WORKSPACE_ID_RE.match(wid):
+            raise _bad_ref("a workspace id", repr(wid)[:40])
+        if isinstance(version, float) and version.is_integer():
+            version = int(version)
+        if isinstance(version, bool) or not isinstance(version, int) \
+                or not 0 <= version <= MAX_VERSION:
+            raise _bad_ref("a version number", repr(version)[:40])
+        return cls(wid, version)
+
+
+def _bad_ref(what: str, found: str) -> Exception:
+    return fail(UI701, f"the page holds {what} the server never gave out",
+                expected=f"{what} as the server sent it", found=found,
+                fix="Reload the page.")
 
 
 class DataAccess:
@@ -149,29 +176,98 @@ class DataAccess:
 
     # ----- uploads waiting for the user's go-ahead
 
-    def keep_upload(self, data: bytes, filename: str) -> str:
-        """Keep an uploaded file server-side; returns its id (SHA-256 of the bytes)."""
-        digest = hashlib.sha256(data).hexdigest()
-        self.upload_dir.mkdir(parents=True, exist_ok=True)
-        target = self.upload_dir / digest
-        if not target.exists():
-            tmp = target.with_suffix(f".{os.getpid()}.{threading.get_ident()}.tmp")
-            tmp.write_bytes(data)
-            os.replace(tmp, target)
-        (self.upload_dir / f"{digest}.name").write_text(filename, encoding="utf-8")
-        return digest
+    def _scope(self) -> Path:
+        """This session's upload folder (a digest of the session id, never the id)."""
+        session = current_access().session or "local"
+        return self.upload_dir / hashlib.sha256(f"rb-upload:{session}".encode()).hexdigest()[:32]
 
-    def upload(self, upload_id: str) -> tuple[bytes, str]:
-        """The bytes and file name of a kept upload."""
-        if not isinstance(upload_id, str) or not _HASH_RE.match(upload_id):
+    def keep_upload(self, data: bytes, filename: str, workspace_id: str | None = None) -> str:
+        """Keep an uploaded file server-side for this session (and ``workspace_id``);
+        returns its id (random). Refused to reviewers (``SH001``) and past this
+        session's quota (``UI703``)."""
+        require_write("upload a file")
+        self.sweep_uploads()
+        scope = self._scope()
+        scope.mkdir(parents=True, exist_ok=True)
+        quota = int(self.settings.upload_quota_bytes)
+        used = sum(f.stat().st_size for f in scope.iterdir() if f.suffix == "" and f.is_file())
+        if used + len(data) > quota:
+            raise fail(UI703, "the files waiting to be added in this session use the space "
+                       "allowed", expected=f"at most {quota:,} bytes waiting per session",
+                       found=f"{used:,} bytes waiting and {len(data):,} more",
+                       fix="Add or drop the files already read, wait for them to expire, or "
+                           "ask the administrator to raise REALBASIS_UPLOAD_QUOTA_BYTES.",
+                       file=filename)
+        upload_id = secrets.token_hex(16)
+        meta = {"filename": str(filename)[:255], "workspace": workspace_id, "size": len(data),
+                "sha256": hashlib.sha256(data).hexdigest(), "kept_at": time.time()}
+        tmp = scope / f"{upload_id}.{os.getpid()}.{threading.get_ident()}.tmp"
+        tmp.write_bytes(data)
+        (scope / f"{upload_id}.json").write_text(json.dumps(meta), encoding="utf-8")
+        os.replace(tmp, scope / upload_id)
+        return upload_id
+
+    def upload(self, upload_id: str, workspace_id: str | None = None) -> tuple[bytes, str]:
+        """The bytes and file name of an upload this session kept (for ``workspace_id``
+        when given): ``UI003`` when there is none, it expired, or it belongs to another
+        session or workspace (the same answer, so ids cannot be probed)."""
+        if not isinstance(upload_id, str) or not _UPLOAD_ID_RE.match(upload_id):
             raise fail(UI003, "the upload reference is not valid",
                        expected="the id of a file uploaded on the intake screen",
                        found=repr(upload_id)[:80], fix="Upload the file again.")
-        path = self.upload_dir / upload_id
-        if not path.exists():
-            raise fail(UI003, "the uploaded file is no longer on the server",
-                       expected=f"upload {upload_id[:12]}…", found="nothing",
-                       fix="Upload the file again.")
-        name_path = self.upload_dir / f"{upload_id}.name"
-        name = name_path.read_text(encoding="utf-8") if name_path.exists() else "upload"
-        return path.read_bytes(), name
+        path = self._scope() / upload_id
+        meta = self._meta(path)
+        expired = meta is not None and time.time() - float(meta.get("kept_at", 0)) \
+            > self.settings.upload_expiry_seconds
+        if expired:
+            self._drop(path)
+        wrong_ws = (meta is not None and workspace_id is not None
+                    and meta.get("workspace") not in (None, workspace_id))
+        if meta is None or expired or wrong_ws or not path.exists():
+            raise fail(UI003, "the dropped file is no longer waiting on the server",
+                       expected=f"upload {upload_id[:8]}… kept in this browser session for "
+                                "this workspace",
+                       found="nothing (expired, or dropped in another session or workspace)",
+                       fix="Drop the file again.")
+        return path.read_bytes(), str(meta.get("filename") or "upload")
+
+    @staticmethod
+    def _meta(path: Path) -> dict[str, object] | None:
+        try:
+            meta = json.loads(path.with_suffix(".json").read_text(encoding="utf-8"))
+        except (OSError, ValueError):
+            return None
+        return meta if isinstance(meta, dict) else None
+
+    @staticmethod
+    def _drop(path: Path) -> None:
+        for p in (path, path.with_suffix(".json")):
+            with contextlib.suppress(OSError):
+                p.unlink()
+
+    def sweep_uploads(self) -> int:
+        """Delete kept files older than ``upload_expiry_seconds`` (every session's);
+        returns how many files went."""
+        if not self.upload_dir.is_dir():
+            return 0
+        cutoff = time.time() - self.settings.upload_expiry_seconds
+        gone = 0
+        for entry in list(self.upload_dir.iterdir()):
+            with contextlib.suppress(OSError):
+                if entry.is_dir():
+                    for f in list(entry.iterdir()):
+                        if f.stat().st_mtime < cutoff:
+                            f.unlink()
+                            gone += 1
+                    if not any(entry.iterdir()):
+                        entry.rmdir()
+                elif entry.stat().st_mtime < cutoff:  # files of an older layout
+                    entry.unlink()
+                    gone += 1
+        return gone
+
+    def uploads_size(self) -> int:
+        """Bytes kept in the upload folder (all sessions)."""
+        if not self.upload_dir.is_dir():
+            return 0
+        return sum(f.stat().st_size for f in self.upload_dir.rglob("*") if f.is_file())

@@ -13,6 +13,8 @@ NAV = "rb-nav"
 SCREEN = "rb-screen"                # dcc.Store: key of the screen shown
 WORKSPACE_LABEL = "rb-workspace-label"
 CAUTIONS = "rb-cautions"
+PAGE_PROBLEM = "rb-page-problem"    # top of the page: problems no screen shows (failures.py,
+                                    # assets/access-notice.js)
 
 
 def nav_button(key: str) -> str:

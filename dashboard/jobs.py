@@ -9,12 +9,18 @@ Celery itself is imported only then (it is an optional dependency). Background-c
 handles are signed with the Flask secret key (:mod:`dashboard.secret`).
 
 Either way a job runs under the access (editor/reviewer) of the request that started it
-(:class:`AccessAwareMixin`). Celery workers are started through
-:mod:`dashboard.celery_app`, which builds the app so every background callback is a task.
+(:class:`AccessAwareMixin`). A coded problem the job raises, a ``MemoryError``, or a change
+the store refused while the job ran (even one the job swallowed) does not end the job as a
+Dash error: the job's result is a *failure* record (plain JSON), and when the page polls
+for the result the request raises it again — a refusal then answers 403 like any refused
+request, anything else becomes a coded problem on the page (:mod:`dashboard.failures`).
+Celery workers are started through :mod:`dashboard.celery_app`, which builds the app so
+every background callback is a task.
 """
 
 from __future__ import annotations
 
+import contextlib
 import functools
 from collections.abc import Callable
 from pathlib import Path
@@ -25,9 +31,9 @@ from dash import CeleryManager, DiskcacheManager
 from dash._callback_context import context_value
 from dash._utils import AttributeDict
 
-from pipeline.errors import fail, register
+from pipeline.errors import Location, Problem, RealbasisError, fail, register
 from pipeline.settings import Settings
-from pipeline.store import AccessContext, current_access, reset_access, set_access
+from pipeline.store import SH001, AccessContext, current_access, reset_access, set_access
 
 from .access import anonymous
 
@@ -36,6 +42,38 @@ if TYPE_CHECKING:
 
 JOB_EXPIRE_SECONDS = 3600
 UI601 = register("UI601", "background jobs need a Redis URL")
+UI707 = register("UI707", "the server ran out of memory for this request")
+FAILURE = "rb_failure"
+"""Key of a job result that is a failure record (see the module notes)."""
+
+
+def failure_record(err: RealbasisError) -> dict[str, Any]:
+    """A job's coded failure as plain JSON (diskcache pickles it, Celery sends JSON)."""
+    return {FAILURE: [p.as_dict() for p in err.problems]}
+
+
+def failure_error(result: Any) -> RealbasisError | None:
+    """The error a failure record stands for (None for an ordinary result)."""
+    if not isinstance(result, dict) or FAILURE not in result:
+        return None
+    problems = []
+    for d in result[FAILURE] or []:
+        where = d.get("where") or {}
+        problems.append(Problem(
+            code=str(d.get("code", UI707)), message=str(d.get("message", "")),
+            expected=str(d.get("expected", "")), found=str(d.get("found", "")),
+            fix=str(d.get("fix", "")), severity=d.get("severity", "error"),
+            remedy=str(d.get("remedy", "")),
+            where=Location(**{k: where[k] for k in ("file", "sheet", "row", "column", "series",
+                                                    "period") if k in where})))
+    return RealbasisError(problems or [Problem(UI707, "the background job failed")])
+
+
+def out_of_memory(what: str = "this request") -> RealbasisError:
+    return fail(UI707, f"the server ran out of memory for {what}",
+                expected="work that fits the server's memory", found="MemoryError",
+                fix="Try a smaller file or fewer series at once, or ask the administrator "
+                    "for more memory.")
 
 
 def with_access(fn: Callable[..., Any]) -> Callable[..., Any]:
@@ -50,11 +88,22 @@ def with_access(fn: Callable[..., Any]) -> Callable[..., Any]:
         except LookupError:
             info = {}
         ctx = AccessContext(info["role"], info.get("workspace_id"), info.get("actor", ""),
-                            link_id=info.get("link_id")) if info.get("role") in (
-            "editor", "reviewer") else anonymous()
+                            link_id=info.get("link_id"), session=str(info.get("session") or "")
+                            ) if info.get("role") in ("editor", "reviewer") else anonymous()
         token = set_access(ctx)
         try:
-            return fn(*args, **kwargs)
+            try:
+                result = fn(*args, **kwargs)
+            except RealbasisError as err:
+                return failure_record(err)
+            except MemoryError:
+                return failure_record(out_of_memory("this job"))
+            if ctx.refused:  # a refusal the job swallowed still refuses the request
+                return failure_record(fail(
+                    SH001, "a reviewer link is read-only: cannot "
+                    + ", ".join(dict.fromkeys(ctx.refused)), expected="editor access",
+                    found="reviewer access", fix="Ask the workspace's editor to make the change."))
+            return result
         finally:
             reset_access(token)
 
@@ -71,12 +120,44 @@ class AccessAwareMixin:
         ctx = current_access()
         context = AttributeDict(**dict(context))
         context["rb_access"] = {"role": ctx.role, "workspace_id": ctx.workspace_id,
-                                "actor": ctx.actor, "link_id": ctx.link_id}
+                                "actor": ctx.actor, "link_id": ctx.link_id,
+                                "session": ctx.session}
         return super().call_job_fn(key, job_fn, args, context)  # type: ignore[misc]
+
+    def get_result(self, key: Any, job: Any) -> Any:
+        result = super().get_result(key, job)  # type: ignore[misc]
+        if result is self.UNDEFINED and job is not None \
+                and not self.job_running(job):  # type: ignore[attr-defined]
+            # The job may have ended between the look into the cache and this check: its
+            # result is in the cache now. (Dash would otherwise take "no result and not
+            # running" for a cancelled job and answer nothing: a silent no-op.)
+            result = super().get_result(key, job)  # type: ignore[misc]
+        err = failure_error(result)
+        if err is not None:
+            raise err  # in the polling request: dashboard.failures / the 403 answer
+        return result
 
 
 class AccessDiskcacheManager(AccessAwareMixin, DiskcacheManager):
-    """diskcache jobs that run under the access of the request that started them."""
+    """diskcache jobs that run under the access of the request that started them.
+
+    A job's process may end between Dash's "does it exist" and "kill its children"
+    (psutil.NoSuchProcess): Dash then lost the result it had just collected and answered
+    an error. Here a process that is already gone counts as ended."""
+
+    def terminate_job(self, job: Any) -> None:
+        import psutil
+
+        with contextlib.suppress(psutil.NoSuchProcess):
+            super().terminate_job(job)
+
+    def job_running(self, job: Any) -> bool:
+        import psutil
+
+        try:
+            return bool(super().job_running(job))
+        except psutil.NoSuchProcess:
+            return False
 
 
 class AccessCeleryManager(AccessAwareMixin, CeleryManager):

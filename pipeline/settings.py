@@ -87,6 +87,21 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Shared folder for background-job cache; default data_dir/jobs."),
     SettingSpec("demo", "REALBASIS_DEMO", True, _bool,
                 "Open on the demo workspace when no workspace is chosen."),
+    SettingSpec("local_editing", "REALBASIS_LOCAL_EDITING", False, _bool,
+                "Without an editor token, let requests from this machine (loopback address "
+                "and Host, no proxy header) edit; `realbasis serve` on a loopback address "
+                "turns it on. Never behind a reverse proxy."),
+    SettingSpec("trusted_proxies", "REALBASIS_TRUSTED_PROXIES", "", _str,
+                "Comma-separated addresses of reverse proxies whose X-Forwarded-For and "
+                "X-Forwarded-Proto are believed (client address, HTTPS)."),
+    SettingSpec("upload_quota_bytes", "REALBASIS_UPLOAD_QUOTA_BYTES", 200 * 1024 * 1024,
+                _int, "Most bytes of dropped files kept waiting for one browser session."),
+    SettingSpec("upload_expiry_seconds", "REALBASIS_UPLOAD_EXPIRY_SECONDS", 86_400, _int,
+                "Seconds a dropped file waits on the server to be added before it is deleted."),
+    SettingSpec("read_memory_bytes", "REALBASIS_READ_MEMORY_BYTES", 3 * 1024 ** 3, _int,
+                "Most memory reading one uploaded file may take in the server (bytes)."),
+    SettingSpec("read_seconds", "REALBASIS_READ_SECONDS", 20, _int,
+                "Most seconds reading one uploaded file may take in the server."),
 )
 
 
@@ -112,6 +127,12 @@ class Settings:
     secret_key: str | None = None
     cache_dir: str | None = None
     demo: bool = True
+    local_editing: bool = False
+    trusted_proxies: str = ""
+    upload_quota_bytes: int = 200 * 1024 * 1024
+    upload_expiry_seconds: int = 86_400
+    read_memory_bytes: int = 3 * 1024 ** 3
+    read_seconds: int = 20
 
     @property
     def effective_database_url(self) -> str:
@@ -122,6 +143,10 @@ class Settings:
     @property
     def effective_cache_dir(self) -> str:
         return self.cache_dir or str(Path(self.data_dir).resolve() / "jobs")
+
+    @property
+    def trusted_proxy_addresses(self) -> frozenset[str]:
+        return frozenset(a.strip() for a in self.trusted_proxies.split(",") if a.strip())
 
     def replace(self, **changes: Any) -> Settings:
         return Settings(**{**self.__dict__, **changes})

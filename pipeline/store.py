@@ -64,11 +64,17 @@ SH005 = register("SH005", "reviewer link expiry invalid")
 SH007 = register("SH007", "reviewer link does not open this workspace")
 SH003 = register("SH003", "serving on a network needs an editor token")
 SH006 = register("SH006", "editor access refused")
+SH008 = register("SH008", "editor token too short")
+SH009 = register("SH009", "too many wrong editor tokens: wait before trying again")
+MIN_EDITOR_TOKEN = 32
+"""Fewest characters an editor token may have (``SH008``)."""
 LOOPBACK_HOSTS = frozenset({"127.0.0.1", "localhost", "::1", "[::1]"})
 
-SCHEMA_VERSION = 2
+SCHEMA_VERSION = 3
 """Version 1: workspaces, versions, payloads, links, audit. Version 2: links record
-when they were last used (``rb_links.last_used_at``)."""
+when they were last used (``rb_links.last_used_at``). Version 3: web sign-in bookkeeping
+(``rb_sessions``: editor sessions the server can end; ``rb_throttle``: wrong-token
+counts shared by every worker)."""
 
 TOKEN_BYTES = 32  # secrets.token_urlsafe(32): 256 random bits
 _LAST_USED_EVERY = dt.timedelta(seconds=60)
@@ -149,7 +155,29 @@ def _migrate_to_2(conn: Connection) -> None:
                                 else "DATETIME")))
 
 
-_MIGRATIONS = {2: _migrate_to_2}
+sessions_table = sa.Table(
+    "rb_sessions", metadata,
+    sa.Column("id_sha256", sa.String(64), primary_key=True),
+    sa.Column("role", sa.String(20), nullable=False),
+    sa.Column("grant_fp", sa.String(64), nullable=False, default=""),
+    sa.Column("created_at", sa.DateTime(timezone=True), nullable=False),
+    sa.Column("expires_at", sa.DateTime(timezone=True), nullable=False),
+    sa.Column("revoked_at", sa.DateTime(timezone=True), nullable=True),
+)
+
+throttle_table = sa.Table(
+    "rb_throttle", metadata,
+    sa.Column("key", sa.String(160), primary_key=True),
+    sa.Column("window_start", sa.DateTime(timezone=True), nullable=False),
+    sa.Column("failures", sa.Integer, nullable=False),
+)
+
+
+def _migrate_to_3(conn: Connection) -> None:
+    """rb_sessions and rb_throttle are new tables: ``metadata.create_all`` made them."""
+
+
+_MIGRATIONS = {2: _migrate_to_2, 3: _migrate_to_3}
 """Step ``n`` upgrades a schema of version ``n - 1`` to ``n``; run in order on open."""
 
 # --------------------------------------------------------------------------- access
@@ -164,6 +192,8 @@ class AccessContext:
     workspace_id: str | None = None
     actor: str = "editor"
     link_id: str | None = None
+    session: str = ""
+    """The browser session acting (random; scopes kept uploads); empty outside the web."""
     refused: list[str] = field(default_factory=list, compare=False, hash=False, repr=False)
     """Changes refused under this context (the web layer turns any into a 403)."""
 
@@ -215,7 +245,15 @@ def is_loopback_host(host: str) -> bool:
 
 
 def check_serving(settings: Settings) -> None:
-    """Refuse to serve beyond this machine without an editor token (``SH003``)."""
+    """Refuse to serve beyond this machine without an editor token (``SH003``), and an
+    editor token shorter than :data:`MIN_EDITOR_TOKEN` characters (``SH008``)."""
+    token = settings.editor_token
+    if token is not None and len(token.strip()) < MIN_EDITOR_TOKEN:
+        raise fail(SH008, "the editor token is too short to keep guessers out",
+                   expected=f"REALBASIS_EDITOR_TOKEN of at least {MIN_EDITOR_TOKEN} characters",
+                   found=f"{len(token.strip())} character(s)",
+                   fix="Set REALBASIS_EDITOR_TOKEN to a long random secret, e.g. from "
+                       "`python -c 'import secrets; print(secrets.token_urlsafe(32))'`.")
     if not is_loopback_host(settings.host) and not settings.editor_token:
         raise fail(SH003, f"serving on {settings.host} needs an editor token",
                    expected="REALBASIS_EDITOR_TOKEN set when REALBASIS_HOST is not 127.0.0.1",
@@ -881,6 +919,88 @@ class WorkspaceStore:
                              .values(last_used_at=now))
         return info
 
+    # ----- sign-in bookkeeping (the server's own records, not anyone's work: these never
+    # call require_write, as recording a link's last use does not)
+
+    def open_session(self, role: str, *, grant: str = "",
+                     lifetime: dt.timedelta = dt.timedelta(hours=12)) -> str:
+        """A new web session: returns its id (random, 256 bits; only its SHA-256 is
+        stored). ``grant`` fingerprints what granted it (the editor token): a session
+        only counts while the same grant is presented (see :meth:`session_role`)."""
+        sid = secrets.token_urlsafe(TOKEN_BYTES)
+        now = _now()
+        with self._write() as conn:
+            conn.execute(sessions_table.delete().where(
+                sessions_table.c.expires_at < now - dt.timedelta(days=1)))
+            conn.execute(sessions_table.insert().values(
+                id_sha256=hash_token(sid), role=str(role)[:20], grant_fp=str(grant)[:64],
+                created_at=now, expires_at=now + lifetime))
+        return sid
+
+    def session_role(self, sid: str, *, grant: str = "") -> str | None:
+        """The role of an open session, or None (unknown, ended, expired, or granted by
+        something no longer in force)."""
+        if not sid or not isinstance(sid, str) or len(sid) > 200:
+            return None
+        with self._read() as conn:
+            row = conn.execute(sa.select(sessions_table).where(
+                sessions_table.c.id_sha256 == hash_token(sid))).mappings().first()
+        if row is None or row["revoked_at"] is not None:
+            return None
+        if _utc(row["expires_at"]) <= _now():  # type: ignore[operator]
+            return None
+        if not secrets.compare_digest(str(row["grant_fp"]), str(grant)):
+            return None
+        return str(row["role"])
+
+    def close_session(self, sid: str) -> bool:
+        """End one session (sign-out); True when it was open."""
+        if not sid or not isinstance(sid, str) or len(sid) > 200:
+            return False
+        with self._write() as conn:
+            done = conn.execute(sessions_table.update().where(
+                sessions_table.c.id_sha256 == hash_token(sid),
+                sessions_table.c.revoked_at.is_(None)).values(revoked_at=_now()))
+        return bool(done.rowcount)
+
+    def close_sessions(self, role: str | None = None) -> int:
+        """End every open session (of ``role``); returns how many were open."""
+        now = _now()
+        q = sessions_table.update().where(sessions_table.c.revoked_at.is_(None),
+                                          sessions_table.c.expires_at > now)
+        if role is not None:
+            q = q.where(sessions_table.c.role == role)
+        with self._write() as conn:
+            return int(conn.execute(q.values(revoked_at=now)).rowcount or 0)
+
+    def throttle_wait(self, key: str, *, limit: int, window: dt.timedelta) -> float:
+        """Seconds ``key`` (e.g. a client address) must wait before its next try: 0 while
+        it has had fewer than ``limit`` failures in the current ``window``."""
+        with self._read() as conn:
+            row = conn.execute(sa.select(throttle_table).where(
+                throttle_table.c.key == str(key)[:160])).mappings().first()
+        return _wait(row, limit, window)
+
+    def throttle_fail(self, key: str, *, limit: int, window: dt.timedelta) -> float:
+        """Count one failure of ``key`` (atomically, across processes and hosts); returns
+        the seconds it must now wait (0 while under ``limit``). A window starts with the
+        first failure after the previous one ended."""
+        key = str(key)[:160]
+        now = _now()
+        c = throttle_table.c
+        with self._write() as conn:
+            conn.execute(throttle_table.delete().where(c.window_start < now - 2 * window
+                                                       - dt.timedelta(hours=1)))
+            if conn.execute(sa.select(c.key).where(c.key == key)).first() is None:
+                conn.execute(_insert_ignore(conn, throttle_table, ["key"]),
+                             {"key": key, "window_start": now, "failures": 0})
+            stale = c.window_start < now - window
+            conn.execute(throttle_table.update().where(c.key == key).values(
+                failures=sa.case((stale, 1), else_=c.failures + 1),
+                window_start=sa.case((stale, now), else_=c.window_start)))
+            row = conn.execute(sa.select(throttle_table).where(c.key == key)).mappings().first()
+        return _wait(row, limit, window)
+
     # ----- internals
 
     def _must_exist(self, conn: Connection, workspace_id: str) -> None:
@@ -1005,6 +1125,25 @@ def _not_found(workspace_id: str) -> RealbasisError:
     return fail(ST001, f"no workspace {workspace_id!r}", expected="an id from the list of "
                 "workspaces", found=repr(workspace_id), fix="Run `realbasis workspace list` "
                 "or pick the workspace in the dashboard.")
+
+
+def _wait(row: Mapping[str, Any] | None, limit: int, window: dt.timedelta) -> float:
+    if row is None or int(row["failures"]) < limit:
+        return 0.0
+    left = (_utc(row["window_start"]) + window - _now()).total_seconds()  # type: ignore[operator]
+    return max(left, 0.0)
+
+
+def _insert_ignore(conn: Connection, table: sa.Table, keys: list[str]) -> Any:
+    """INSERT that does nothing when the row exists (another process won the race)."""
+    name = conn.dialect.name
+    if name == "sqlite":
+        from sqlalchemy.dialects.sqlite import insert
+    elif name == "postgresql":
+        from sqlalchemy.dialects.postgresql import insert
+    else:
+        return table.insert()
+    return insert(table).on_conflict_do_nothing(index_elements=keys)
 
 
 def _link(r: Mapping[str, Any]) -> LinkInfo:

@@ -44,7 +44,7 @@ def server(tmp_path_factory: pytest.TempPathFactory, chromium_path: str) -> Iter
     data = tmp_path_factory.mktemp("browser-data")
     port = _free_port()
     env = {**os.environ, "REALBASIS_DATA_DIR": str(data), "REALBASIS_WORKERS": "2",
-           "REALBASIS_MAX_UPLOAD_BYTES": str(UPLOAD_LIMIT)}
+           "REALBASIS_MAX_UPLOAD_BYTES": str(UPLOAD_LIMIT), "REALBASIS_LOCAL_EDITING": "1"}
     env.pop("REALBASIS_DATABASE_URL", None)
     env.pop("REALBASIS_REDIS_URL", None)
     log = open(data / "gunicorn.log", "wb")  # noqa: SIM115 - closed below

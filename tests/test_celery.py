@@ -68,7 +68,8 @@ def celery_worker(redis_url, tmp_path):
 
     redis.Redis.from_url(url).flushdb()
     env = {**os.environ, "PYTHONPATH": str(ROOT), "REALBASIS_DATA_DIR": str(tmp_path / "data"),
-           "REALBASIS_REDIS_URL": url, "REALBASIS_SECRET_KEY": "test-secret-shared-by-all"}
+           "REALBASIS_REDIS_URL": url, "REALBASIS_SECRET_KEY": "test-secret-shared-by-all",
+           "REALBASIS_LOCAL_EDITING": "1"}
     log = open(tmp_path / "worker.log", "w")  # noqa: SIM115
     proc = subprocess.Popen(
         [sys.executable, "-m", "celery", "-A", "dashboard.celery_app", "worker",

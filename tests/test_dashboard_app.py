@@ -44,7 +44,7 @@ def call(client: Any, deps: list[dict[str, Any]], output: str, values: dict[str,
 @pytest.fixture(scope="module")
 def app(tmp_path_factory: pytest.TempPathFactory) -> Any:
     return create_app(Settings(data_dir=str(tmp_path_factory.mktemp("app")),
-                               max_upload_bytes=10_000))
+                               max_upload_bytes=10_000, local_editing=True))
 
 
 @pytest.fixture(scope="module")

@@ -15,6 +15,7 @@ import hashlib
 import json
 import math
 
+import dash_requests
 import pytest
 import sqlalchemy as sa
 
@@ -109,7 +110,8 @@ def _app(tmp_path, **settings_kw):
     from dashboard.app import create_app
     from pipeline.settings import Settings
 
-    settings = Settings(data_dir=str(tmp_path / "data"), demo=False, **settings_kw)
+    settings = Settings(data_dir=str(tmp_path / "data"), demo=False,
+                        **{"local_editing": True, **settings_kw})
     store = WorkspaceStore.from_settings(settings)
     ws = store.create("Tallmere transit (illustrative)")
     app = create_app(settings, store=store)
@@ -164,7 +166,7 @@ def test_reviewer_cannot_change_anything_over_http(tmp_path):
     assert r.status_code == 403 and r.get_json()["code"] == "SH001"
     r = _dispatch(reviewer, "probe-btn2", "probe-out2")  # refusal swallowed by the callback
     assert r.status_code == 403 and r.get_json()["code"] == "SH001"
-    r = _dispatch(reviewer, changed=["in-upload.contents"])  # uploads refused up front
+    r = _dispatch(reviewer, changed=[])  # whatever the request says changed
     assert r.status_code == 403
     for method in ("post", "put", "delete"):
         r = getattr(reviewer, method)("/anything", data=b"x")
@@ -175,12 +177,22 @@ def test_reviewer_cannot_change_anything_over_http(tmp_path):
     assert store.current_version(ws.id) == before
     assert not [e for e in store.audit(ws.id) if e.event == "upload"]
 
-    # Revoking takes effect on the very next request.
+    # Revoking takes effect on the very next request, and the session stays a reviewer's:
+    # never an editor's, however often the page is reloaded on this machine.
     store.revoke_link(info.id)
-    r = reviewer.get("/")
-    assert r.status_code == 403 and "SH002" in r.get_data(as_text=True)
+    for _ in range(2):
+        r = reviewer.get("/")
+        assert r.status_code == 403 and "SH002" in r.get_data(as_text=True)
+        assert "review-exit" in r.get_data(as_text=True)  # the way out
+    r = _dispatch(reviewer)
+    assert r.status_code == 403 and r.get_json()["code"] == "SH002"
     assert reviewer.get(f"/review/{token}").status_code == 403
     assert reviewer.get("/review/not-a-token").status_code == 403
+    assert reviewer.get("/").status_code == 403
+    assert store.current_version(ws.id) == before
+    # leaving the reviewer view is explicit, and shows a page (not the editor's view)
+    left = reviewer.get("/review-exit")
+    assert left.status_code == 200 and "left the reviewer view" in left.get_data(as_text=True)
 
 
 def test_editor_access_is_local_unless_a_token_is_set(tmp_path):
@@ -201,7 +213,7 @@ def test_editor_access_is_local_unless_a_token_is_set(tmp_path):
     assert _dispatch(local, headers={"Origin": "http://attacker.example"}).status_code == 403
     assert store.current_version(ws.id) == 1
 
-    secret = "correct horse battery staple 42"
+    secret = "correct horse battery staple 42, and more"
     app, store, ws = _app(tmp_path / "b", host="0.0.0.0", editor_token=secret)
     c = app.server.test_client()
     c.environ_base["REMOTE_ADDR"] = "192.0.2.7"
@@ -217,26 +229,27 @@ def test_editor_access_is_local_unless_a_token_is_set(tmp_path):
 # --------------------------------------------------------------------------- Share screen
 
 
-def _links_body(ref, trigger="rb-workspace.data", label="audit", days=None):
-    return {"output": "..sx-links.children...sx-revoke-id.options...sx-link-new.children..",
-            "outputs": [{"id": "sx-links", "property": "children"},
-                        {"id": "sx-revoke-id", "property": "options"},
-                        {"id": "sx-link-new", "property": "children"}],
-            "inputs": [{"id": "rb-workspace", "property": "data", "value": ref},
-                       {"id": "sx-link-create", "property": "n_clicks", "value": 1},
-                       {"id": "sx-revoke", "property": "n_clicks", "value": 0}],
-            "state": [{"id": "sx-link-label", "property": "value", "value": label},
-                      {"id": "sx-link-days", "property": "value", "value": days},
-                      {"id": "sx-revoke-id", "property": "value", "value": None}],
-            "changedPropIds": [trigger]}
+def _deps(client):
+    r = client.get("/_dash-dependencies")
+    return r.get_json() if hasattr(r, "get_json") else r.json()
+
+
+def _links_body(deps, ref, trigger="rb-workspace.data", label="audit", days=None):
+    """The Share screen's links callbacks: listing (on the workspace) or changing them
+    (the create and revoke buttons, a callback registered as writing)."""
+    dep = dash_requests.find(deps, output="sx-links.children", trigger=trigger)
+    values = {"rb-workspace.data": ref, "sx-link-create.n_clicks": 1, "sx-revoke.n_clicks": 0,
+              "sx-link-label.value": label, "sx-link-days.value": days}
+    return dash_requests.body(dep, values, [trigger])
 
 
 def test_share_screen_links_over_http(tmp_path):
     app, store, ws = _app(tmp_path)
     ref = {"id": ws.id, "version": 1}
     editor = app.server.test_client()
+    deps = _deps(editor)
     r = editor.post("/_dash-update-component",
-                    json=_links_body(ref, "sx-link-create.n_clicks", days=30))
+                    json=_links_body(deps, ref, "sx-link-create.n_clicks", days=30))
     assert r.status_code == 200
     text = json.dumps(r.get_json())
     assert "http://localhost/review/" in text and "not shown again" in text
@@ -247,16 +260,19 @@ def test_share_screen_links_over_http(tmp_path):
     reviewer = app.server.test_client()
     headers = {"X-Realbasis-Review": token}
     # opening the screen as a reviewer is fine (nothing is changed) ...
-    r = reviewer.post("/_dash-update-component", json=_links_body(ref), headers=headers)
+    r = reviewer.post("/_dash-update-component", json=_links_body(deps, ref), headers=headers)
     assert r.status_code == 200, r.get_data(as_text=True)
-    # ... pressing "Create link" is refused by the server
-    r = reviewer.post("/_dash-update-component",
-                      json=_links_body(ref, "sx-link-create.n_clicks"), headers=headers)
-    assert r.status_code == 403 and r.get_json()["code"] == "SH001"
+    # ... pressing "Create link" is refused by the server, with or without changedPropIds
+    for changed in (["sx-link-create.n_clicks"], [], ["rb-workspace.data"]):
+        body = _links_body(deps, ref, "sx-link-create.n_clicks")
+        body["changedPropIds"] = changed
+        r = reviewer.post("/_dash-update-component", json=body, headers=headers)
+        assert r.status_code == 403 and r.get_json()["code"] == "SH001", changed
+        assert "create or revoke a reviewer link" in r.get_json()["message"]
     assert len(store.list_links(ws.id)) == 2
     # bad expiry is a coded message, not a crash
     r = editor.post("/_dash-update-component",
-                    json=_links_body(ref, "sx-link-create.n_clicks", days=-3))
+                    json=_links_body(deps, ref, "sx-link-create.n_clicks", days=-3))
     assert r.status_code == 200 and "SH005" in r.get_data(as_text=True)
 
 
@@ -347,7 +363,7 @@ def test_reviewer_is_read_only_against_a_real_gunicorn(tmp_path):
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
     env = {**os.environ, "REALBASIS_DATA_DIR": str(data), "REALBASIS_DEMO": "0",
-           "PYTHONPATH": str(ROOT)}
+           "PYTHONPATH": str(ROOT), "REALBASIS_LOCAL_EDITING": "1"}
     proc = subprocess.Popen([sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "2",
                              "-b", f"127.0.0.1:{port}", "dashboard.wsgi:server"],
                             cwd=ROOT, env=env, stdout=subprocess.DEVNULL,
@@ -366,14 +382,15 @@ def test_reviewer_is_read_only_against_a_real_gunicorn(tmp_path):
         reviewer = requests.Session()
         r = reviewer.get(f"{base}/review/{token}", timeout=10)
         assert r.status_code == 200 and r.headers["X-Realbasis-Access"] == "reviewer"
+        deps = reviewer.get(base + "/_dash-dependencies", timeout=10).json()
         for _ in range(4):  # whichever worker answers
             r = reviewer.post(base + "/_dash-update-component",
-                              json=_links_body(ref, "sx-link-create.n_clicks"), timeout=10)
+                              json=_links_body(deps, ref, "sx-link-create.n_clicks"), timeout=10)
             assert r.status_code == 403 and r.json()["code"] == "SH001"
         assert len(store.list_links(ws.id)) == 1
         editor = requests.Session()
         r = editor.post(base + "/_dash-update-component",
-                        json=_links_body(ref, "sx-link-create.n_clicks"), timeout=10)
+                        json=_links_body(deps, ref, "sx-link-create.n_clicks"), timeout=10)
         assert r.status_code == 200 and r.headers["X-Realbasis-Access"] == "editor"
         assert len(store.list_links(ws.id)) == 2
     finally:
@@ -415,7 +432,8 @@ def test_reviewer_in_a_real_browser_sees_every_screen_and_changes_nothing(
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
-    env = {**os.environ, "REALBASIS_DATA_DIR": str(data_dir), "PYTHONPATH": str(ROOT)}
+    env = {**os.environ, "REALBASIS_DATA_DIR": str(data_dir), "PYTHONPATH": str(ROOT),
+           "REALBASIS_LOCAL_EDITING": "1"}
     env.pop("REALBASIS_DATABASE_URL", None)
     env.pop("REALBASIS_REDIS_URL", None)
     proc = subprocess.Popen([sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "2",
@@ -482,11 +500,12 @@ def test_reviewer_in_a_real_browser_sees_every_screen_and_changes_nothing(
             page.wait_for_function("document.querySelector('#rt-title').innerText"
                                    ".includes('constant')", timeout=60_000)
             assert page.is_disabled("#rt-save")  # for looks; now past the looks:
+            deps = page.evaluate("async () => (await fetch('/_dash-dependencies')).json()")
             status = page.evaluate(
                 "async (body) => (await fetch('/_dash-update-component', {method: 'POST', "
                 "headers: {'Content-Type': 'application/json'}, "
                 "body: JSON.stringify(body)})).status",
-                _links_body({"id": ref.id, "version": version}, "sx-link-create.n_clicks"))
+                _links_body(deps, {"id": ref.id, "version": version}, "sx-link-create.n_clicks"))
             assert status == 403  # a hand-made request with the reviewer's cookie
             browser.close()
         assert store.current_version(ref.id) == version  # nothing was saved

@@ -513,7 +513,8 @@ def test_gunicorn_worker_killed_during_saves_loses_no_acknowledged_save(tmp_path
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
         port = s.getsockname()[1]
-    env = {**_env(), "REALBASIS_DATA_DIR": str(data), "REALBASIS_DEMO": "0"}
+    env = {**_env(), "REALBASIS_DATA_DIR": str(data), "REALBASIS_DEMO": "0",
+           "REALBASIS_LOCAL_EDITING": "1"}
     env.pop("REALBASIS_DATABASE_URL", None)
     env.pop("REALBASIS_REDIS_URL", None)
     master = subprocess.Popen([sys.executable, "-m", "gunicorn", "--no-control-socket", "-w", "1",
@@ -585,3 +586,47 @@ def _up(port: int) -> bool:
             return True
     except OSError:
         return False
+
+
+# --------------------------------------------------------------------------- sign-in bookkeeping
+
+
+def test_sessions_and_wrong_token_counts(store):
+    """Editor sessions (random ids, hashed, ended by the server) and wrong-token counts
+    shared by every process: counted exactly under concurrent failures."""
+    import datetime as dt
+    import threading
+
+    from pipeline.store import AccessContext, access_context
+
+    with access_context(AccessContext("reviewer", None, "anonymous")):  # at sign-in
+        sid = store.open_session("editor", grant="g1")
+    assert len(sid) >= 43 and store.session_role(sid, grant="g1") == "editor"
+    assert store.session_role(sid, grant="g2") is None  # another token in force
+    assert store.session_role("x" * 43, grant="g1") is None
+    assert store.close_session(sid) and store.session_role(sid, grant="g1") is None
+    assert not store.close_session(sid)
+    old = store.open_session("editor", grant="g1", lifetime=dt.timedelta(seconds=-1))
+    assert store.session_role(old, grant="g1") is None  # expired
+    store.open_session("editor", grant="g1")
+    assert store.close_sessions("editor") == 1
+
+    window = dt.timedelta(minutes=5)
+    errors: list[BaseException] = []
+
+    def fail_five() -> None:
+        try:
+            for _ in range(5):
+                store.throttle_fail("client-a", limit=30, window=window)
+        except BaseException as err:  # reported below
+            errors.append(err)
+
+    threads = [threading.Thread(target=fail_five) for _ in range(8)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    assert errors == []
+    assert store.throttle_wait("client-a", limit=40, window=window) > 0  # all 40 counted
+    assert store.throttle_wait("client-a", limit=41, window=window) == 0
+    assert store.throttle_wait("client-b", limit=1, window=window) == 0

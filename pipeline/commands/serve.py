@@ -6,6 +6,11 @@ Otherwise gunicorn serves ``dashboard.wsgi:server`` with the given number of wor
 processes, exactly as the Procfile does in production. Defaults: 127.0.0.1:8050, workers
 from REALBASIS_WORKERS (2). The dashboard is imported inside the command only, so the
 engine never imports the web stack.
+
+Serving on a loopback address without an editor token, the command turns
+``local_editing`` on (people on this machine edit without a token) unless
+REALBASIS_LOCAL_EDITING says otherwise; gunicorn started any other way (the Procfile, a
+proxy set-up) leaves it off, so there nobody edits without the editor token.
 """
 
 from __future__ import annotations
@@ -17,7 +22,7 @@ import shutil
 from pipeline.errors import fail
 from pipeline.errors import register as register_code
 from pipeline.settings import load_settings
-from pipeline.store import check_serving
+from pipeline.store import check_serving, is_loopback_host
 
 CL501 = register_code("CL501", "dashboard server could not start")
 
@@ -30,7 +35,10 @@ def _run(args: argparse.Namespace) -> int:
         raise fail(CL501, "the number of workers must be at least 1",
                    expected="--workers 1 or more", found=str(settings.workers),
                    fix="Pass --workers 1 for a single process or 2+ for gunicorn.")
-    check_serving(settings)  # beyond 127.0.0.1 only with an editor token (SH003)
+    check_serving(settings)  # beyond 127.0.0.1 only with an editor token (SH003, SH008)
+    if ("REALBASIS_LOCAL_EDITING" not in os.environ and is_loopback_host(settings.host)
+            and not settings.editor_token):
+        settings = settings.replace(local_editing=True)
     url = f"http://{settings.host}:{settings.port}/"
     gunicorn = shutil.which("gunicorn")
     if settings.workers == 1 or gunicorn is None or os.name == "nt":
@@ -41,7 +49,8 @@ def _run(args: argparse.Namespace) -> int:
         return 0
     env = dict(os.environ)
     for spec_name, env_name in (("data_dir", "REALBASIS_DATA_DIR"), ("demo", "REALBASIS_DEMO"),
-                                ("workers", "REALBASIS_WORKERS"), ("host", "REALBASIS_HOST")):
+                                ("workers", "REALBASIS_WORKERS"), ("host", "REALBASIS_HOST"),
+                                ("local_editing", "REALBASIS_LOCAL_EDITING")):
         value = getattr(settings, spec_name)
         env[env_name] = ("1" if value else "0") if isinstance(value, bool) else str(value)
     cmd = [gunicorn, "--no-control-socket", "-w", str(settings.workers),

@@ -111,7 +111,7 @@ def main() -> None:
         ref = build_workspace(data_dir)
         print(f"workspace_build_s={time.perf_counter() - t0:.2f}")
         port = free_port()
-        env = {**os.environ, "REALBASIS_DATA_DIR": str(data_dir)}
+        env = {**os.environ, "REALBASIS_DATA_DIR": str(data_dir), "REALBASIS_LOCAL_EDITING": "1"}
         for k in ("REALBASIS_DATABASE_URL", "REALBASIS_REDIS_URL"):
             env.pop(k, None)
         proc = subprocess.Popen(

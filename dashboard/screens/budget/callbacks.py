@@ -12,6 +12,7 @@ from ... import ids
 from ...components import notice, problems_view
 from ...context import context
 from ...data import WorkspaceRef
+from ...writes import writes
 from .._shared.callbacks import register_period_placeholders
 from .._shared.view import error_dicts
 from . import view
@@ -93,6 +94,7 @@ def register(app: Dash) -> None:
         State(ids.BT_OUTLAY_PROGRAM, "value"), State(ids.BT_OUTLAY, "value"),
         State(ids.WORKSPACE, "data"), prevent_initial_call=True,
     )
+    @writes("save the outlay rates")
     def _save_outlay(n: Any, program: Any, text: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None or not n:
@@ -105,6 +107,7 @@ def register(app: Dash) -> None:
         Input(ids.BT_SAVE, "n_clicks"), *(State(i, "value") for i in CHOICES),
         State(ids.WORKSPACE, "data"), prevent_initial_call=True,
     )
+    @writes("save the budget-table choices")
     def _save(n: Any, programs: Any, deflator: Any, base: Any, freq: Any, given: Any,
               interp: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)

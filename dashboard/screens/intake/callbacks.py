@@ -13,6 +13,7 @@ from ... import ids
 from ...components import notice, problems_view
 from ...context import context
 from ...data import WorkspaceRef
+from ...writes import writes
 from .._shared.view import error_dicts
 from . import view
 
@@ -40,6 +41,7 @@ def register(app: Dash) -> None:
                   Output(ids.IN_ADDED_AT, "data", allow_duplicate=True),
                   Input(ids.IN_NEW_WORKSPACE, "n_clicks"), State(ids.IN_NEW_NAME, "value"),
                   prevent_initial_call=True)
+    @writes("start a workspace")
     def _new(n: Any, name: Any) -> Any:
         if not n:
             return no_update, no_update, no_update
@@ -52,9 +54,10 @@ def register(app: Dash) -> None:
     @app.callback(Output(ids.IN_PENDING, "data"), Output(ids.IN_STATUS, "children"),
                   Output(ids.IN_KINDS, "data"), Output(ids.IN_SHEET, "value"),
                   Input(ids.IN_UPLOAD, "contents"), State(ids.IN_UPLOAD, "filename"),
-                  prevent_initial_call=True)
-    def _receive(contents: Any, filename: Any) -> Any:
-        pending, status = view.receive(rb.data, contents, filename)
+                  State(ids.WORKSPACE, "data"), prevent_initial_call=True)
+    @writes("upload a file")
+    def _receive(contents: Any, filename: Any, ref: Any) -> Any:
+        pending, status = view.receive(rb.data, contents, filename, WorkspaceRef.from_dict(ref))
         return pending, status, {}, None
 
     @app.callback(Output(ids.IN_WS_FY, "children"), Output(ids.IN_WS_FY_MONTH, "options"),
@@ -71,6 +74,7 @@ def register(app: Dash) -> None:
                   Output(ids.IN_FY_MESSAGE, "children"),
                   Input(ids.IN_FY_SAVE, "n_clicks"), State(ids.IN_WS_FY_MONTH, "value"),
                   State(ids.WORKSPACE, "data"), prevent_initial_call=True)
+    @writes("save the workspace's fiscal year")
     def _save_fiscal(n: Any, month: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None or not n:
@@ -126,6 +130,7 @@ def register(app: Dash) -> None:
                   State(ids.IN_FY_START, "value"), State(ids.IN_KINDS, "data"),
                   State(ids.IN_SHEET, "value"),
                   State(ids.WORKSPACE, "data"), prevent_initial_call=True)
+    @writes("add a file's series to the workspace")
     def _add(n: Any, pending: Any, fy_start: Any, kinds: Any, sheet: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if not n or r is None:

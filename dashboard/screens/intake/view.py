@@ -16,18 +16,17 @@ import binascii
 import calendar
 import dataclasses
 import hashlib
-import io
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
-import pandas as pd
 from dash import html, no_update
 
 from pipeline.errors import RealbasisError, fail, register
 from pipeline.model import KINDS, Series, Workspace
 from pipeline.settings import Settings
 
+from ... import bounded
 from ...components import Column, method_view, notice, problems_view, table, warnings_view
 from ...context import current
 from ...data import DEMO_NAME, DataAccess, WorkspaceRef
@@ -98,24 +97,14 @@ def _size(n: int) -> str:
     return f"{n:,} bytes"
 
 
-def preview(data: bytes, filename: str, rows: int = 8) -> tuple[list[str], list[dict[str, str]]]:
-    """The first rows of the file as text, exactly as written (no interpretation)."""
-    name = filename.lower()
-    if name.endswith((".xlsx", ".xlsm")):
-        frame = pd.read_excel(io.BytesIO(data), nrows=rows, dtype=str, header=None,
-                              engine="openpyxl")
-    else:
-        try:
-            frame = pd.read_csv(io.BytesIO(data), nrows=rows, dtype=str, header=None,
-                                sep=None, engine="python", encoding_errors="replace")
-        except (pd.errors.ParserError, UnicodeDecodeError, ValueError):
-            text = data[:4000].decode("utf-8", errors="replace").splitlines()[:rows]
-            return ["line"], [{"line": t} for t in text]
-    frame = frame.fillna("")
-    columns = [f"column {i + 1}" for i in range(frame.shape[1])]
-    out = [{c: str(v) for c, v in zip(columns, row, strict=True)}
-           for row in frame.itertuples(index=False)]
-    return columns, out
+def preview(data: bytes, filename: str, rows: int = 8, *, sheet: str | None = None,
+            settings: Any = None) -> tuple[list[str], list[dict[str, str]]]:
+    """The first rows of the file as written (no interpretation): the engine's
+    :func:`pipeline.ingest.preview`, which raises only coded errors."""
+    from pipeline.ingest import preview as engine_preview
+
+    return engine_preview(data, filename, rows, sheet=sheet,
+                          settings=settings if isinstance(settings, Settings) else None)
 
 
 def month_options(workspace_fy: int | None = None) -> list[dict[str, Any]]:
@@ -179,14 +168,48 @@ def kind_options() -> list[dict[str, str]]:
     return [{"label": words[k], "value": k} for k in KINDS]
 
 
+def _read(data: bytes, filename: str, fy_start: int | None, kinds: Mapping[str, str] | None,
+          settings: Any, sheet: str | None) -> Any:
+    from pipeline.ingest import read_file
+
+    # The choices come from the page: anything the controls cannot send counts as unset
+    # (the engine checks the values of the rest, IN021, PE1xx).
+    fy = fy_start if isinstance(fy_start, int) and not isinstance(fy_start, bool) else None
+    chosen = {str(k): str(v) for k, v in kinds.items()} if isinstance(kinds, Mapping) else {}
+    return read_file(data, filename=filename, fy_start=fy or None, kinds=chosen or None,
+                     sheet=sheet if isinstance(sheet, str) and sheet else None,
+                     settings=settings)
+
+
 def read_upload(data: bytes, filename: str, *, fy_start: int | None,
                 kinds: Mapping[str, str] | None, settings: Any = None,
                 sheet: str | None = None) -> Any:
-    """Read a file through the intake (pipeline.ingest.read_file)."""
-    from pipeline.ingest import read_file
+    """Read a file through the intake (pipeline.ingest.read_file); with the server's
+    ``settings``, in a child process bounded by ``read_memory_bytes`` and
+    ``read_seconds`` (:mod:`dashboard.bounded`: UI704, UI705)."""
+    if not isinstance(settings, Settings):
+        return _read(data, filename, fy_start, kinds, settings, sheet)
+    return bounded.run(_read, data, filename, fy_start, kinds, settings, sheet,
+                       memory_bytes=settings.read_memory_bytes,
+                       seconds=settings.read_seconds).value
 
-    return read_file(data, filename=filename, sheet=sheet or None, fy_start=fy_start or None,
-                     kinds=dict(kinds or {}) or None, settings=settings)
+
+def _read_and_preview(data: bytes, filename: str, fy_start: int | None,
+                      kinds: Mapping[str, str] | None, settings: Any, sheet: str | None
+                      ) -> tuple[Any, tuple[Any, ...], Any]:
+    """Both readings the intake screen shows, in one bounded child: (intake or None,
+    its problems when it could not be read, the preview or why there is none)."""
+    try:
+        intake, problems = _read(data, filename, fy_start, kinds, settings, sheet), ()
+    except RealbasisError as err:
+        intake, problems = None, err.problems
+    try:
+        shown: Any = preview(data, filename, sheet=sheet if isinstance(sheet, str) and sheet
+                             else None, settings=settings)
+    except RealbasisError as err:
+        p = err.problems[0]
+        shown = f"[{p.code}] {p.message}"
+    return intake, problems, shown
 
 
 def series_rows(series: Sequence[Series]) -> list[dict[str, Any]]:
@@ -273,15 +296,17 @@ def upload_limit() -> int:
     return int(Settings().max_upload_bytes)
 
 
-def receive(data: DataAccess, contents: str | None, filename: str | None
-            ) -> tuple[dict[str, str] | None, Any]:
-    """Check the size, keep the file server-side; returns (pending, status)."""
-    name = filename or "upload"
+def receive(data: DataAccess, contents: str | None, filename: str | None,
+            workspace: WorkspaceRef | None = None) -> tuple[dict[str, str] | None, Any]:
+    """Check the size, keep the file server-side for this session and ``workspace``;
+    returns (pending, status)."""
+    name = filename if isinstance(filename, str) and filename else "upload"
     try:
-        raw = decode_upload(contents, name, data.settings.max_upload_bytes)
+        raw = decode_upload(contents if isinstance(contents, str) else None, name,
+                            data.settings.max_upload_bytes)
+        upload_id = data.keep_upload(raw, name, workspace.id if workspace else None)
     except RealbasisError as err:
         return None, problems_view(error_dicts(err), title="File refused")
-    upload_id = data.keep_upload(raw, name)
     return ({"upload": upload_id, "filename": name},
             notice(f"Received {name} ({len(raw):,} bytes). Reading it…", "info"))
 
@@ -298,21 +323,26 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
     if not pending:
         return None, None, None, None, [], True, []
     step(1, 4)
+    shown: Any = None
     try:
-        raw, name = data.upload(pending["upload"])
+        raw, name = data.upload(pending.get("upload") if isinstance(pending, dict) else None)
         step(2, 4)
-        intake = read_upload(raw, name, fy_start=fy_start or workspace_fy, kinds=kinds,
-                             settings=data.settings, sheet=sheet)
+        s = data.settings
+        intake, problems, shown = bounded.run(
+            _read_and_preview, raw, name, fy_start or workspace_fy, kinds, s, sheet,
+            memory_bytes=s.read_memory_bytes, seconds=s.read_seconds).value
+        if intake is None:
+            raise RealbasisError(problems)
     except RealbasisError as err:
         step(4, 4)
-        lines = [f"{pending.get('filename', 'The file')} could not be read."]
+        lines = [f"{_name(pending)} could not be read."]
         if "PE102" in err.codes:
             lines.append("Choose the month the fiscal year starts in under 'Fiscal year of "
                          "this workspace' above (saved with the workspace) or under 'How the "
                          "file is read' below (for this file); the file is then read again.")
         return (notice(lines, "error"),
                 None, problems_view(error_dicts(err), title="The file cannot be read"),
-                _preview(pending, data), [], True, [])
+                _preview_view(shown), [], True, [])
     step(3, 4)
     view = intake_view(intake, name)
     tone = "ok" if view.can_add else ("error" if view.problems else "warn")
@@ -325,16 +355,22 @@ def interpret(data: DataAccess, pending: dict[str, str] | None, fy_start: int | 
     options = [{"label": n, "value": n} for n in view.names]
     sheets = [{"label": str(n), "value": str(n)} for n in getattr(intake, "sheets", ()) or ()]
     step(4, 4)
-    return (summary, series_table, problems, _preview(pending, data), options,
+    return (summary, series_table, problems, _preview_view(shown), options,
             not view.can_add, sheets)
 
 
-def _preview(pending: dict[str, str], data: DataAccess) -> Any:
-    try:
-        raw, name = data.upload(pending["upload"])
-        columns, rows = preview(raw, name)
-    except (RealbasisError, ValueError, OSError) as err:
-        return html.P(f"No preview: {err}")
+def _name(pending: Any) -> str:
+    name = pending.get("filename") if isinstance(pending, dict) else None
+    return str(name)[:255] if name else "The file"
+
+
+def _preview_view(shown: Any) -> Any:
+    """The first rows as written (a table), or in words why there is none."""
+    if shown is None:
+        return None
+    if isinstance(shown, str):
+        return html.P(f"No preview: {shown}.")
+    columns, rows = shown
     return table([Column(c, c) for c in columns], rows)
 
 
@@ -426,7 +462,8 @@ def add_with_summary(data: DataAccess, ref: WorkspaceRef, pending: dict[str, str
     try:
         from pipeline.fiscal import fiscal_start_of
 
-        raw, name = data.upload(pending["upload"])
+        raw, name = data.upload(pending.get("upload") if isinstance(pending, dict) else None,
+                                ref.id)
         ws = data.load(ref)
         intake = read_upload(raw, name, fy_start=fy_start or fiscal_start_of(ws), kinds=kinds,
                              settings=data.settings, sheet=sheet)

@@ -11,6 +11,7 @@ from pipeline.errors import RealbasisError
 from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
+from ...writes import writes
 from .._shared.callbacks import (
     register_base_follows_series,
     register_frequency_options,
@@ -121,6 +122,7 @@ def register(app: Dash) -> None:
         State(pair, "value"), State(pair, "id"), State(ids.RT_CHAIN, "value"),
         State(ids.WORKSPACE, "data"), prevent_initial_call=True,
     )
+    @writes("save the real-terms choices")
     def _save(n: Any, series: Any, deflator: Any, base: Any, freq: Any, sa: Any, interp: Any,
               outlay: Any, values: Any, pair_ids: Any, chain: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
@@ -149,6 +151,7 @@ def register(app: Dash) -> None:
                  (Output(ids.RT_SA_ALL, "disabled"), True, False)],
         prevent_initial_call=True,
     )
+    @writes("seasonally adjust the workspace's series")
     def _adjust_all(set_progress: Any, n: Any, method: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if not n or r is None:

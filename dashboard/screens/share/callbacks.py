@@ -13,6 +13,7 @@ from ... import ids
 from ...components import notice, problems_view
 from ...context import context
 from ...data import WorkspaceRef
+from ...writes import writes
 from .._shared.view import error_dicts
 from . import view
 
@@ -39,19 +40,34 @@ def register(app: Dash) -> None:
         return view.audit_view(rb.data.store, r.id)
 
     @app.callback(Output(ids.SX_LINKS, "children"), Output(ids.SX_REVOKE_ID, "options"),
-                  Output(ids.SX_LINK_NEW, "children"),
-                  Input(ids.WORKSPACE, "data"), Input(ids.SX_LINK_CREATE, "n_clicks"),
-                  Input(ids.SX_REVOKE, "n_clicks"),
+                  Output(ids.SX_LINK_NEW, "children"), Input(ids.WORKSPACE, "data"))
+    def _links(ref: Any) -> Any:
+        r = WorkspaceRef.from_dict(ref)
+        if r is None:
+            return no_update, no_update, no_update
+        if current_access().read_only:
+            return None, [], None  # nothing to show a reviewer; changes would be refused
+        try:
+            links, options = view.links_view(rb.data.store, r.id)
+        except RealbasisError as err:
+            return no_update, no_update, problems_view(error_dicts(err), title="Not done")
+        return links, options, None
+
+    @app.callback(Output(ids.SX_LINKS, "children", allow_duplicate=True),
+                  Output(ids.SX_REVOKE_ID, "options", allow_duplicate=True),
+                  Output(ids.SX_LINK_NEW, "children", allow_duplicate=True),
+                  Input(ids.SX_LINK_CREATE, "n_clicks"), Input(ids.SX_REVOKE, "n_clicks"),
                   State(ids.SX_LINK_LABEL, "value"), State(ids.SX_LINK_DAYS, "value"),
-                  State(ids.SX_REVOKE_ID, "value"))
-    def _links(ref: Any, _c: Any, _r: Any, label: Any, days: Any, revoke_id: Any) -> Any:
+                  State(ids.SX_REVOKE_ID, "value"), State(ids.WORKSPACE, "data"),
+                  prevent_initial_call=True)
+    @writes("create or revoke a reviewer link")
+    def _link_change(_c: Any, _r: Any, label: Any, days: Any, revoke_id: Any,
+                     ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update, no_update, no_update
         store = rb.data.store
         trigger = ctx.triggered_id
-        if current_access().read_only and trigger == ids.WORKSPACE:
-            return None, [], None  # nothing to show a reviewer; changes would be refused
         message: Any = None
         try:
             if trigger == ids.SX_LINK_CREATE:
@@ -60,10 +76,11 @@ def register(app: Dash) -> None:
             elif trigger == ids.SX_REVOKE and revoke_id:
                 info = store.revoke_link(str(revoke_id), actor=current_access().actor)
                 message = notice(f"Link {info.id} revoked: it no longer opens anything.", "ok")
+            else:
+                return no_update, no_update, no_update
             links, options = view.links_view(store, r.id)
         except RealbasisError as err:
-            return no_update, no_update, problems_view(error_dicts(err),
-                                                       title="Not done")
+            return no_update, no_update, problems_view(error_dicts(err), title="Not done")
         return links, options, message
 
     @app.callback(

@@ -9,6 +9,7 @@ from dash import Dash, Input, Output, State, ctx, no_update
 from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
+from ...writes import writes
 from .._shared.callbacks import register_period_placeholders
 from . import view
 
@@ -49,6 +50,7 @@ def register(app: Dash) -> None:
         State(ids.SH_COST_WEIGHTS, "value"), State(ids.SH_COST_METHOD, "value"),
         State(ids.WORKSPACE, "data"), prevent_initial_call=True,
     )
+    @writes("add an index to the workspace")
     def _act(_r: Any, _p: Any, _l: Any, _c: Any, target: Any, base: Any, rate: Any,
              until: Any, old: Any, new: Any, overlap: Any, cname: Any, comps: Any,
              weights: Any, method: Any, ref: Any) -> Any:
