@@ -306,12 +306,14 @@ class Gate:
 
     def callback_guard(self, ctx: AccessContext) -> flask.Response | None:
         """A callback request names the callback it runs by ``output``: refuse one Dash
-        would not find (400, for everyone) and, for a reviewer, one that writes (403),
+        would not find or that runs only in the browser (400, for everyone) and, for a reviewer, one that writes (403),
         before it runs — whatever the request says changed."""
         body = flask.request.get_json(silent=True)
         output = body.get("output") if isinstance(body, dict) else None
         if not isinstance(output, str) or (
-                self.app is not None and output not in self.app.callback_map):
+                self.app is not None
+                # a clientside callback runs in the browser: the server has no function
+                and "callback" not in self.app.callback_map.get(output, {})):
             return refusal(UI702, "this is not a request the dashboard answers", "Reload the "
                            "page; if that does not help the page is older than the server.",
                            400)

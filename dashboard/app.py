@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Any
 from urllib.parse import parse_qs, urlencode
 
-from dash import Dash, Input, Output, ctx, dcc, html, no_update
+from dash import ClientsideFunction, Dash, Input, Output, State, ctx, dcc, html, no_update
 
 from pipeline.settings import Settings, load_settings
 from pipeline.store import WorkspaceStore
@@ -26,6 +26,7 @@ from pipeline.store import WorkspaceStore
 from . import access, failures, ids, jobs
 from .context import AppContext, attach, context
 from .data import DEMO_NAME, DataAccess, WorkspaceRef
+from .results import ResultCache
 from .screens import ScreenInfo, discover
 from .secret import secret_key
 
@@ -68,6 +69,9 @@ def address_for(search: str, ref: WorkspaceRef | None) -> Any:
 
 
 def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
+    """The page: header, navigation, one section per screen (all but the first hidden
+    until the address says otherwise) and the stores the shell keeps: the workspace, the
+    screen shown and, per screen, the workspace gate its callbacks compute for."""
     first = screens[0].key if screens else ""
     nav = html.Nav(
         [html.Button(s.title, id=ids.nav_button(s.key), n_clicks=0, type="button",
@@ -77,10 +81,15 @@ def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
     sections = [html.Section(s.layout(), id=ids.screen_container(s.key), hidden=s.key != first,
                              className="rb-screen", **{"aria-label": s.title})
                 for s in screens]
+    stores = [dcc.Store(id=ids.screen_ref(s.key), storage_type="memory") for s in screens]
+    stores += [dcc.Store(id=ids.screen_address(s.key), storage_type="memory",
+                         data={"key": s.key, "names": list(s.params)})
+               for s in screens if s.params]
     return html.Div([
         dcc.Location(id=ids.URL, refresh=False),
         dcc.Store(id=ids.WORKSPACE, storage_type="memory"),
         dcc.Store(id=ids.SCREEN, data=first),
+        *stores,
         html.Div(id=ids.PAGE_PROBLEM, className="rb-page-problem", **{"aria-live": "assertive"}),
         html.Header([
             html.Div([html.H1(APP_TITLE), html.P(TAGLINE, className="rb-tagline")],
@@ -96,12 +105,12 @@ def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
 
 def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
     keys = [s.key for s in screens]
-    titles = {s.key: s.title for s in screens}
     rb = context(app)
 
     @app.callback(
         Output(ids.WORKSPACE, "data"), Output(ids.URL, "search"),
         Input(ids.URL, "search"), Input(ids.WORKSPACE, "data"),
+        prevent_initial_call=False,  # the one server callback of a first load
     )
     def _workspace(search: str | None, current: Any) -> Any:
         """The address picks the workspace; a workspace changed by a screen (a new one,
@@ -122,23 +131,36 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
         ws = rb.data.load(ref)
         return ["Workspace: ", html.Strong(ws.name), f" · version {ws.version:,}"]
 
-    @app.callback(
+    # Screen switching runs in the browser (no round trip): the address's #key, or a click
+    # on the navigation, shows one section and records the key in SCREEN.
+    app.clientside_callback(
+        ClientsideFunction("realbasis", "switchScreen"),
         [Output(ids.screen_container(k), "hidden") for k in keys]
         + [Output(ids.nav_button(k), "className") for k in keys]
         + [Output(ids.SCREEN, "data")],
         [Input(ids.nav_button(k), "n_clicks") for k in keys] + [Input(ids.URL, "hash")],
+        State(ids.SCREEN, "data"),
+        prevent_initial_call=False,
     )
-    def _switch(*args: Any) -> list[Any]:
-        trigger = ctx.triggered_id
-        if isinstance(trigger, str) and trigger.startswith("rb-nav-"):
-            chosen = trigger.removeprefix("rb-nav-")
-        else:
-            chosen = (args[-1] or "").lstrip("#")
-        if chosen not in titles:
-            chosen = keys[0]
-        return ([k != chosen for k in keys]
-                + ["rb-nav-button" + (" rb-nav-active" if k == chosen else "") for k in keys]
-                + [chosen])
+    # The gate: the shown screen's workspace store follows WORKSPACE; hidden screens' stores
+    # stay as they were, so their callbacks do not run until they are opened.
+    app.clientside_callback(
+        ClientsideFunction("realbasis", "gateScreens"),
+        [Output(ids.screen_ref(k), "data") for k in keys],
+        Input(ids.WORKSPACE, "data"), Input(ids.SCREEN, "data"),
+        [State(ids.screen_ref(k), "data") for k in keys],
+    )
+    # Each screen's choices go into the address (#key?name=value...), so a reload or a
+    # copied address opens the same view (the screens read them back: address_choices).
+    for s in screens:
+        if not s.params:
+            continue
+        app.clientside_callback(
+            ClientsideFunction("realbasis", "rememberChoices"),
+            Output(ids.screen_address(s.key), "data"),
+            [Input(cid, "value") for cid in s.params.values()],
+            State(ids.SCREEN, "data"), State(ids.screen_address(s.key), "data"),
+        )
 
 
 REQUEST_ALLOWANCE = 64 * 1024
@@ -187,6 +209,9 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
         background_callback_manager=jobs.make_manager(settings),
         serve_locally=True,
         on_error=failures.on_callback_error,
+        # Nothing computes on load except the workspace lookup (shell, prevent_initial_call
+        # =False); each screen's callbacks run once its gate store is set (when shown).
+        prevent_initial_callbacks=True,
     )
     server = app.server
     server.secret_key = secret_key(settings)
@@ -195,7 +220,7 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
     # reads them (the 413 answer below says UI001); the intake checks the decoded size too.
     server.config["MAX_CONTENT_LENGTH"] = request_limit(settings.max_upload_bytes)
     server.register_error_handler(413, lambda _err: too_large_response(settings))
-    rb = AppContext(settings, data, screens)
+    rb = AppContext(settings, data, screens, results=ResultCache(settings))
     rb.resolve_workspace = default_resolver(data)
     attach(app, rb)
     app.layout = lambda: shell_layout(screens)

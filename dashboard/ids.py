@@ -25,6 +25,19 @@ def screen_container(key: str) -> str:
     return f"rb-screen-{key}"
 
 
+def screen_ref(key: str) -> str:
+    """dcc.Store: the workspace ref a screen's callbacks compute for. The shell copies
+    WORKSPACE into it only while the screen is shown (dashboard/app.py), so a hidden
+    screen computes nothing; it catches up when opened."""
+    return f"rb-ref-{key}"
+
+
+def screen_address(key: str) -> str:
+    """dcc.Store written by the clientside callback that keeps a screen's choices in the
+    page address (#key?name=value...); its data is never read."""
+    return f"rb-address-{key}"
+
+
 # Intake
 IN_UPLOAD = "in-upload"
 IN_UPLOAD_BOX = "in-upload-box"     # carries the size limit for assets/upload-limit.js
@@ -103,6 +116,7 @@ RT_OUTLAY_STATE = "rt-outlay-state"  # saved or not
 RT_DEFLATOR_BOX = "rt-deflator-box"   # the one-deflator field (hidden for a total of parts)
 RT_PARTS_BOX = "rt-parts-box"       # the total of parts' choices (shown for it only)
 RT_PAIRS = "rt-pairs"               # one deflator picker per part, built by a callback
+RT_PAIRS_STAMP = "rt-pairs-stamp"   # dcc.Store: bumped each time the pickers are rebuilt
 RT_PAIR = "rt-pair"                 # pattern-matching type: {"type": RT_PAIR, "part": name}
 RT_CHAIN = "rt-chain"               # none | fisher | annual
 RT_CONTRIB_BOX = "rt-contrib-box"   # contributions chart and table (total of parts only)

@@ -85,6 +85,10 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Flask secret shared by all workers; default: generated once into data_dir."),
     SettingSpec("cache_dir", "REALBASIS_CACHE_DIR", None, _opt_str,
                 "Shared folder for background-job cache; default data_dir/jobs."),
+    SettingSpec("result_cache_mb", "REALBASIS_RESULT_CACHE_MB", 256, _int,
+                "Megabytes of computed screen results kept for reuse by every worker "
+                "(diskcache in data_dir/results, or Redis when REALBASIS_REDIS_URL is set); "
+                "0 turns the cache off."),
     SettingSpec("demo", "REALBASIS_DEMO", True, _bool,
                 "Open on the demo workspace when no workspace is chosen."),
     SettingSpec("local_editing", "REALBASIS_LOCAL_EDITING", False, _bool,
@@ -126,6 +130,7 @@ class Settings:
     editor_token: str | None = None
     secret_key: str | None = None
     cache_dir: str | None = None
+    result_cache_mb: int = 256
     demo: bool = True
     local_editing: bool = False
     trusted_proxies: str = ""

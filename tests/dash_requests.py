@@ -12,6 +12,20 @@ from collections.abc import Iterable, Mapping
 from typing import Any
 
 _MULTI = re.compile(r"^\.\.(.*)\.\.$")
+GATE = "rb-ref-"
+"""Id prefix of the screens' workspace gates (dashboard.ids.screen_ref): a value given for
+``rb-workspace.data`` (WORKSPACE) fills them too, as the shell does for the shown screen."""
+WORKSPACE = "rb-workspace.data"
+
+
+def value_for(values: Mapping[str, Any], item: Mapping[str, Any]) -> Any:
+    """The value of one input or state (``{"id", "property"}``) in ``values``; a screen's
+    gate takes the workspace's value when it has none of its own (a shown screen's gate
+    holds what the workspace store holds, dashboard/app.py)."""
+    value = values.get(f"{item['id']}.{item['property']}")
+    if value is None and str(item["id"]).startswith(GATE) and item["property"] == "data":
+        value = values.get(WORKSPACE)
+    return value
 
 
 def outputs(dep: Mapping[str, Any]) -> list[str]:
@@ -56,8 +70,7 @@ def body(dep: Mapping[str, Any], values: Mapping[str, Any] | None = None,
     outs = [_split(o) for o in outputs(dep)]
 
     def item(i: Mapping[str, Any]) -> dict[str, Any]:
-        return {"id": i["id"], "property": i["property"],
-                "value": values.get(f"{i['id']}.{i['property']}")}
+        return {"id": i["id"], "property": i["property"], "value": value_for(values, i)}
 
     first = dep["inputs"][0] if dep["inputs"] else None
     return {

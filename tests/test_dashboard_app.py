@@ -8,6 +8,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from dash_requests import value_for
 
 from dashboard import ids
 from dashboard.app import create_app
@@ -32,8 +33,8 @@ def call(client: Any, deps: list[dict[str, Any]], output: str, values: dict[str,
     body = {
         "output": dep["output"],
         "outputs": outs if len(outs) > 1 else outs[0],
-        "inputs": [{**i, "value": values.get(f"{i['id']}.{i['property']}")} for i in dep["inputs"]],
-        "state": [{**s, "value": values.get(f"{s['id']}.{s['property']}")} for s in dep["state"]],
+        "inputs": [{**i, "value": value_for(values, i)} for i in dep["inputs"]],
+        "state": [{**s, "value": value_for(values, s)} for s in dep["state"]],
         "changedPropIds": [changed],
     }
     r = client.post("/_dash-update-component", json=body)

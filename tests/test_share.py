@@ -234,7 +234,7 @@ def _deps(client):
     return r.get_json() if hasattr(r, "get_json") else r.json()
 
 
-def _links_body(deps, ref, trigger="rb-workspace.data", label="audit", days=None):
+def _links_body(deps, ref, trigger="rb-ref-share.data", label="audit", days=None):
     """The Share screen's links callbacks: listing (on the workspace) or changing them
     (the create and revoke buttons, a callback registered as writing)."""
     dep = dash_requests.find(deps, output="sx-links.children", trigger=trigger)

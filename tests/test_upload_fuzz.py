@@ -71,6 +71,7 @@ def _drop(site: dict[str, Any], session: requests.Session, name: str, data: byte
     if r.status_code != 200:
         return statuses, r.text
     shown = json.dumps(r.json())
+    assert ids.IN_PENDING in r.json()["response"], (name, shown[:800])
     pending = r.json()["response"][ids.IN_PENDING]["data"]
     if not pending:
         return statuses, shown

@@ -8,6 +8,10 @@ A screen is a package in this package (``dashboard/screens/<key>/``) whose
     ORDER: int       position on the navigation bar (10, 20, ...)
     EDITOR_ONLY      optional; True hides the screen from reviewer links (read by the
                      access layer)
+    PARAMS           optional; {address name: component id} of the choices kept in the
+                     page address (#key?name=value...) so a reload or a shared link opens
+                     the same view; the screen reads them back with
+                     ``_shared.view.address_choices``
     layout           def layout() -> Component: the page, from ``layout.py`` (no data;
                      callbacks fill it)
     register         def register(app: Dash) -> None: its callbacks, from ``callbacks.py``
@@ -24,7 +28,7 @@ from __future__ import annotations
 
 import importlib
 import pkgutil
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import ModuleType
 from typing import Any
 
@@ -36,6 +40,7 @@ class ScreenInfo:
     order: int
     module: ModuleType
     editor_only: bool = False
+    params: dict[str, str] = field(default_factory=dict)
 
     def layout(self) -> Any:
         return self.module.layout()
@@ -57,8 +62,12 @@ def discover() -> tuple[ScreenInfo, ...]:
                    if not hasattr(module, a)]
         if missing:
             raise TypeError(f"screen module {module.__name__} lacks {', '.join(missing)}")
+        if info.name != module.KEY:
+            raise ValueError(f"screen {module.__name__}: KEY must be the package name "
+                             f"{info.name!r}, found {module.KEY!r}")
         found.append(ScreenInfo(module.KEY, module.TITLE, int(module.ORDER), module,
-                                bool(getattr(module, "EDITOR_ONLY", False))))
+                                bool(getattr(module, "EDITOR_ONLY", False)),
+                                dict(getattr(module, "PARAMS", {}))))
     keys = [s.key for s in found]
     if len(set(keys)) != len(keys):
         raise ValueError(f"duplicate screen keys: {keys}")

@@ -847,3 +847,37 @@ def quantile_words(quantiles: Sequence[float]) -> str:
     """'10 %–90 % quantiles'."""
     lo, hi = quantiles
     return f"{100 * lo:.0f} %–{100 * hi:.0f} % quantiles"
+
+
+# --------------------------------------------------------------------------- the address
+
+
+@dataclass(frozen=True)
+class Asked:
+    """Choices the page address holds for one screen (``#key?name=value&...``, written by
+    the shell's clientside callback, dashboard/assets/shell.js)."""
+
+    values: dict[str, tuple[str, ...]]
+
+    def get(self, name: str, *, multi: bool = False) -> Any:
+        """The value named ``name`` (a list of them with ``multi``), or None."""
+        found = self.values.get(name)
+        if not found:
+            return None
+        return list(found) if multi else found[0]
+
+
+def address_choices(hash_: Any, key: str) -> Asked:
+    """The choices for screen ``key`` in the address's fragment (``#real?series=Apparel
+    revenue&base=2024``): nothing when the fragment names another screen or none. The
+    screens use them only where no current choice is on the page (a reload, a shared
+    address), and every value still passes the screen's own checks (an option that is not
+    offered is not chosen)."""
+    from urllib.parse import parse_qs, unquote
+
+    text = str(hash_ or "").lstrip("#")
+    screen, _, query = text.partition("?")
+    if unquote(screen) != key or not query:
+        return Asked({})
+    parsed = parse_qs(query, keep_blank_values=False)
+    return Asked({k: tuple(v) for k, v in parsed.items()})

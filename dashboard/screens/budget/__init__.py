@@ -15,11 +15,16 @@ the view model they call.
 
 from __future__ import annotations
 
+from ... import ids
 from .callbacks import register
 from .layout import layout
 
 KEY = "budget"
+"""Short id of the screen (the package's name): element ids, the address (#budget)."""
 TITLE = "Budget table"
 ORDER = 35
 
-__all__ = ["KEY", "ORDER", "TITLE", "layout", "register"]
+PARAMS = {"programs": ids.BT_PROGRAMS, "deflator": ids.BT_DEFLATOR, "base": ids.BT_BASE}
+"""Choices kept in the page address (#budget?name=value...)."""
+
+__all__ = ["KEY", "ORDER", "PARAMS", "TITLE", "layout", "register"]

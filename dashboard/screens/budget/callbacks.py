@@ -14,8 +14,14 @@ from ...context import context
 from ...data import WorkspaceRef
 from ...writes import writes
 from .._shared.callbacks import register_period_placeholders
-from .._shared.view import error_dicts
+from .._shared.view import address_choices, error_dicts
 from . import view
+
+KEY = __package__.rsplit(".", 1)[-1]
+"""The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
+REF = ids.screen_ref(KEY)
+"""The workspace this screen computes for (set by the shell only while it is shown)."""
+
 
 CHOICES = (ids.BT_PROGRAMS, ids.BT_DEFLATOR, ids.BT_BASE, ids.BT_FREQ, ids.BT_GIVEN,
            ids.BT_INTERP)
@@ -24,7 +30,7 @@ CHOICES = (ids.BT_PROGRAMS, ids.BT_DEFLATOR, ids.BT_BASE, ids.BT_FREQ, ids.BT_GI
 def register(app: Dash) -> None:
     rb = context(app)
 
-    register_period_placeholders(app, rb, ids.BT_BASE)
+    register_period_placeholders(app, rb, REF, ids.BT_BASE)
 
     def load(ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
@@ -35,42 +41,52 @@ def register(app: Dash) -> None:
         Output(ids.BT_FREQ, "options"), Output(ids.BT_BASE, "value"),
         Output(ids.BT_FREQ, "value"), Output(ids.BT_GIVEN, "value"),
         Output(ids.BT_INTERP, "value"),
-        Input(ids.WORKSPACE, "data"),
-        State(ids.BT_PROGRAMS, "value"), State(ids.BT_BASE, "value"),
+        Input(REF, "data"),
+        State(ids.BT_PROGRAMS, "value"), State(ids.BT_BASE, "value"), State(ids.URL, "hash"),
     )
-    def _options(ref: Any, programs: Any, base: Any) -> Any:
+    def _options(ref: Any, programs: Any, base: Any, hash_: Any) -> Any:
         ws = load(ref)
-        return no_update if ws is None else view.options_for(ws, programs, base)
+        if ws is None:
+            return no_update
+        asked = address_choices(hash_, KEY)
+        return view.options_for(ws, programs or asked.get("programs", multi=True),
+                                base or asked.get("base"))
 
     @app.callback(
         Output(ids.BT_DEFLATOR, "options"), Output(ids.BT_DEFLATOR, "value"),
         Output(ids.BT_DEFLATOR_WHY, "children"),
-        Input(ids.WORKSPACE, "data"), Input(ids.BT_PROGRAMS, "value"),
+        Input(REF, "data"), Input(ids.BT_PROGRAMS, "value"),
         Input(ids.BT_BASE, "value"), Input(ids.BT_FREQ, "value"), Input(ids.BT_INTERP, "value"),
-        State(ids.BT_DEFLATOR, "value"),
+        State(ids.BT_DEFLATOR, "value"), State(ids.URL, "hash"),
     )
     def _deflators(ref: Any, programs: Any, base: Any, freq: Any, interp: Any,
-                   deflator: Any) -> Any:
+                   deflator: Any, hash_: Any) -> Any:
         ws = load(ref)
-        return (no_update if ws is None else
-                view.deflator_picker(ws, programs, deflator, base, freq, interp))
+        if ws is None:
+            return no_update
+        deflator = deflator or address_choices(hash_, KEY).get("deflator")
+        choices = (programs, deflator, base, freq, interp)
+        return rb.cached(ws, "budget.deflators", choices,
+                         lambda: view.deflator_picker(ws, *choices))
 
     @app.callback(
         Output(ids.BT_TITLE, "children"), Output(ids.BT_SUMMARY, "children"),
         Output(ids.BT_FIGURE, "figure"), Output(ids.BT_TABLE, "children"),
         Output(ids.BT_WARNINGS, "children"), Output(ids.BT_METHOD, "children"),
-        *(Input(i, "value") for i in CHOICES), Input(ids.WORKSPACE, "data"),
+        *(Input(i, "value") for i in CHOICES), Input(REF, "data"),
     )
     def _compute(programs: Any, deflator: Any, base: Any, freq: Any, given: Any,
                  interp: Any, ref: Any) -> Any:
         ws = load(ref)
-        return (no_update if ws is None else
-                view.outputs(ws, programs, deflator, base, freq, given, interp))
+        if ws is None:
+            return no_update
+        choices = (programs, deflator, base, freq, given, interp)
+        return rb.cached(ws, "budget.outputs", choices, lambda: view.outputs(ws, *choices))
 
     @app.callback(
         Output(ids.BT_OUTLAY_PROGRAM, "options"), Output(ids.BT_OUTLAY_PROGRAM, "value"),
         Output(ids.BT_OUTLAY_SAVED, "children"),
-        Input(ids.BT_PROGRAMS, "value"), Input(ids.WORKSPACE, "data"),
+        Input(ids.BT_PROGRAMS, "value"), Input(REF, "data"),
         State(ids.BT_OUTLAY_PROGRAM, "value"),
     )
     def _outlay_programs(programs: Any, ref: Any, current: Any) -> Any:
@@ -82,7 +98,7 @@ def register(app: Dash) -> None:
         return opts, chosen, view.outlay_saved_view(ws, programs)
 
     @app.callback(Output(ids.BT_OUTLAY, "value"),
-                  Input(ids.BT_OUTLAY_PROGRAM, "value"), Input(ids.WORKSPACE, "data"))
+                  Input(ids.BT_OUTLAY_PROGRAM, "value"), Input(REF, "data"))
     def _outlay_text(program: Any, ref: Any) -> Any:
         ws = load(ref)
         return no_update if ws is None else view.outlay_text(ws, program)
@@ -92,7 +108,7 @@ def register(app: Dash) -> None:
         Output(ids.BT_OUTLAY_MESSAGE, "children"),
         Input(ids.BT_OUTLAY_SAVE, "n_clicks"),
         State(ids.BT_OUTLAY_PROGRAM, "value"), State(ids.BT_OUTLAY, "value"),
-        State(ids.WORKSPACE, "data"), prevent_initial_call=True,
+        State(REF, "data"), prevent_initial_call=True,
     )
     @writes("save the outlay rates")
     def _save_outlay(n: Any, program: Any, text: Any, ref: Any) -> Any:
@@ -105,7 +121,7 @@ def register(app: Dash) -> None:
     @app.callback(
         Output(ids.WORKSPACE, "data", allow_duplicate=True), Output(ids.BT_SAVED, "children"),
         Input(ids.BT_SAVE, "n_clicks"), *(State(i, "value") for i in CHOICES),
-        State(ids.WORKSPACE, "data"), prevent_initial_call=True,
+        State(REF, "data"), prevent_initial_call=True,
     )
     @writes("save the budget-table choices")
     def _save(n: Any, programs: Any, deflator: Any, base: Any, freq: Any, given: Any,
@@ -126,7 +142,7 @@ def register(app: Dash) -> None:
     @app.callback(
         Output(ids.BT_DOWNLOAD, "data"), Output(ids.BT_DL_STATUS, "children"),
         Input(ids.BT_DL_CSV, "n_clicks"), Input(ids.BT_DL_XLSX, "n_clicks"),
-        *(State(i, "value") for i in CHOICES), State(ids.WORKSPACE, "data"),
+        *(State(i, "value") for i in CHOICES), State(REF, "data"),
         background=True, prevent_initial_call=True,
         running=[(Output(ids.BT_DL_CSV, "disabled"), True, False),
                  (Output(ids.BT_DL_XLSX, "disabled"), True, False),

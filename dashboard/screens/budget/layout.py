@@ -4,10 +4,12 @@ from __future__ import annotations
 
 from dash import dcc, html
 
+from pipeline.model import Workspace
+
 from ... import ids
 from ...components import cautions_view, dropdown, field, progress_bar, screen
 from ...figures import empty_figure
-from .._shared.view import interpolation_switch, period_placeholder
+from .._shared.view import frequency_options, interpolation_switch, period_placeholder
 from .view import FORMATS, GIVEN
 
 
@@ -31,7 +33,9 @@ def layout() -> html.Div:
                                      placeholder=period_placeholder(None),
                                      className="rb-input"), ids.BT_BASE,
               hint="Constant dollars of this year; empty = the last full year."),
-        field("Show as", dcc.Dropdown(id=ids.BT_FREQ, options=[], value="auto",
+        # the value must be among the options from the start: a dropdown clears a value it
+        # does not offer, and that clearing would run the screen's callbacks while hidden
+        field("Show as", dcc.Dropdown(id=ids.BT_FREQ, options=frequency_options(Workspace("", ""), None)[:1], value="auto",
                                       clearable=False, className="rb-dropdown"), ids.BT_FREQ),
         field("The amounts are", dcc.RadioItems(
             id=ids.BT_GIVEN, value="then-year", className="rb-radio",

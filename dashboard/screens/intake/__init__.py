@@ -17,6 +17,7 @@ from .callbacks import register
 from .layout import layout
 
 KEY = "intake"
+"""Short id of the screen (the package's name): element ids, the address (#intake)."""
 TITLE = "Data intake"
 ORDER = 10
 # Reviewers see this screen too, read-only: the part marked EDITOR_ONLY_CLASS (workspace

@@ -17,18 +17,23 @@ from ...writes import writes
 from .._shared.view import error_dicts
 from . import view
 
+KEY = __package__.rsplit(".", 1)[-1]
+"""The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
+REF = ids.screen_ref(KEY)
+"""The workspace this screen computes for (set by the shell only while it is shown)."""
+
 
 def register(app: Dash) -> None:
     rb = context(app)
 
     @app.callback(Output(ids.IN_WORKSPACE_LIST, "options"), Output(ids.IN_WORKSPACE_LIST, "value"),
-                  Input(ids.WORKSPACE, "data"))
+                  Input(REF, "data"))
     def _workspaces(ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         return view.workspace_options(rb.data), (r.id if r else None)
 
     @app.callback(Output(ids.URL, "search", allow_duplicate=True),
-                  Input(ids.IN_WORKSPACE_LIST, "value"), State(ids.WORKSPACE, "data"),
+                  Input(ids.IN_WORKSPACE_LIST, "value"), State(REF, "data"),
                   prevent_initial_call=True)
     def _open(chosen: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
@@ -54,7 +59,7 @@ def register(app: Dash) -> None:
     @app.callback(Output(ids.IN_PENDING, "data"), Output(ids.IN_STATUS, "children"),
                   Output(ids.IN_KINDS, "data"), Output(ids.IN_SHEET, "value"),
                   Input(ids.IN_UPLOAD, "contents"), State(ids.IN_UPLOAD, "filename"),
-                  State(ids.WORKSPACE, "data"), prevent_initial_call=True)
+                  State(REF, "data"), prevent_initial_call=True)
     @writes("upload a file")
     def _receive(contents: Any, filename: Any, ref: Any) -> Any:
         pending, status = view.receive(rb.data, contents, filename, WorkspaceRef.from_dict(ref))
@@ -62,7 +67,7 @@ def register(app: Dash) -> None:
 
     @app.callback(Output(ids.IN_WS_FY, "children"), Output(ids.IN_WS_FY_MONTH, "options"),
                   Output(ids.IN_WS_FY_MONTH, "value"), Output(ids.IN_FY_START, "options"),
-                  Input(ids.WORKSPACE, "data"))
+                  Input(REF, "data"))
     def _fiscal(ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
@@ -73,7 +78,7 @@ def register(app: Dash) -> None:
     @app.callback(Output(ids.WORKSPACE, "data", allow_duplicate=True),
                   Output(ids.IN_FY_MESSAGE, "children"),
                   Input(ids.IN_FY_SAVE, "n_clicks"), State(ids.IN_WS_FY_MONTH, "value"),
-                  State(ids.WORKSPACE, "data"), prevent_initial_call=True)
+                  State(REF, "data"), prevent_initial_call=True)
     @writes("save the workspace's fiscal year")
     def _save_fiscal(n: Any, month: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
@@ -83,12 +88,12 @@ def register(app: Dash) -> None:
         return (new_ref.as_dict() if new_ref else no_update), message
 
     @app.callback(Output(ids.IN_WS_SERIES, "children"), Output(ids.IN_UPLOADS, "children"),
-                  Input(ids.WORKSPACE, "data"))
+                  Input(REF, "data"))
     def _contents(ref: Any) -> Any:
         return view.workspace_contents(rb.data, WorkspaceRef.from_dict(ref))
 
     @app.callback(Output(ids.IN_ADDED, "children", allow_duplicate=True),
-                  Input(ids.WORKSPACE, "data"), State(ids.IN_ADDED_AT, "data"),
+                  Input(REF, "data"), State(ids.IN_ADDED_AT, "data"),
                   prevent_initial_call=True)
     def _confirmation(ref: Any, added_at: Any) -> Any:
         return view.confirmation_after_change(added_at, WorkspaceRef.from_dict(ref))
@@ -100,7 +105,7 @@ def register(app: Dash) -> None:
         Output(ids.IN_SHEET, "options"), Output(ids.IN_STATUS, "children", allow_duplicate=True),
         Input(ids.IN_PENDING, "data"), Input(ids.IN_FY_START, "value"),
         Input(ids.IN_KINDS, "data"), Input(ids.IN_SHEET, "value"),
-        State(ids.WORKSPACE, "data"),
+        State(REF, "data"),
         background=True,
         progress=[Output(ids.IN_PROGRESS, "value"), Output(ids.IN_PROGRESS, "max")],
         running=[(Output(ids.IN_PROGRESS, "style"), {"visibility": "visible"},
@@ -129,7 +134,7 @@ def register(app: Dash) -> None:
                   Input(ids.IN_ADD, "n_clicks"), State(ids.IN_PENDING, "data"),
                   State(ids.IN_FY_START, "value"), State(ids.IN_KINDS, "data"),
                   State(ids.IN_SHEET, "value"),
-                  State(ids.WORKSPACE, "data"), prevent_initial_call=True)
+                  State(REF, "data"), prevent_initial_call=True)
     @writes("add a file's series to the workspace")
     def _add(n: Any, pending: Any, fy_start: Any, kinds: Any, sheet: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)

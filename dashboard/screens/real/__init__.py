@@ -10,11 +10,16 @@ the view model they call.
 
 from __future__ import annotations
 
+from ... import ids
 from .callbacks import register
 from .layout import layout
 
 KEY = "real"
+"""Short id of the screen (the package's name): element ids, the address (#real)."""
 TITLE = "Real terms"
 ORDER = 30
 
-__all__ = ["KEY", "ORDER", "TITLE", "layout", "register"]
+PARAMS = {"series": ids.RT_SERIES, "deflator": ids.RT_DEFLATOR, "base": ids.RT_BASE}
+"""Choices kept in the page address (#real?name=value...)."""
+
+__all__ = ["KEY", "ORDER", "PARAMS", "TITLE", "layout", "register"]

@@ -17,40 +17,48 @@ from .._shared.callbacks import (
     register_frequency_options,
     register_period_placeholders,
 )
-from .._shared.view import outlay_field, shown_base
+from .._shared.view import address_choices, outlay_field, shown_base
 from . import view
+
+KEY = __package__.rsplit(".", 1)[-1]
+"""The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
+REF = ids.screen_ref(KEY)
+"""The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
 def register(app: Dash) -> None:
     rb = context(app)
 
-    register_base_follows_series(app, rb, ids.RT_SERIES, ids.RT_BASE)
-    register_frequency_options(app, rb, ids.RT_SERIES, ids.RT_FREQ)
-    register_period_placeholders(app, rb, ids.RT_BASE)
+    register_base_follows_series(app, rb, REF, ids.RT_SERIES, ids.RT_BASE)
+    register_frequency_options(app, rb, REF, ids.RT_SERIES, ids.RT_FREQ)
+    register_period_placeholders(app, rb, REF, ids.RT_BASE)
 
     @app.callback(
         Output(ids.RT_SERIES, "options"), Output(ids.RT_SERIES, "value"),
         Output(ids.RT_BASE, "value"), Output(ids.RT_INTERP, "value"),
-        Input(ids.WORKSPACE, "data"),
+        Input(REF, "data"),
         State(ids.RT_SERIES, "value"), State(ids.RT_BASE, "value"), State(ids.RT_INTERP, "value"),
+        State(ids.URL, "hash"),
     )
-    def _options(ref: Any, series: Any, base: Any, interp: Any) -> Any:
+    def _options(ref: Any, series: Any, base: Any, interp: Any, hash_: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
         ws = rb.data.load(r)
-        s_opts, chosen, saved_interp = view.options_for(ws, series)
-        return s_opts, chosen, shown_base(ws, base), interp or saved_interp
+        asked = address_choices(hash_, KEY)
+        s_opts, chosen, saved_interp = view.options_for(ws, series or asked.get("series"))
+        return (s_opts, chosen, shown_base(ws, base or asked.get("base")),
+                interp or saved_interp)
 
     @app.callback(Output(ids.RT_OUTLAY, "value"),
-                  Input(ids.RT_SERIES, "value"), Input(ids.WORKSPACE, "data"))
+                  Input(ids.RT_SERIES, "value"), Input(REF, "data"))
     def _outlay(series: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         return no_update if r is None else outlay_field(rb.data.load(r), series)
 
     @app.callback(Output(ids.RT_OUTLAY_STATE, "children"),
                   Input(ids.RT_OUTLAY, "value"), State(ids.RT_SERIES, "value"),
-                  State(ids.WORKSPACE, "data"))
+                  State(REF, "data"))
     def _outlay_state(text: Any, series: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         return no_update if r is None else view.outlay_state(rb.data.load(r), series, text)
@@ -58,35 +66,41 @@ def register(app: Dash) -> None:
     @app.callback(
         Output(ids.RT_DEFLATOR, "options"), Output(ids.RT_DEFLATOR, "value"),
         Output(ids.RT_DEFLATOR_WHY, "children"),
-        Input(ids.WORKSPACE, "data"), Input(ids.RT_SERIES, "value"), Input(ids.RT_BASE, "value"),
+        Input(REF, "data"), Input(ids.RT_SERIES, "value"), Input(ids.RT_BASE, "value"),
         Input(ids.RT_FREQ, "value"), Input(ids.RT_INTERP, "value"), Input(ids.RT_OUTLAY, "value"),
-        State(ids.RT_DEFLATOR, "value"),
+        State(ids.RT_DEFLATOR, "value"), State(ids.URL, "hash"),
     )
     def _deflators(ref: Any, series: Any, base: Any, freq: Any, interp: Any, outlay: Any,
-                   deflator: Any) -> Any:
+                   deflator: Any, hash_: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.deflator_picker(rb.data.load(r), series, deflator, base, freq, interp,
-                                    outlay)
+        ws = rb.data.load(r)
+        deflator = deflator or address_choices(hash_, KEY).get("deflator")
+        choices = (series, deflator, base, freq, interp, outlay)
+        return rb.cached(ws, "real.deflators", choices,
+                         lambda: view.deflator_picker(ws, *choices))
 
     pair = {"type": ids.RT_PAIR, "part": ALL}
 
     @app.callback(
         Output(ids.RT_PAIRS, "children"), Output(ids.RT_PARTS_BOX, "hidden"),
         Output(ids.RT_DEFLATOR_BOX, "hidden"), Output(ids.RT_DEFLATOR_WHY, "hidden"),
+        Output(ids.RT_PAIRS_STAMP, "data"),
         Input(ids.RT_SERIES, "value"), Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"),
-        State(pair, "value"), State(pair, "id"), State(ids.WORKSPACE, "data"),
+        State(pair, "value"), State(pair, "id"), State(REF, "data"), State(ids.RT_PAIRS_STAMP, "data"),
     )
-    def _pairs(series: Any, base: Any, freq: Any, values: Any, pair_ids: Any, ref: Any) -> Any:
+    def _pairs(series: Any, base: Any, freq: Any, values: Any, pair_ids: Any, ref: Any,
+               stamp: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
         rows, parts_hidden, deflator_hidden = view.pairs_panel(
             rb.data.load(r), series, base, freq, view.pair_values(pair_ids, values))
-        return rows, parts_hidden, deflator_hidden, deflator_hidden
+        # the stamp makes the computation wait for, then read, the rebuilt pickers
+        return rows, parts_hidden, deflator_hidden, deflator_hidden, (stamp or 0) + 1
 
-    @app.callback(Output(ids.RT_CHAIN, "value"), Input(ids.WORKSPACE, "data"),
+    @app.callback(Output(ids.RT_CHAIN, "value"), Input(REF, "data"),
                   State(ids.RT_CHAIN, "value"))
     def _chain(ref: Any, chain: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
@@ -101,17 +115,24 @@ def register(app: Dash) -> None:
         Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"), Input(ids.RT_SA, "value"),
         Input(ids.RT_INTERP, "value"), Input(ids.RT_OUTLAY, "value"),
         Input(pair, "value"), Input(ids.RT_CHAIN, "value"), Input(ids.RT_BASIS, "value"),
-        State(pair, "id"), State(ids.WORKSPACE, "data"),
+        Input(ids.RT_PAIRS_STAMP, "data"),
+        State(pair, "id"), State(REF, "data"),
     )
     def _compute(series: Any, deflator: Any, base: Any, freq: Any, sa: Any, interp: Any,
-                 outlay: Any, values: Any, chain: Any, basis: Any, pair_ids: Any,
+                 outlay: Any, values: Any, chain: Any, basis: Any, _stamp: Any, pair_ids: Any,
                  ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.screen_outputs(rb.data.load(r), series, deflator, base, freq,
-                                   "sa" in (sa or []), view.pair_values(pair_ids, values),
-                                   chain, basis, interpolate=interp, outlay=outlay)
+        ws = rb.data.load(r)
+        pairs = view.pair_values(pair_ids, values)
+        adjust = "sa" in (sa or [])
+        return rb.cached(ws, "real.outputs",
+                         (series, deflator, base, freq, adjust, pairs, chain, basis, interp,
+                          outlay),
+                         lambda: view.screen_outputs(ws, series, deflator, base, freq, adjust,
+                                                     pairs, chain, basis, interpolate=interp,
+                                                     outlay=outlay))
 
     @app.callback(
         Output(ids.WORKSPACE, "data", allow_duplicate=True), Output(ids.RT_SAVED, "children"),
@@ -120,7 +141,7 @@ def register(app: Dash) -> None:
         State(ids.RT_BASE, "value"), State(ids.RT_FREQ, "value"), State(ids.RT_SA, "value"),
         State(ids.RT_INTERP, "value"), State(ids.RT_OUTLAY, "value"),
         State(pair, "value"), State(pair, "id"), State(ids.RT_CHAIN, "value"),
-        State(ids.WORKSPACE, "data"), prevent_initial_call=True,
+        State(REF, "data"), prevent_initial_call=True,
     )
     @writes("save the real-terms choices")
     def _save(n: Any, series: Any, deflator: Any, base: Any, freq: Any, sa: Any, interp: Any,
@@ -143,7 +164,7 @@ def register(app: Dash) -> None:
         Output(ids.WORKSPACE, "data", allow_duplicate=True),
         Output(ids.RT_SA_MESSAGE, "children"),
         Input(ids.RT_SA_ALL, "n_clicks"),
-        State(ids.RT_SA_METHOD, "value"), State(ids.WORKSPACE, "data"),
+        State(ids.RT_SA_METHOD, "value"), State(REF, "data"),
         background=True,
         progress=[Output(ids.RT_SA_PROGRESS, "value"), Output(ids.RT_SA_PROGRESS, "max")],
         running=[(Output(ids.RT_SA_PROGRESS, "style"), {"visibility": "visible"},

@@ -27,6 +27,7 @@ def parts_box() -> html.Div:
     return html.Div([
         html.H3("Each part's deflator", className="rb-subhead"),
         html.Div(id=ids.RT_PAIRS, className="rb-controls"),
+        dcc.Store(id=ids.RT_PAIRS_STAMP, data=0),
         field("How the parts are put together",
               dcc.RadioItems(id=ids.RT_CHAIN, value="none", className="rb-radio",
                              options=[_choice(k, w) for k, w in CHAINS.items()],

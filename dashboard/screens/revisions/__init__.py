@@ -9,11 +9,16 @@ the view model they call.
 
 from __future__ import annotations
 
+from ... import ids
 from .callbacks import register
 from .layout import layout
 
 KEY = "revisions"
+"""Short id of the screen (the package's name): element ids, the address (#revisions)."""
 TITLE = "Revisions"
 ORDER = 50
 
-__all__ = ["KEY", "ORDER", "TITLE", "layout", "register"]
+PARAMS = {"index": ids.RV_INDEX, "series": ids.RV_SERIES, "base": ids.RV_BASE}
+"""Choices kept in the page address (#revisions?name=value...)."""
+
+__all__ = ["KEY", "ORDER", "PARAMS", "TITLE", "layout", "register"]

@@ -10,33 +10,42 @@ from ... import ids
 from ...context import context
 from ...data import WorkspaceRef
 from .._shared.callbacks import register_base_follows_series, register_period_placeholders
-from .._shared.view import shown_base
+from .._shared.view import address_choices, shown_base
 from . import view
+
+KEY = __package__.rsplit(".", 1)[-1]
+"""The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
+REF = ids.screen_ref(KEY)
+"""The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
 def register(app: Dash) -> None:
     rb = context(app)
 
-    register_base_follows_series(app, rb, ids.RV_SERIES, ids.RV_BASE)
-    register_period_placeholders(app, rb, ids.RV_BASE)
+    register_base_follows_series(app, rb, REF, ids.RV_SERIES, ids.RV_BASE)
+    register_period_placeholders(app, rb, REF, ids.RV_BASE)
 
     @app.callback(
         Output(ids.RV_INDEX, "options"), Output(ids.RV_INDEX, "value"),
         Output(ids.RV_SERIES, "options"), Output(ids.RV_SERIES, "value"),
         Output(ids.RV_BASE, "value"),
-        Input(ids.WORKSPACE, "data"),
+        Input(REF, "data"),
         State(ids.RV_INDEX, "value"), State(ids.RV_SERIES, "value"), State(ids.RV_BASE, "value"),
+        State(ids.URL, "hash"),
     )
-    def _options(ref: Any, index: Any, series: Any, base: Any) -> Any:
+    def _options(ref: Any, index: Any, series: Any, base: Any, hash_: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
         ws = rb.data.load(r)
-        return (*view.options_for(ws, index, series), shown_base(ws, base))
+        asked = address_choices(hash_, KEY)
+        return (*view.options_for(ws, index or asked.get("index"),
+                                  series or asked.get("series")),
+                shown_base(ws, base or asked.get("base")))
 
     @app.callback(Output(ids.RV_OLD, "options"), Output(ids.RV_OLD, "value"),
                   Output(ids.RV_NEW, "options"), Output(ids.RV_NEW, "value"),
-                  Input(ids.RV_INDEX, "value"), State(ids.WORKSPACE, "data"))
+                  Input(ids.RV_INDEX, "value"), State(REF, "data"))
     def _vintages(index: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
@@ -50,22 +59,26 @@ def register(app: Dash) -> None:
         Output(ids.RV_METHOD, "children"),
         Input(ids.RV_INDEX, "value"), Input(ids.RV_OLD, "value"), Input(ids.RV_NEW, "value"),
         Input(ids.RV_SERIES, "value"), Input(ids.RV_BASE, "value"),
-        State(ids.WORKSPACE, "data"),
+        State(REF, "data"),
     )
     def _compute(index: Any, old: Any, new: Any, series: Any, base: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.outputs(rb.data.load(r), index, old, new, series, base)
+        ws = rb.data.load(r)
+        choices = (index, old, new, series, base)
+        return rb.cached(ws, "revisions.outputs", choices, lambda: view.outputs(ws, *choices))
 
     @app.callback(
         Output(ids.RV_BAND_FIGURE, "figure"), Output(ids.RV_BAND, "children"),
         Input(ids.RV_INDEX, "value"), Input(ids.RV_NEW, "value"),
         Input(ids.RV_SERIES, "value"), Input(ids.RV_BASE, "value"),
-        State(ids.WORKSPACE, "data"),
+        State(REF, "data"),
     )
     def _band(index: Any, new: Any, series: Any, base: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.band_outputs(rb.data.load(r), index, new, series, base)
+        ws = rb.data.load(r)
+        choices = (index, new, series, base)
+        return rb.cached(ws, "revisions.band", choices, lambda: view.band_outputs(ws, *choices))

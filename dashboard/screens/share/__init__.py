@@ -20,6 +20,7 @@ from .callbacks import register
 from .layout import layout
 
 KEY = "share"
+"""Short id of the screen (the package's name): element ids, the address (#share)."""
 TITLE = "Share and export"
 ORDER = 60
 

@@ -17,6 +17,11 @@ from ...writes import writes
 from .._shared.view import error_dicts
 from . import view
 
+KEY = __package__.rsplit(".", 1)[-1]
+"""The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
+REF = ids.screen_ref(KEY)
+"""The workspace this screen computes for (set by the shell only while it is shown)."""
+
 
 def register(app: Dash) -> None:
     import flask
@@ -24,14 +29,14 @@ def register(app: Dash) -> None:
     rb = context(app)
 
     @app.callback(Output(ids.SX_SCOPE, "children"), Output(ids.SX_LINK_PANEL, "hidden"),
-                  Input(ids.WORKSPACE, "data"))
+                  Input(REF, "data"))
     def _overview(ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update, no_update
         return view.scope_view(rb.data.load(r)), current_access().read_only
 
-    @app.callback(Output(ids.SX_AUDIT, "children"), Input(ids.WORKSPACE, "data"),
+    @app.callback(Output(ids.SX_AUDIT, "children"), Input(REF, "data"),
                   Input(ids.SX_LINKS, "children"), Input(ids.SX_DL_STATUS, "children"))
     def _audit(ref: Any, _links: Any, _status: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
@@ -40,7 +45,7 @@ def register(app: Dash) -> None:
         return view.audit_view(rb.data.store, r.id)
 
     @app.callback(Output(ids.SX_LINKS, "children"), Output(ids.SX_REVOKE_ID, "options"),
-                  Output(ids.SX_LINK_NEW, "children"), Input(ids.WORKSPACE, "data"))
+                  Output(ids.SX_LINK_NEW, "children"), Input(REF, "data"))
     def _links(ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
@@ -58,7 +63,7 @@ def register(app: Dash) -> None:
                   Output(ids.SX_LINK_NEW, "children", allow_duplicate=True),
                   Input(ids.SX_LINK_CREATE, "n_clicks"), Input(ids.SX_REVOKE, "n_clicks"),
                   State(ids.SX_LINK_LABEL, "value"), State(ids.SX_LINK_DAYS, "value"),
-                  State(ids.SX_REVOKE_ID, "value"), State(ids.WORKSPACE, "data"),
+                  State(ids.SX_REVOKE_ID, "value"), State(REF, "data"),
                   prevent_initial_call=True)
     @writes("create or revoke a reviewer link")
     def _link_change(_c: Any, _r: Any, label: Any, days: Any, revoke_id: Any,
@@ -86,7 +91,7 @@ def register(app: Dash) -> None:
     @app.callback(
         Output(ids.SX_DOWNLOAD, "data"), Output(ids.SX_DL_STATUS, "children"),
         Input(ids.SX_DL_XLSX, "n_clicks"), Input(ids.SX_DL_CSV, "n_clicks"),
-        Input(ids.SX_DL_JSON, "n_clicks"), State(ids.WORKSPACE, "data"),
+        Input(ids.SX_DL_JSON, "n_clicks"), State(REF, "data"),
         background=True, prevent_initial_call=True,
         running=[(Output(ids.SX_DL_XLSX, "disabled"), True, False),
                  (Output(ids.SX_DL_CSV, "disabled"), True, False),
@@ -107,7 +112,7 @@ def register(app: Dash) -> None:
     @app.callback(
         Output(ids.SX_DOWNLOAD_PNG, "data"),
         Output(ids.SX_DL_STATUS, "children", allow_duplicate=True),
-        Input(ids.SX_DL_PNG, "n_clicks"), State(ids.WORKSPACE, "data"),
+        Input(ids.SX_DL_PNG, "n_clicks"), State(REF, "data"),
         background=True, prevent_initial_call=True,
         running=[(Output(ids.SX_DL_PNG, "disabled"), True, False)],
     )

@@ -12,11 +12,16 @@ the view model they call.
 
 from __future__ import annotations
 
+from ... import ids
 from .callbacks import register
 from .layout import layout
 
 KEY = "shelf"
+"""Short id of the screen (the package's name): element ids, the address (#shelf)."""
 TITLE = "Deflator shelf"
 ORDER = 20
 
-__all__ = ["KEY", "ORDER", "TITLE", "layout", "register"]
+PARAMS = {"index": ids.SH_INDEX}
+"""Choices kept in the page address (#shelf?name=value...)."""
+
+__all__ = ["KEY", "ORDER", "PARAMS", "TITLE", "layout", "register"]

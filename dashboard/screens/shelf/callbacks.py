@@ -11,13 +11,19 @@ from ...context import context
 from ...data import WorkspaceRef
 from ...writes import writes
 from .._shared.callbacks import register_period_placeholders
+from .._shared.view import address_choices
 from . import view
+
+KEY = __package__.rsplit(".", 1)[-1]
+"""The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
+REF = ids.screen_ref(KEY)
+"""The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
 def register(app: Dash) -> None:
     rb = context(app)
 
-    register_period_placeholders(app, rb, ids.SH_REBASE_BASE)
+    register_period_placeholders(app, rb, REF, ids.SH_REBASE_BASE)
 
     @app.callback(
         Output(ids.SH_TABLE, "children"), Output(ids.SH_FIGURE, "figure"),
@@ -25,15 +31,17 @@ def register(app: Dash) -> None:
         Output(ids.SH_TARGET, "options"), Output(ids.SH_LINK_OLD, "options"),
         Output(ids.SH_LINK_NEW, "options"), Output(ids.SH_COST_COMPONENTS, "options"),
         Output(ids.SH_COST_WEIGHTS, "value"),
-        Input(ids.WORKSPACE, "data"), Input(ids.SH_INDEX, "value"),
-        State(ids.SH_COST_WEIGHTS, "value"),
+        Input(REF, "data"), Input(ids.SH_INDEX, "value"),
+        State(ids.SH_COST_WEIGHTS, "value"), State(ids.URL, "hash"),
     )
-    def _shelf(ref: Any, drawn: Any, weights: Any) -> Any:
+    def _shelf(ref: Any, drawn: Any, weights: Any, hash_: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
         ws = rb.data.load(r)
-        table_, fig, opts, chosen = view.outputs(ws, drawn)
+        drawn = drawn or address_choices(hash_, KEY).get("index", multi=True)
+        table_, fig, opts, chosen = rb.cached(ws, "shelf.outputs", (drawn,),
+                                              lambda: view.outputs(ws, drawn))
         return (table_, fig, opts, chosen, opts, opts, opts, opts,
                 weights or str(ws.settings.get("cost_weights") or ""))
 
@@ -48,7 +56,7 @@ def register(app: Dash) -> None:
         State(ids.SH_LINK_OVERLAP, "value"),
         State(ids.SH_COST_NAME, "value"), State(ids.SH_COST_COMPONENTS, "value"),
         State(ids.SH_COST_WEIGHTS, "value"), State(ids.SH_COST_METHOD, "value"),
-        State(ids.WORKSPACE, "data"), prevent_initial_call=True,
+        State(REF, "data"), prevent_initial_call=True,
     )
     @writes("add an index to the workspace")
     def _act(_r: Any, _p: Any, _l: Any, _c: Any, target: Any, base: Any, rate: Any,

@@ -10,11 +10,16 @@ the view model they call.
 
 from __future__ import annotations
 
+from ... import ids
 from .callbacks import register
 from .layout import layout
 
 KEY = "spread"
+"""Short id of the screen (the package's name): element ids, the address (#spread)."""
 TITLE = "Deflator spread"
 ORDER = 40
 
-__all__ = ["KEY", "ORDER", "TITLE", "layout", "register"]
+PARAMS = {"series": ids.SP_SERIES, "deflators": ids.SP_DEFLATORS, "base": ids.SP_BASE}
+"""Choices kept in the page address (#spread?name=value...)."""
+
+__all__ = ["KEY", "ORDER", "PARAMS", "TITLE", "layout", "register"]

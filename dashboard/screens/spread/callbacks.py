@@ -14,45 +14,58 @@ from .._shared.callbacks import (
     register_frequency_options,
     register_period_placeholders,
 )
-from .._shared.view import shown_base
+from .._shared.view import address_choices, shown_base
 from . import view
+
+KEY = __package__.rsplit(".", 1)[-1]
+"""The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
+REF = ids.screen_ref(KEY)
+"""The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
 def register(app: Dash) -> None:
     rb = context(app)
 
-    register_base_follows_series(app, rb, ids.SP_SERIES, ids.SP_BASE)
-    register_frequency_options(app, rb, ids.SP_SERIES, ids.SP_FREQ)
-    register_period_placeholders(app, rb, ids.SP_BASE)
+    register_base_follows_series(app, rb, REF, ids.SP_SERIES, ids.SP_BASE)
+    register_frequency_options(app, rb, REF, ids.SP_SERIES, ids.SP_FREQ)
+    register_period_placeholders(app, rb, REF, ids.SP_BASE)
 
     @app.callback(
         Output(ids.SP_SERIES, "options"), Output(ids.SP_SERIES, "value"),
         Output(ids.SP_BASE, "value"), Output(ids.SP_INTERP, "value"),
-        Input(ids.WORKSPACE, "data"),
+        Input(REF, "data"),
         State(ids.SP_SERIES, "value"), State(ids.SP_DEFLATORS, "value"),
-        State(ids.SP_BASE, "value"), State(ids.SP_INTERP, "value"),
+        State(ids.SP_BASE, "value"), State(ids.SP_INTERP, "value"), State(ids.URL, "hash"),
     )
-    def _options(ref: Any, series: Any, chosen: Any, base: Any, interp: Any) -> Any:
+    def _options(ref: Any, series: Any, chosen: Any, base: Any, interp: Any,
+                 hash_: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
         ws = rb.data.load(r)
-        s_opts, chosen_series, saved_interp = view.options_for(ws, series, chosen)
-        return s_opts, chosen_series, shown_base(ws, base), interp or saved_interp
+        asked = address_choices(hash_, KEY)
+        s_opts, chosen_series, saved_interp = view.options_for(
+            ws, series or asked.get("series"), chosen or asked.get("deflators", multi=True))
+        return (s_opts, chosen_series, shown_base(ws, base or asked.get("base")),
+                interp or saved_interp)
 
     @app.callback(
         Output(ids.SP_DEFLATORS, "options"), Output(ids.SP_DEFLATORS, "value"),
         Output(ids.SP_DEFLATOR_WHY, "children"),
-        Input(ids.WORKSPACE, "data"), Input(ids.SP_SERIES, "value"), Input(ids.SP_BASE, "value"),
+        Input(REF, "data"), Input(ids.SP_SERIES, "value"), Input(ids.SP_BASE, "value"),
         Input(ids.SP_FREQ, "value"), Input(ids.SP_INTERP, "value"),
-        State(ids.SP_DEFLATORS, "value"),
+        State(ids.SP_DEFLATORS, "value"), State(ids.URL, "hash"),
     )
     def _deflators(ref: Any, series: Any, base: Any, freq: Any, interp: Any,
-                   chosen: Any) -> Any:
+                   chosen: Any, hash_: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.deflator_picker(rb.data.load(r), series, chosen, base, freq, interp)
+        ws = rb.data.load(r)
+        chosen = chosen or address_choices(hash_, KEY).get("deflators", multi=True)
+        choices = (series, chosen, base, freq, interp)
+        return rb.cached(ws, "spread.deflators", choices,
+                         lambda: view.deflator_picker(ws, *choices))
 
     @app.callback(
         Output(ids.SP_VERDICT, "children"), Output(ids.SP_TITLE, "children"),
@@ -61,12 +74,14 @@ def register(app: Dash) -> None:
         Input(ids.SP_SERIES, "value"), Input(ids.SP_DEFLATORS, "value"),
         Input(ids.SP_BASE, "value"), Input(ids.SP_FREQ, "value"), Input(ids.SP_MEASURE, "value"),
         Input(ids.SP_INTERP, "value"),
-        State(ids.WORKSPACE, "data"),
+        State(REF, "data"),
     )
     def _compute(series: Any, deflators: Any, base: Any, freq: Any, measure: Any,
                  interp: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update
-        return view.outputs(rb.data.load(r), series, deflators, base, freq, measure,
-                            interpolate=interp)
+        ws = rb.data.load(r)
+        return rb.cached(ws, "spread.outputs", (series, deflators, base, freq, measure, interp),
+                         lambda: view.outputs(ws, series, deflators, base, freq, measure,
+                                              interpolate=interp))

@@ -1,0 +1,97 @@
+/* realbasis: the shell's clientside callbacks (dashboard/app.py registers them).
+ *
+ * switchScreen     shows one screen, from a click on the navigation or the address's
+ *                  #key (a reload, a copied address, Back/Forward); no round trip.
+ * gateScreens      copies the workspace into the shown screen's gate store (rb-ref-<key>)
+ *                  when that store is behind; hidden screens' gates stay as they are, so
+ *                  their callbacks run only once they are opened.
+ * rememberChoices  keeps the shown screen's choices in the address (#key?name=value&...),
+ *                  replacing the history entry (no new one per choice); the screens read
+ *                  them back on load (screens/_shared/view.address_choices).
+ *
+ * Nothing here builds HTML: values go into component props and the address only.
+ */
+(function () {
+  "use strict";
+  var NO = function () { return window.dash_clientside.no_update; };
+  var remembered = {};  // screen key -> query string of its last choices
+
+  function keyOf(hash) {
+    var h = (hash || "").replace(/^#/, "");
+    var q = h.indexOf("?");
+    return decodeURIComponent(q < 0 ? h : h.slice(0, q));
+  }
+
+  function queryOf(hash) {
+    var h = (hash || "").replace(/^#/, "");
+    var q = h.indexOf("?");
+    return q < 0 ? "" : h.slice(q + 1);
+  }
+
+  function address(key) {
+    var q = remembered[key];
+    return window.location.pathname + window.location.search + "#" + encodeURIComponent(key) +
+      (q ? "?" + q : "");
+  }
+
+  window.dash_clientside = Object.assign({}, window.dash_clientside, {
+    realbasis: {
+      switchScreen: function () {
+        var args = Array.prototype.slice.call(arguments);
+        var cc = window.dash_clientside.callback_context;
+        var keys = cc.inputs_list.slice(0, -1).map(function (i) { return i.id.replace(/^rb-nav-/, ""); });
+        var hash = args[keys.length];
+        var current = args[keys.length + 1];
+        var chosen = null;
+        var fromNav = false;
+        (cc.triggered || []).forEach(function (t) {
+          var id = (t.prop_id || "").split(".")[0];
+          if (id.indexOf("rb-nav-") === 0 && t.value) { chosen = id.replace(/^rb-nav-/, ""); fromNav = true; }
+        });
+        if (chosen === null) {
+          chosen = keyOf(hash);
+          var q = queryOf(hash);
+          if (q && remembered[chosen] === undefined) { remembered[chosen] = q; }
+        }
+        if (keys.indexOf(chosen) < 0) { chosen = keys.indexOf(current) >= 0 ? current : keys[0]; }
+        if (fromNav && chosen !== current) {
+          window.history.pushState({}, "", address(chosen));
+        }
+        var hidden = keys.map(function (k) { return k !== chosen; });
+        var classes = keys.map(function (k) { return "rb-nav-button" + (k === chosen ? " rb-nav-active" : ""); });
+        return hidden.concat(classes, [chosen]);
+      },
+
+      gateScreens: function (ws, screen) {
+        var cc = window.dash_clientside.callback_context;
+        var gates = Array.prototype.slice.call(arguments, 2);
+        var keys = cc.states_list.map(function (s) { return s.id.replace(/^rb-ref-/, ""); });
+        return keys.map(function (k, i) {
+          var g = gates[i];
+          if (!ws || k !== screen) { return NO(); }
+          if (g && g.id === ws.id && g.version === ws.version) { return NO(); }
+          return ws;
+        });
+      },
+
+      rememberChoices: function () {
+        var args = Array.prototype.slice.call(arguments);
+        var meta = args[args.length - 1] || {};
+        var screen = args[args.length - 2];
+        var values = args.slice(0, -2);
+        if (!meta.key || screen !== meta.key) { return NO(); }
+        var params = new URLSearchParams();
+        (meta.names || []).forEach(function (name, i) {
+          var v = values[i];
+          if (v === null || v === undefined || v === "") { return; }
+          (Array.isArray(v) ? v : [v]).forEach(function (x) { params.append(name, String(x)); });
+        });
+        remembered[meta.key] = params.toString();
+        if (keyOf(window.location.hash) === meta.key || !window.location.hash) {
+          window.history.replaceState(window.history.state, "", address(meta.key));
+        }
+        return NO();
+      }
+    }
+  });
+})();
