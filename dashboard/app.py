@@ -121,7 +121,8 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
         ref = rb.resolve_workspace(search or "")
         if old is not None and old.id == ref.id and old.version >= ref.version:
             return no_update, no_update
-        return ref.as_dict(), no_update
+        # a callback is not run again by its own output: the address is written here
+        return ref.as_dict(), address_for(search or "", ref)
 
     @app.callback(Output(ids.WORKSPACE_LABEL, "children"), Input(ids.WORKSPACE, "data"))
     def _workspace_label(data: Any) -> Any:
@@ -137,9 +138,10 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
         ClientsideFunction("realbasis", "switchScreen"),
         [Output(ids.screen_container(k), "hidden") for k in keys]
         + [Output(ids.nav_button(k), "className") for k in keys]
+        + [Output(ids.screen_container(k), "children") for k in keys]
         + [Output(ids.SCREEN, "data")],
         [Input(ids.nav_button(k), "n_clicks") for k in keys] + [Input(ids.URL, "hash")],
-        State(ids.SCREEN, "data"),
+        State(ids.SCREEN, "data"), State(ids.SECTIONS, "data"),
         prevent_initial_call=False,
     )
     # The gate: the shown screen's workspace store follows WORKSPACE; hidden screens' stores
@@ -206,12 +208,15 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
         title=APP_TITLE,
         update_title=None,
         assets_folder=str(ASSETS),
+        assets_ignore=r"vendor/.*",  # served, loaded on demand (assets/plotly-basic.js)
         background_callback_manager=jobs.make_manager(settings),
         serve_locally=True,
         on_error=failures.on_callback_error,
         # Nothing computes on load except the workspace lookup (shell, prevent_initial_call
         # =False); each screen's callbacks run once its gate store is set (when shown).
         prevent_initial_callbacks=True,
+        # a screen's components join the page when it is first shown (lazy_sections)
+        suppress_callback_exceptions=True,
     )
     server = app.server
     server.secret_key = secret_key(settings)
@@ -228,4 +233,38 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
     for screen in screens:
         screen.register(app)
     access.install(app, settings, data.store)
+    app.layout = lazy_sections(app.layout, screens)  # after the access layer's walk
     return app
+
+
+def lazy_sections(layout: Callable[[], Any], screens: tuple[ScreenInfo, ...]
+                  ) -> Callable[[], Any]:
+    """The page with every screen's section empty and its contents in the store
+    ``ids.SECTIONS`` (``{key: children}``), which the clientside ``switchScreen`` puts into a
+    section the first time it is shown. The browser's renderer then holds only the screens
+    opened so far, which keeps every change on the page quick; the server builds and sends
+    the same page as before (the access layer has already adapted it to the requester)."""
+    keys = {ids.screen_container(s.key): s.key for s in screens}
+
+    def build() -> Any:
+        tree = layout()
+        held: dict[str, Any] = {}
+
+        def walk(node: Any) -> None:
+            node_id = getattr(node, "id", None)
+            if node_id in keys:
+                held[keys[node_id]] = node.children
+                node.children = None
+                return
+            kids = getattr(node, "children", None)
+            for child in kids if isinstance(kids, list | tuple) else [kids]:
+                if hasattr(child, "to_plotly_json"):
+                    walk(child)
+
+        walk(tree)
+        store = dcc.Store(id=ids.SECTIONS, data=held, storage_type="memory")
+        children = tree.children if isinstance(tree.children, list) else [tree.children]
+        tree.children = [store, *children]
+        return tree
+
+    return build

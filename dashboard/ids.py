@@ -11,6 +11,7 @@ URL = "rb-url"
 WORKSPACE = "rb-workspace"          # dcc.Store {"id": str, "version": int} (browser holds ids only)
 NAV = "rb-nav"
 SCREEN = "rb-screen"                # dcc.Store: key of the screen shown
+SECTIONS = "rb-sections"            # dcc.Store: each screen's contents until first shown
 WORKSPACE_LABEL = "rb-workspace-label"
 CAUTIONS = "rb-cautions"
 PAGE_PROBLEM = "rb-page-problem"    # top of the page: problems no screen shows (failures.py,

@@ -9,7 +9,10 @@ from __future__ import annotations
 
 from pipeline.settings import load_settings
 
+from . import warm
 from .app import create_app
+from .context import context
 
 app = create_app(load_settings())
 server = app.server
+warm.start(context(app))  # the demo's first views, computed before anyone asks

@@ -1,7 +1,9 @@
 /* realbasis: the shell's clientside callbacks (dashboard/app.py registers them).
  *
  * switchScreen     shows one screen, from a click on the navigation or the address's
- *                  #key (a reload, a copied address, Back/Forward); no round trip.
+ *                  #key (a reload, a copied address, Back/Forward); no round trip. The
+ *                  first time a screen is shown its contents are put into its section
+ *                  from the store rb-sections (dashboard/app.py lazy_sections).
  * gateScreens      copies the workspace into the shown screen's gate store (rb-ref-<key>)
  *                  when that store is behind; hidden screens' gates stay as they are, so
  *                  their callbacks run only once they are opened.
@@ -15,6 +17,7 @@
   "use strict";
   var NO = function () { return window.dash_clientside.no_update; };
   var remembered = {};  // screen key -> query string of its last choices
+  var filled = {};      // screen keys whose contents are on the page
 
   function keyOf(hash) {
     var h = (hash || "").replace(/^#/, "");
@@ -42,6 +45,7 @@
         var keys = cc.inputs_list.slice(0, -1).map(function (i) { return i.id.replace(/^rb-nav-/, ""); });
         var hash = args[keys.length];
         var current = args[keys.length + 1];
+        var sections = args[keys.length + 2] || {};
         var chosen = null;
         var fromNav = false;
         (cc.triggered || []).forEach(function (t) {
@@ -59,7 +63,13 @@
         }
         var hidden = keys.map(function (k) { return k !== chosen; });
         var classes = keys.map(function (k) { return "rb-nav-button" + (k === chosen ? " rb-nav-active" : ""); });
-        return hidden.concat(classes, [chosen]);
+        // a screen's contents join the page the first time it is shown (app.lazy_sections)
+        var contents = keys.map(function (k) {
+          if (k !== chosen || filled[k] || sections[k] === undefined) { return NO(); }
+          filled[k] = true;
+          return sections[k];
+        });
+        return hidden.concat(classes, contents, [chosen]);
       },
 
       gateScreens: function (ws, screen) {

@@ -180,3 +180,26 @@ def register(app: Dash) -> None:
         new_ref, message = view.adjust_all(rb.data, r, method,
                                       lambda done, total: set_progress((str(done), str(total))))
         return (new_ref.as_dict() if new_ref else no_update), message
+
+
+def warm(rb: Any, ws: Any) -> None:
+    """Compute the view a first visit to this screen on ``ws`` asks for, into the result
+    cache (run at worker start on the demo, dashboard.warm): the same calls, in the same
+    order and with the same values, as the callbacks above make when the page opens with
+    nothing chosen — the series and base from the saved choices, "Show as" automatic, no
+    seasonal adjustment, growth on the period before."""
+    from .._shared.view import base_after_series_change
+
+    _opts, series, saved_interp = view.options_for(ws, None)
+    base = shown_base(ws, None)
+    moved = base_after_series_change(ws, series, base)
+    base = base if moved is None else moved
+    freq, interp, outlay = "auto", saved_interp, outlay_field(ws, series)
+    choices = (series, None, base, freq, interp, outlay)
+    _o, deflator, _w = rb.cached(ws, "real.deflators", choices,
+                                 lambda: view.deflator_picker(ws, *choices))
+    chain = view.saved_chain(ws, "none")
+    rb.cached(ws, "real.outputs",
+              (series, deflator, base, freq, False, {}, chain, "period", interp, outlay),
+              lambda: view.screen_outputs(ws, series, deflator, base, freq, False, {}, chain,
+                                          "period", interpolate=interp, outlay=outlay))
