@@ -78,7 +78,9 @@ def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
                      className="rb-nav-button" + (" rb-nav-active" if s.key == first else ""))
          for s in screens],
         id=ids.NAV, className="rb-nav", **{"aria-label": "Screens"})
-    sections = [html.Section(s.layout(), id=ids.screen_container(s.key), hidden=s.key != first,
+    sections = [html.Section([dcc.Store(id=ids.screen_saved(s.key)),
+                              dcc.Store(id=ids.screen_goto(s.key)), s.layout()],
+                             id=ids.screen_container(s.key), hidden=s.key != first,
                              className="rb-screen", **{"aria-label": s.title})
                 for s in screens]
     stores = [dcc.Store(id=ids.screen_ref(s.key), storage_type="memory") for s in screens]
@@ -152,6 +154,17 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
         Input(ids.WORKSPACE, "data"), Input(ids.SCREEN, "data"),
         [State(ids.screen_ref(k), "data") for k in keys],
     )
+    # What a screen saved becomes the workspace, a workspace it opens goes into the address
+    # (relays in the browser: see ids.screen_saved for why screens do not write them).
+    for k in keys:
+        app.clientside_callback(
+            "function (v) { return v ? v : window.dash_clientside.no_update; }",
+            Output(ids.WORKSPACE, "data", allow_duplicate=True),
+            Input(ids.screen_saved(k), "data"), prevent_initial_call=True)
+        app.clientside_callback(
+            "function (v) { return v ? v : window.dash_clientside.no_update; }",
+            Output(ids.URL, "search", allow_duplicate=True),
+            Input(ids.screen_goto(k), "data"), prevent_initial_call=True)
     # Each screen's choices go into the address (#key?name=value...), so a reload or a
     # copied address opens the same view (the screens read them back: address_choices).
     for s in screens:

@@ -33,6 +33,20 @@ def screen_ref(key: str) -> str:
     return f"rb-ref-{key}"
 
 
+def screen_saved(key: str) -> str:
+    """dcc.Store inside a screen's section: the workspace ref a change on the screen saved;
+    the shell copies it into WORKSPACE (app.py). A screen's callbacks write here, never to
+    WORKSPACE itself: Dash runs a callback whose input joins the page and whose output is
+    outside the joining part, and a screen's contents join the page when first shown."""
+    return f"rb-saved-{key}"
+
+
+def screen_goto(key: str) -> str:
+    """dcc.Store inside a screen's section: a query string to open (another workspace);
+    the shell copies it into the address (URL.search), like screen_saved."""
+    return f"rb-goto-{key}"
+
+
 def screen_address(key: str) -> str:
     """dcc.Store written by the clientside callback that keeps a screen's choices in the
     page address (#key?name=value...); its data is never read."""

@@ -89,6 +89,9 @@ def _props(node: Any, out: dict[str, Any]) -> None:
                         out[f"{props['id']}.{k}"] = v
             for v in props.values():
                 _props(v, out)
+        else:  # plain data, e.g. the store holding screens' contents until first shown
+            for v in node.values():
+                _props(v, out)
     elif isinstance(node, list):
         for v in node:
             _props(v, out)

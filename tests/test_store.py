@@ -479,7 +479,7 @@ def _save_body(ws_id: str, base: str, output: str) -> dict:
     """The Real terms screen's "Save these choices" callback, as the browser sends it
     (``output``: the callback's output key from /_dash-dependencies)."""
     return {"output": output,
-            "outputs": [{"id": "rb-workspace", "property": "data"},
+            "outputs": [{"id": "rb-saved-real", "property": "data"},
                         {"id": "rt-saved", "property": "children"}],
             "inputs": [{"id": "rt-save", "property": "n_clicks", "value": 1}],
             "state": [{"id": "rt-series", "property": "value", "value": None},
@@ -492,7 +492,7 @@ def _save_body(ws_id: str, base: str, output: str) -> dict:
                       [],  # the parts' deflator pickers (pattern-matching: none here)
                       [],  # and their ids
                       {"id": "rt-chain", "property": "value", "value": "none"},
-                      {"id": "rb-workspace", "property": "data",
+                      {"id": "rb-ref-real", "property": "data",
                        "value": {"id": ws_id, "version": 0}}],
             "changedPropIds": ["rt-save.n_clicks"]}
 

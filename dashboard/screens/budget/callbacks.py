@@ -20,6 +20,8 @@ from . import view
 KEY = __package__.rsplit(".", 1)[-1]
 """The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
 REF = ids.screen_ref(KEY)
+SAVED = ids.screen_saved(KEY)  # what a change saved (the shell passes it on)
+GOTO = ids.screen_goto(KEY)  # a workspace to open (the shell puts it in the address)
 """The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
@@ -104,7 +106,7 @@ def register(app: Dash) -> None:
         return no_update if ws is None else view.outlay_text(ws, program)
 
     @app.callback(
-        Output(ids.WORKSPACE, "data", allow_duplicate=True),
+        Output(SAVED, "data", allow_duplicate=True),
         Output(ids.BT_OUTLAY_MESSAGE, "children"),
         Input(ids.BT_OUTLAY_SAVE, "n_clicks"),
         State(ids.BT_OUTLAY_PROGRAM, "value"), State(ids.BT_OUTLAY, "value"),
@@ -119,7 +121,7 @@ def register(app: Dash) -> None:
         return (new_ref.as_dict() if new_ref else no_update), message
 
     @app.callback(
-        Output(ids.WORKSPACE, "data", allow_duplicate=True), Output(ids.BT_SAVED, "children"),
+        Output(SAVED, "data", allow_duplicate=True), Output(ids.BT_SAVED, "children"),
         Input(ids.BT_SAVE, "n_clicks"), *(State(i, "value") for i in CHOICES),
         State(REF, "data"), prevent_initial_call=True,
     )

@@ -20,6 +20,8 @@ from . import view
 KEY = __package__.rsplit(".", 1)[-1]
 """The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
 REF = ids.screen_ref(KEY)
+SAVED = ids.screen_saved(KEY)  # what a change saved (the shell passes it on)
+GOTO = ids.screen_goto(KEY)  # a workspace to open (the shell puts it in the address)
 """The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
@@ -32,7 +34,7 @@ def register(app: Dash) -> None:
         r = WorkspaceRef.from_dict(ref)
         return view.workspace_options(rb.data), (r.id if r else None)
 
-    @app.callback(Output(ids.URL, "search", allow_duplicate=True),
+    @app.callback(Output(GOTO, "data", allow_duplicate=True),
                   Input(ids.IN_WORKSPACE_LIST, "value"), State(REF, "data"),
                   prevent_initial_call=True)
     def _open(chosen: Any, ref: Any) -> Any:
@@ -41,7 +43,7 @@ def register(app: Dash) -> None:
             return no_update
         return f"?ws={chosen}"
 
-    @app.callback(Output(ids.URL, "search", allow_duplicate=True),
+    @app.callback(Output(GOTO, "data", allow_duplicate=True),
                   Output(ids.IN_ADDED, "children", allow_duplicate=True),
                   Output(ids.IN_ADDED_AT, "data", allow_duplicate=True),
                   Input(ids.IN_NEW_WORKSPACE, "n_clicks"), State(ids.IN_NEW_NAME, "value"),
@@ -75,7 +77,7 @@ def register(app: Dash) -> None:
         ws = rb.data.load(r)
         return (*view.fiscal_view(ws), view.month_options(fiscal_start_of(ws)))
 
-    @app.callback(Output(ids.WORKSPACE, "data", allow_duplicate=True),
+    @app.callback(Output(SAVED, "data", allow_duplicate=True),
                   Output(ids.IN_FY_MESSAGE, "children"),
                   Input(ids.IN_FY_SAVE, "n_clicks"), State(ids.IN_WS_FY_MONTH, "value"),
                   State(REF, "data"), prevent_initial_call=True)
@@ -128,8 +130,8 @@ def register(app: Dash) -> None:
     def _kind(n: Any, series: Any, kind: Any, kinds: Any) -> Any:
         return view.apply_kind(kinds, series, kind) if n else no_update
 
-    @app.callback(Output(ids.URL, "search", allow_duplicate=True),
-                  Output(ids.WORKSPACE, "data", allow_duplicate=True),
+    @app.callback(Output(GOTO, "data", allow_duplicate=True),
+                  Output(SAVED, "data", allow_duplicate=True),
                   Output(ids.IN_ADDED, "children"), Output(ids.IN_ADDED_AT, "data"),
                   Input(ids.IN_ADD, "n_clicks"), State(ids.IN_PENDING, "data"),
                   State(ids.IN_FY_START, "value"), State(ids.IN_KINDS, "data"),

@@ -23,6 +23,8 @@ from . import view
 KEY = __package__.rsplit(".", 1)[-1]
 """The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
 REF = ids.screen_ref(KEY)
+SAVED = ids.screen_saved(KEY)  # what a change saved (the shell passes it on)
+GOTO = ids.screen_goto(KEY)  # a workspace to open (the shell puts it in the address)
 """The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
@@ -135,7 +137,7 @@ def register(app: Dash) -> None:
                                                      outlay=outlay))
 
     @app.callback(
-        Output(ids.WORKSPACE, "data", allow_duplicate=True), Output(ids.RT_SAVED, "children"),
+        Output(SAVED, "data", allow_duplicate=True), Output(ids.RT_SAVED, "children"),
         Input(ids.RT_SAVE, "n_clicks"),
         State(ids.RT_SERIES, "value"), State(ids.RT_DEFLATOR, "value"),
         State(ids.RT_BASE, "value"), State(ids.RT_FREQ, "value"), State(ids.RT_SA, "value"),
@@ -161,7 +163,7 @@ def register(app: Dash) -> None:
         return WorkspaceRef(saved.id, saved.version).as_dict(), f" Saved as version {saved.version:,}."
 
     @app.callback(
-        Output(ids.WORKSPACE, "data", allow_duplicate=True),
+        Output(SAVED, "data", allow_duplicate=True),
         Output(ids.RT_SA_MESSAGE, "children"),
         Input(ids.RT_SA_ALL, "n_clicks"),
         State(ids.RT_SA_METHOD, "value"), State(REF, "data"),

@@ -17,6 +17,8 @@ from . import view
 KEY = __package__.rsplit(".", 1)[-1]
 """The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
 REF = ids.screen_ref(KEY)
+SAVED = ids.screen_saved(KEY)  # what a change saved (the shell passes it on)
+GOTO = ids.screen_goto(KEY)  # a workspace to open (the shell puts it in the address)
 """The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
@@ -46,7 +48,7 @@ def register(app: Dash) -> None:
                 weights or str(ws.settings.get("cost_weights") or ""))
 
     @app.callback(
-        Output(ids.WORKSPACE, "data", allow_duplicate=True),
+        Output(SAVED, "data", allow_duplicate=True),
         Output(ids.SH_MESSAGE, "children"), Output(ids.SH_METHOD, "children"),
         Input(ids.SH_REBASE, "n_clicks"), Input(ids.SH_PROJECT, "n_clicks"),
         Input(ids.SH_LINK, "n_clicks"), Input(ids.SH_COST_BUILD, "n_clicks"),

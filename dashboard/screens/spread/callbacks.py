@@ -20,6 +20,8 @@ from . import view
 KEY = __package__.rsplit(".", 1)[-1]
 """The screen's key: its package's name (dashboard.screens.discover checks they agree)."""
 REF = ids.screen_ref(KEY)
+SAVED = ids.screen_saved(KEY)  # what a change saved (the shell passes it on)
+GOTO = ids.screen_goto(KEY)  # a workspace to open (the shell puts it in the address)
 """The workspace this screen computes for (set by the shell only while it is shown)."""
 
 
