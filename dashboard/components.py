@@ -192,3 +192,13 @@ def band_view(statements: Sequence[str], notes: Sequence[str | None] = (), *,
         children.append(html.Ul([html.Li(s) for s in statements]))
     children += [html.P(n) for n in notes]
     return html.Section(children, className="rb-band", role="status")
+
+
+def workspace_label(name: str, version: int, *, demo_copy: bool = False) -> list[Any]:
+    """The header's line naming the workspace shown; a copy of the demo says what it is,
+    so the user knows their changes went there and the shared demo is unchanged."""
+    out: list[Any] = ["Workspace: ", html.Strong(name), f" · version {version:,}"]
+    if demo_copy:
+        out.append(html.Span(" · your copy: changes to the demo are saved here, the shared "
+                             "demo stays as it was", className="rb-copy-note"))
+    return out

@@ -10,7 +10,7 @@ from pipeline.errors import RealbasisError
 
 from ... import ids
 from ...context import context
-from ...data import WorkspaceRef
+from ...data import WorkspaceRef, saved_words
 from ...writes import writes
 from .._shared.callbacks import (
     register_base_follows_series,
@@ -40,7 +40,7 @@ def register(app: Dash) -> None:
             return no_update
         ws = rb.data.load(r)
         s_opts, chosen, saved_interp = view.options_for(ws, series)
-        return s_opts, chosen, shown_base(ws, base), interp or saved_interp
+        return s_opts, chosen, shown_base(ws, base, chosen), interp or saved_interp
 
     @app.callback(Output(ids.RT_OUTLAY, "value"),
                   Input(ids.RT_SERIES, "value"), Input(ids.WORKSPACE, "data"))
@@ -129,7 +129,8 @@ def register(app: Dash) -> None:
         if r is None or not n:
             return no_update, no_update
         try:
-            saved = rb.data.save(view.save_choices(rb.data.load(r), series, deflator, base, freq,
+            before = rb.data.load(r)
+            saved = rb.data.save(view.save_choices(before, series, deflator, base, freq,
                                                    "sa" in (sa or []), interpolate=interp,
                                                    outlay=outlay,
                                                    pairs=view.pair_values(pair_ids, values),
@@ -137,7 +138,7 @@ def register(app: Dash) -> None:
                                  action="real-terms choices")
         except RealbasisError as err:
             return no_update, f" Not saved: {err.problems[0].message}"
-        return WorkspaceRef(saved.id, saved.version).as_dict(), f" Saved as version {saved.version:,}."
+        return WorkspaceRef(saved.id, saved.version).as_dict(), " " + saved_words(before, saved)
 
     @app.callback(
         Output(ids.WORKSPACE, "data", allow_duplicate=True),

@@ -43,7 +43,7 @@ from ...components import (
     table,
     warnings_view,
 )
-from ...data import DataAccess, WorkspaceRef
+from ...data import DataAccess, WorkspaceRef, saved_words
 from ...figures import (
     add_band,
     contributions_figure,
@@ -535,7 +535,7 @@ def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
     except RealbasisError as err:
         return None, problems_view(error_dicts(err), title="Not adjusted")
     return (WorkspaceRef(saved.id, saved.version),
-            html.Div([notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
+            html.Div([notice(f"{lines[0]} {saved_words(ws, saved)}", "ok"),
                       method_view(lines[1:], title="How they were adjusted")]))
 
 

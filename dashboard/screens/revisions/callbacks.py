@@ -32,7 +32,8 @@ def register(app: Dash) -> None:
         if r is None:
             return no_update
         ws = rb.data.load(r)
-        return (*view.options_for(ws, index, series), shown_base(ws, base))
+        opts = view.options_for(ws, index, series)
+        return (*opts, shown_base(ws, base, opts[3]))
 
     @app.callback(Output(ids.RV_OLD, "options"), Output(ids.RV_OLD, "value"),
                   Output(ids.RV_NEW, "options"), Output(ids.RV_NEW, "value"),

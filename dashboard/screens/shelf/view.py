@@ -19,7 +19,7 @@ from pipeline.errors import RealbasisError, fail
 from pipeline.model import Series, Workspace
 
 from ...components import Column, method_view, notice, problems_view, table
-from ...data import DataAccess, WorkspaceRef
+from ...data import DataAccess, WorkspaceRef, saved_words
 from ...figures import empty_figure, index_figure
 from .._shared.view import (
     UI005,
@@ -207,7 +207,7 @@ def act(data: DataAccess, ref: WorkspaceRef, action: Callable[[Workspace], tuple
     except RealbasisError as err:
         return None, problems_view(error_dicts(err), title="Not done"), None
     return (WorkspaceRef(saved.id, saved.version),
-            notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
+            notice(f"{lines[0]} {saved_words(ws, saved)}", "ok"),
             method_view(lines, title="What was done"))
 
 

@@ -38,7 +38,7 @@ def register(app: Dash) -> None:
             return no_update
         ws = rb.data.load(r)
         s_opts, chosen_series, saved_interp = view.options_for(ws, series, chosen)
-        return s_opts, chosen_series, shown_base(ws, base), interp or saved_interp
+        return s_opts, chosen_series, shown_base(ws, base, chosen_series), interp or saved_interp
 
     @app.callback(
         Output(ids.SP_DEFLATORS, "options"), Output(ids.SP_DEFLATORS, "value"),
