@@ -114,12 +114,27 @@ def notice(text: str | Sequence[str] | None, tone: Literal["info", "ok", "warn",
     return html.Div([html.P(line) for line in lines], className=f"rb-notice rb-{tone}", role=role)
 
 
+def unique_problems(problems: Sequence[Mapping[str, Any]]) -> list[Mapping[str, Any]]:
+    """Each problem once, in the order first met: the same warning reached by two paths
+    (a series deflated twice, a note the engine and the screen both add) is one item."""
+    seen: set[tuple[str, ...]] = set()
+    out = []
+    for p in problems:
+        key = tuple(str(p.get(k) or "") for k in ("code", "severity", "message", "where_text",
+                                                   "expected", "found", "fix"))
+        if key not in seen:
+            seen.add(key)
+            out.append(p)
+    return out
+
+
 def problems_view(problems: Sequence[Mapping[str, Any]], *, title: str = "Problems found"
                   ) -> html.Section:
     """The problem list: code, severity, where, what, expected/found and the fix."""
     if not problems:
         return html.Section([html.H3(title), html.P("No problems found.", className="rb-ok")],
                             className="rb-problems")
+    problems = unique_problems(problems)
     items = []
     for p in problems:
         where = p.get("where_text") or ""
@@ -146,6 +161,7 @@ def method_view(lines: Sequence[str], *, title: str = "How these figures were co
     if not lines:
         return html.Section([html.H3(title), html.P("Nothing computed yet.")],
                             className="rb-method")
+    lines = list(dict.fromkeys(lines))  # a note reached twice is said once
     return html.Section([html.H3(title), html.Ol([html.Li(line) for line in lines])],
                         className="rb-method")
 

@@ -208,7 +208,8 @@ def pick_series(ws: Workspace, key: str, group_of: str | None = None) -> Series:
 
         ranks = pd.concat([p.status_or_final().map(STATUS_RANK) for p in parts], axis=1).max(axis=1)
         status = ranks.map(dict(enumerate(STATUSES))).astype(object)
-    return Series(name=f"Total of {len(parts)} series", values=total.astype(float),
+    return Series(name=f"Total of {len(parts)} series ({parts_text(names)})",
+                  values=total.astype(float),
                   frequency=first.frequency, kind=first.kind, unit=first.unit, status=status,
                   notes=(f"sum of: {', '.join(names)}",))
 
@@ -354,14 +355,17 @@ def base_applies(ws: Workspace, base: str | None, series: Sequence[Series]) -> b
     return True
 
 
+_SAVED_BASE = object()
+
+
 def shown_base(ws: Workspace, current: str | None, series: Any = None, *,
-               saved: Any = None) -> str:
+               saved: Any = _SAVED_BASE) -> str:
     """The base field's value when a workspace opens or changes: the one typed while it
     still applies to the chosen series of this workspace (:func:`base_applies`), else the
     saved one (``saved``, default the workspace's saved base), else empty. So a base typed
     in one workspace does not follow the user into another it does not fit (an empty
     workspace shows no base)."""
-    saved_text = str((ws.settings.get("base") if saved is None else saved) or "")
+    saved_text = str((ws.settings.get("base") if saved is _SAVED_BASE else saved) or "")
     if not (current or "").strip():
         return saved_text
     chosen: list[Series] = []

@@ -763,7 +763,8 @@ def compute_total(ws: Workspace, key: str, values: dict[str, Any] | None, chain:
 
 
 def total_title(t: TotalComputed) -> str:
-    return (f"Total of {len(t.pairs):,} part(s), each by its own deflator, in "
+    return (f"Total of {len(t.pairs):,} part(s) ({parts_text(list(t.pairs))}), each by its "
+            f"own deflator, in "
             f"{t.total.dollars_label} ({t.unit}): {t.total.chain_words}")
 
 

@@ -34,7 +34,8 @@ def register(app: Dash) -> None:
             return no_update
         ws = rb.data.load(r)
         table_, fig, opts, chosen = view.outputs(ws, drawn)
-        return (table_, fig, opts, chosen, opts, opts, opts, opts,
+        links = view.link_options(ws)
+        return (table_, fig, opts, chosen, opts, links, links, opts,
                 weights or str(ws.settings.get("cost_weights") or ""))
 
     @app.callback(
