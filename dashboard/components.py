@@ -73,8 +73,10 @@ def format_cell(value: object, column: Column) -> str:
 
 def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
           caption: str | None = None, id: str | None = None,
-          empty: str = "Nothing to show.") -> html.Table | html.P:
-    """An accessible HTML table; numbers right-aligned and formatted."""
+          empty: str = "Nothing to show.") -> html.Div | html.P:
+    """An accessible HTML table; numbers right-aligned and formatted. The table sits in a
+    wrapper that scrolls sideways (``rb-scroll``, reachable by keyboard), so a wide table
+    is never cut off on a narrow screen; the id, when given, is the table's."""
     rows = list(rows)
     if not rows:
         return html.P(empty, className="rb-empty", id=id) if id else html.P(empty, className="rb-empty")
@@ -92,7 +94,9 @@ def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
     kwargs: dict[str, Any] = {"className": "rb-table"}
     if id:
         kwargs["id"] = id
-    return html.Table(children, **kwargs)
+    label = {"aria-label": caption} if caption else {}
+    return html.Div(html.Table(children, **kwargs), className="rb-scroll rb-table-wrap",
+                    tabIndex=0, role="region", **label)
 
 
 def field(label: str, control: Any, control_id: str, hint: str | None = None, *,

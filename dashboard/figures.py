@@ -31,7 +31,7 @@ PROJECTED_FILL = "rgba(86, 180, 233, 0.12)"  # sky blue, light
 BAND_FILL = "rgba(0, 114, 178, 0.15)"
 
 
-def _category_ticks(x: Sequence[str], most: int = 14) -> tuple[list[str], list[str]]:
+def _category_ticks(x: Sequence[str], most: int = 10) -> tuple[list[str], list[str]]:
     """Tick positions on a category axis of period labels: the first period of each year
     (2024-01, 2024Q1, FY2025Q1), thinned to at most ``most`` ticks; years label them."""
     firsts = [v for v in x if v.endswith(("-01", "Q1"))]
@@ -56,7 +56,9 @@ def _layout(fig: go.Figure, title: str, y_title: str, *, categories: bool = True
     )
     fig.update_yaxes(title_text=y_title, tickformat=",.0f", separatethousands=True)
     if categories:
-        fig.update_xaxes(type="category", tickangle=0)
+        # no fixed angle: plotly turns the labels when they would run into each other
+        # (a phone-wide chart), and keeps them level when they fit
+        fig.update_xaxes(type="category", automargin=True)
         if x:
             vals, text = _category_ticks(list(x))
             fig.update_xaxes(tickmode="array", tickvals=vals, ticktext=text)
