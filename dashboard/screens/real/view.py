@@ -112,6 +112,13 @@ class Computed:
     interpolate: bool = False      # a less frequent deflator filled in (Denton)
 
 
+def _whole_span(index: pd.Index, periods: pd.Index) -> pd.Index:
+    """The periods of ``periods`` from the first of ``index`` to its last (gaps kept)."""
+    if len(index) == 0:
+        return index
+    return periods[(periods >= index[0]) & (periods <= index[-1])]
+
+
 def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
     return Series(name=name, values=values.astype(float), frequency=frequency,
                   kind="flow" if like.kind == "index" else like.kind, unit=like.unit)
@@ -179,10 +186,16 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
         method.extend(adj_r.method_note())
         warnings.extend(adj_n.warnings)
         warnings.extend(adj_r.warnings)
+    # the figure's rows: every period from the first value to the last, a missing one
+    # kept empty (the engine's DF011 names it), so the chart breaks the line there
+    # instead of joining the values either side
+    shown = _whole_span(nominal.index, res.periods)
     frame = pd.DataFrame({
-        "period": res.frequency.labels(nominal.index),
-        "nominal": nominal.to_numpy(), "real": real.to_numpy(),
-        "deflator_index": index_used.to_numpy(), "status": status.astype(str).to_numpy(),
+        "period": res.frequency.labels(shown),
+        "nominal": nominal.reindex(shown).to_numpy(), "real": real.reindex(shown).to_numpy(),
+        "deflator_index": res.index_frame(0)[s.name].reindex(shown).to_numpy(),
+        "status": res.status_frame(0)[s.name].reindex(shown).where(
+            nominal.reindex(shown).notna(), "").astype(str).to_numpy(),
     })
     left_out = None
     if cut:
