@@ -170,8 +170,6 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
         res = deflate([s], [d], span, to=freq, fy_start=fy, interpolate=interp)
     nominal = res.nominal_series(s.name)
     real = res.real_series(s.name, 0)
-    status = res.status_frame(0)[s.name].reindex(nominal.index)
-    index_used = res.index_frame(0)[s.name].reindex(nominal.index)
     method = [*res.method_note(), *method_extra]
     warnings = list(res.warnings)
     if sa:
