@@ -231,6 +231,7 @@ def test_missing_months_break_the_line_and_are_named_on_every_screen(
 
     _screen(page, "revisions")
     _pick(page, "rv-series", "Sales with a gap")
+    _enter(page, "#rv-base", "2022")  # a base both vintages cover
     _gap_broken(_trace(page, "#rv-figure", "as of 2024-12-31"), "2023-05", "2023-06")
     _wait_text(page, "#rv-warnings", "DF011")
     _shot(page, output_dir, "gap-revisions")
@@ -244,8 +245,7 @@ def test_names_written_as_markup_are_shown_as_typed_in_the_charts(
         site: dict[str, Any], page: Any, output_dir: Path):
     _open(page, site, "gapped")
     _screen(page, "shelf")
-    _pick(page, "sh-index", "Bold", option="Bold</b> index")
-    page.wait_for_function(
+    page.wait_for_function(  # the shelf draws the first indexes, this one among them
         "t => Array.from(document.querySelectorAll('#sh-figure .legendtext'))"
         ".some(e => e.textContent.includes(t))", arg=BOLD, timeout=60_000)
     # no bold element and no link drawn from a name: the tags are text
@@ -253,15 +253,15 @@ def test_names_written_as_markup_are_shown_as_typed_in_the_charts(
     assert page.evaluate("() => document.querySelectorAll('#sh-figure svg a').length") == 0
     _shot(page, output_dir, "markup-shelf")
 
-    _screen(page, "real")
-    _pick(page, "rt-series", "Link", option="Link</a> revenue")
-    _pick(page, "rt-deflator", "Bold", option="Bold</b> index")
+    _screen(page, "spread")
+    _pick(page, "sp-series", "Link", option="Link</a> revenue")
+    _wait_text(page, "#sp-title", LINKED)  # the page's own title: text, as typed
     page.wait_for_function(
-        "t => Array.from(document.querySelectorAll('#rt-figure .legendtext'))"
-        ".some(e => e.textContent.includes(t))", arg=LINKED[:20], timeout=60_000)
-    assert page.evaluate("() => document.querySelectorAll('#rt-figure svg a').length") == 0
-    assert page.locator("#rt-figure .legend b").count() == 0
-    _shot(page, output_dir, "markup-real-terms")
+        "t => Array.from(document.querySelectorAll('#sp-figure .legendtext'))"
+        ".some(e => e.textContent.includes(t))", arg=BOLD, timeout=60_000)
+    assert page.evaluate("() => document.querySelectorAll('#sp-figure svg a').length") == 0
+    assert page.locator("#sp-figure .legend b").count() == 0
+    _shot(page, output_dir, "markup-spread")
 
 
 # --------------------------------------------------------------------------- workspace switch
