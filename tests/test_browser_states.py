@@ -306,7 +306,7 @@ def test_changes_to_the_demo_go_to_one_dated_copy_and_the_user_is_told(
     message = page.inner_text("#sh-message")
     assert name in message and "shared demo is left as it was" in message
     _wait_text(page, "#rb-workspace-label", name)
-    assert "your copy" in page.inner_text("#rb-workspace-label")
+    _wait_text(page, "#rb-workspace-label", "your copy")
     _shot(page, output_dir, "demo-copy-first")
     # back to the shared demo, another change: the same copy, said so
     _screen(page, "intake")

@@ -296,6 +296,20 @@ def test_relinking_under_a_taken_name_names_the_new_result(small: Workspace):
     first = shared.pick_index(ws, "Index A linked with Index B")
     assert shared.pick_index(again, "Index A linked with Index B").values.equals(first.values)
     assert any("stays as it was" in line and "(2)" in line for line in lines)
+
+
+def test_the_shelf_message_says_when_a_name_was_taken(access: DataAccess, small: Workspace):
+    ws = access.create("relink")
+    ws = access.save(dataclasses.replace(ws, series=small.series, indexes=small.indexes),
+                     action="setup")
+    ref, _msg, _ = shelf_view.run_action(access, WorkspaceRef(ws.id, ws.version), "link",
+                                         old="Index A", new="Index B", overlap="2024-12")
+    assert ref is not None
+    _ref2, msg, _ = shelf_view.run_action(access, ref, "link", old="Index A", new="Index B",
+                                         overlap="2024-12")
+    text = str(msg.to_plotly_json())
+    assert "Index A linked with Index B (2)" in text and "stays as it was" in text
+    assert "Saved as version" in text
     # the same for a rebase under a name already there
     r1, _ = shelf_view.rebase_index(small, "Index A", "2024")
     r2, lines = shelf_view.rebase_index(r1, "Index A", "2024")

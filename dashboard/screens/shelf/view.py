@@ -77,6 +77,7 @@ def figure_items(ws: Workspace, names: Sequence[str]) -> list[dict[str, Any]]:
     return items
 
 
+NAME_TAKEN = "An index named"
 VINTAGE_MARK = " · vintage "
 """Joins an index's name and an older vintage in the link pickers' values."""
 
@@ -132,7 +133,7 @@ def _add_new(ws: Workspace, s: Series, wanted: str) -> tuple[Workspace, Series, 
     name = free_name(ws, wanted)
     out = dataclasses.replace(s, name=name)
     note = ([] if name == wanted else
-            [f"An index named {wanted!r} is on the shelf already and stays as it was; this "
+            [f"{NAME_TAKEN} {wanted!r} is on the shelf already and stays as it was; this "
              f"result is named {name!r}."])
     return _put_index(ws, out), out, note
 
@@ -264,7 +265,9 @@ def act(data: DataAccess, ref: WorkspaceRef, action: Callable[[Workspace], tuple
     except RealbasisError as err:
         return None, problems_view(error_dicts(err), title="Not done"), None
     return (WorkspaceRef(saved.id, saved.version),
-            notice(f"{lines[0]} {saved_words(ws, saved)}", "ok"),
+            notice(" ".join([lines[0], *(line for line in lines[1:]
+                                         if line.startswith(NAME_TAKEN)),
+                             saved_words(ws, saved)]), "ok"),
             method_view(lines, title="What was done"))
 
 
