@@ -153,7 +153,9 @@ def real_terms_figure(table: pd.DataFrame, *, title: str, unit: str, real_label:
     _line(fig, x, _num(table["real"]), status, real_label, LINE_COLOURS[0], "solid",
           "square", unit)
     _shade(fig, status)
-    return _layout(fig, plain(title), plain(unit), x=x)
+    _layout(fig, plain(title), plain(unit), x=x)
+    _legend_below(fig, [str(t.name) for t in fig.data])
+    return fig
 
 
 def spread_figure(table: pd.DataFrame, *, title: str, unit: str,
@@ -197,7 +199,9 @@ def spread_figure(table: pd.DataFrame, *, title: str, unit: str,
         _line(fig, periods, _num(nominal), status, "Nominal", NOMINAL_COLOUR, "dot", "circle",
               unit)
     _shade(fig, status)
-    return _layout(fig, plain(title), plain(unit), x=periods)
+    _layout(fig, plain(title), plain(unit), x=periods)
+    _legend_below(fig, [str(t.name) for t in fig.data])
+    return fig
 
 
 def index_figure(indexes: Sequence[Mapping[str, object]], *, title: str) -> go.Figure:
@@ -236,21 +240,23 @@ def index_figure(indexes: Sequence[Mapping[str, object]], *, title: str) -> go.F
     return fig
 
 
-def _legend_below(fig: go.Figure, names: Sequence[str], *, width: int = 900) -> None:
-    """The legend under the plot, with the bottom margin it needs, so however many
-    entries it holds it never covers the lines (above the plot a legend of several rows
-    runs into the plot area). Rows are estimated from the entries' lengths at a plot
-    about ``width`` pixels wide; plotly grows the margin further if it needs to."""
-    per_row = max(1, width // 8)
+def _legend_below(fig: go.Figure, names: Sequence[str], *, width: int = 600) -> None:
+    """The legend at the foot of the figure, under the axis labels, with the bottom
+    margin it needs, so however many entries it holds it never covers the lines (above
+    the plot a legend of several rows ran into the plot area). Rows are estimated from
+    the entries' lengths at a plot about ``width`` pixels wide (a phone-wide chart puts
+    one long entry to a row)."""
+    per_row = max(1, width // 7)
     rows, used = 1, 0
     for n in names:
         need = len(n) + 6
         if used and used + need > per_row:
             rows, used = rows + 1, 0
         used += need
-    fig.update_layout(legend={"orientation": "h", "yanchor": "top", "y": -0.08, "x": 0,
-                              "xanchor": "left"},
-                      margin={"b": 60 + 22 * rows, "t": 30})
+    top = 70 if fig.layout.title.text else 30
+    fig.update_layout(legend={"orientation": "h", "yref": "container", "yanchor": "bottom",
+                              "y": 0.005, "x": 0, "xanchor": "left"},
+                      margin={"b": 64 + 21 * rows, "t": top})
 
 
 def revisions_figure(table: pd.DataFrame, *, title: str, unit: str, old_label: str,
@@ -274,6 +280,7 @@ def revisions_figure(table: pd.DataFrame, *, title: str, unit: str, old_label: s
               else "final") for a, b in zip(table["status_old"], table["status_new"], strict=True)]
     _shade(fig, status)
     _layout(fig, plain(title), plain(unit), x=x)
+    _legend_below(fig, [str(t.name) for t in fig.data])
     fig.update_layout(yaxis2={"overlaying": "y", "side": "right", "showgrid": False,
                               "title": {"text": f"change ({plain(unit)})"}, "tickformat": ",.1f"})
     return fig

@@ -196,8 +196,9 @@ def test_preliminary_and_projected_labels_never_share_a_line():
 
 def test_shelf_legend_sits_under_the_plot():
     fig = shelf_view.outputs(_gapped(), ["Index A"])[1]
-    assert fig.layout.legend.yanchor == "top" and fig.layout.legend.y < 0
-    assert fig.layout.margin.b >= 80  # room for the legend below the axis
+    legend = fig.layout.legend
+    assert legend.yref == "container" and legend.yanchor == "bottom" and legend.y < 0.05
+    assert fig.layout.margin.b >= 85  # room for the axis labels and the legend under them
 
 
 # --------------------------------------------------------------------------- workspace switch
