@@ -108,7 +108,7 @@ def _open(page: Any, site: dict[str, Any], ws: str | None = None) -> None:
 
 
 def _screen(page: Any, key: str) -> None:
-    page.click(f"#rb-nav-{key}")
+    page.click(f"#rb-nav-{key}", timeout=90_000)
     page.wait_for_selector(f"#rb-screen-{key}:not([hidden])", timeout=60_000)
 
 
