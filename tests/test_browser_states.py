@@ -371,10 +371,13 @@ def test_a_total_names_its_series_problems_once_and_labels_apart(
     _screen(page, "real")
     _pick(page, "rt-series", "Sales with a gap")
     _pick(page, "rt-deflator", "Area price index")
-    _wait_text(page, "#rt-title", "Sales with a gap")
+    _enter(page, "#rt-base", "2022")  # a final base: 2024-10 preliminary, then projected
+    _wait_text(page, "#rt-title", "Sales with a gap in constant 2022")
     page.wait_for_function(
-        "() => Array.from(document.querySelectorAll('#rt-figure .annotation-text'))"
-        ".map(e => e.textContent).join('|').includes('projected')", timeout=60_000)
+        "() => { const t = Array.from(document.querySelectorAll('#rt-figure .annotation-text'))"
+        ".map(e => e.textContent).join('|');"
+        " return t.includes('projected') && t.includes('preliminary index'); }",
+        timeout=60_000)
     labels = _rects(page, "#rt-figure .annotation")
     assert len(labels) >= 2 and _overlaps(labels) == [], labels
     page.locator("#rt-figure").screenshot(path=str(output_dir / "states-stretch-labels.png"))
