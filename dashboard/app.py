@@ -24,8 +24,9 @@ from pipeline.settings import Settings, load_settings
 from pipeline.store import WorkspaceStore
 
 from . import access, failures, ids, jobs
+from .components import workspace_label
 from .context import AppContext, attach, context
-from .data import DEMO_NAME, DataAccess, WorkspaceRef
+from .data import DEMO_NAME, DataAccess, WorkspaceRef, is_demo_copy
 from .results import ResultCache
 from .screens import ScreenInfo, discover
 from .secret import secret_key
@@ -132,7 +133,7 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
         if ref is None:
             return "Opening workspace…"
         ws = rb.data.load(ref)
-        return ["Workspace: ", html.Strong(ws.name), f" · version {ws.version:,}"]
+        return workspace_label(ws.name, ws.version, demo_copy=is_demo_copy(ws.name))
 
     # Screen switching runs in the browser (no round trip): the address's #key, or a click
     # on the navigation, shows one section and records the key in SCREEN.

@@ -73,8 +73,10 @@ def format_cell(value: object, column: Column) -> str:
 
 def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
           caption: str | None = None, id: str | None = None,
-          empty: str = "Nothing to show.") -> html.Table | html.P:
-    """An accessible HTML table; numbers right-aligned and formatted."""
+          empty: str = "Nothing to show.") -> html.Div | html.P:
+    """An accessible HTML table; numbers right-aligned and formatted. The table sits in a
+    wrapper that scrolls sideways (``rb-scroll``, reachable by keyboard), so a wide table
+    is never cut off on a narrow screen; the id, when given, is the table's."""
     rows = list(rows)
     if not rows:
         return html.P(empty, className="rb-empty", id=id) if id else html.P(empty, className="rb-empty")
@@ -92,7 +94,9 @@ def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
     kwargs: dict[str, Any] = {"className": "rb-table"}
     if id:
         kwargs["id"] = id
-    return html.Table(children, **kwargs)
+    label = {"aria-label": caption} if caption else {}
+    return html.Div(html.Table(children, **kwargs), className="rb-scroll rb-table-wrap",
+                    tabIndex=0, role="region", **label)
 
 
 def field(label: str, control: Any, control_id: str, hint: str | None = None, *,
@@ -114,12 +118,27 @@ def notice(text: str | Sequence[str] | None, tone: Literal["info", "ok", "warn",
     return html.Div([html.P(line) for line in lines], className=f"rb-notice rb-{tone}", role=role)
 
 
+def unique_problems(problems: Sequence[Mapping[str, Any]]) -> list[Mapping[str, Any]]:
+    """Each problem once, in the order first met: the same warning reached by two paths
+    (a series deflated twice, a note the engine and the screen both add) is one item."""
+    seen: set[tuple[str, ...]] = set()
+    out = []
+    for p in problems:
+        key = tuple(str(p.get(k) or "") for k in ("code", "severity", "message", "where_text",
+                                                   "expected", "found", "fix"))
+        if key not in seen:
+            seen.add(key)
+            out.append(p)
+    return out
+
+
 def problems_view(problems: Sequence[Mapping[str, Any]], *, title: str = "Problems found"
                   ) -> html.Section:
     """The problem list: code, severity, where, what, expected/found and the fix."""
     if not problems:
         return html.Section([html.H3(title), html.P("No problems found.", className="rb-ok")],
                             className="rb-problems")
+    problems = unique_problems(problems)
     items = []
     for p in problems:
         where = p.get("where_text") or ""
@@ -146,6 +165,7 @@ def method_view(lines: Sequence[str], *, title: str = "How these figures were co
     if not lines:
         return html.Section([html.H3(title), html.P("Nothing computed yet.")],
                             className="rb-method")
+    lines = list(dict.fromkeys(lines))  # a note reached twice is said once
     return html.Section([html.H3(title), html.Ol([html.Li(line) for line in lines])],
                         className="rb-method")
 
@@ -192,3 +212,13 @@ def band_view(statements: Sequence[str], notes: Sequence[str | None] = (), *,
         children.append(html.Ul([html.Li(s) for s in statements]))
     children += [html.P(n) for n in notes]
     return html.Section(children, className="rb-band", role="status")
+
+
+def workspace_label(name: str, version: int, *, demo_copy: bool = False) -> list[Any]:
+    """The header's line naming the workspace shown; a copy of the demo says what it is,
+    so the user knows their changes went there and the shared demo is unchanged."""
+    out: list[Any] = ["Workspace: ", html.Strong(name), f" · version {version:,}"]
+    if demo_copy:
+        out.append(html.Span(" · your copy: changes to the demo are saved here, the shared "
+                             "demo stays as it was", className="rb-copy-note"))
+    return out

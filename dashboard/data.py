@@ -43,11 +43,39 @@ UI703 = register("UI703", "upload space of this session is used up")
 
 DEMO_NAME = "Demo: Harbourline Outfitters and Tallmere Transit (illustrative)"
 DEMO_COPY_NAME = "My copy of the demo (illustrative)"
+"""The start of every copy's name; the copy's own name carries its date
+(:func:`demo_copy_name`)."""
+DEMO_COPY_PREFIX = "My copy of the demo"
 DEMO_DIR = Path(__file__).resolve().parent.parent / "demo_data"
 _UPLOAD_ID_RE = re.compile(r"^[0-9a-f]{32}$")
 _WORKSPACE_ID_RE = re.compile(r"^[A-Za-z0-9_.-]{1,64}$")
 MAX_VERSION = 2**31 - 1
 CACHE_SIZE = 16
+
+
+def demo_copy_name(day: object = None) -> str:
+    """'My copy of the demo, 3 Dec 2026 (illustrative)': the copy says when it was made."""
+    import datetime as dt
+
+    d = day if isinstance(day, dt.date) else dt.date.today()
+    return f"{DEMO_COPY_PREFIX}, {d.day} {d:%b %Y} (illustrative)"
+
+
+def is_demo_copy(name: str) -> bool:
+    return name.startswith(DEMO_COPY_PREFIX)
+
+
+def saved_words(before: Workspace, saved: Workspace) -> str:
+    """'Saved as version 3.' — and, when the change was to the shared demo, where it went:
+    the session's one copy of the demo, by name; the demo itself is left as it was."""
+    text = f"Saved as version {saved.version:,}."
+    if before.name == DEMO_NAME and saved.id != before.id:
+        text += (f" The shared demo is left as it was: your changes are in your copy, "
+                 f"{saved.name!r}.")
+        if saved.version > 2:
+            text += (" This change started again from the demo; the copy's earlier "
+                     "versions stay in its history.")
+    return text
 
 
 @dataclass(frozen=True)
@@ -126,12 +154,46 @@ class DataAccess:
         it is saved into a new workspace (a copy) instead; the returned workspace says
         which."""
         if ws.name == DEMO_NAME:
-            copy = self.store.create(DEMO_COPY_NAME, actor=actor)
-            ws = dataclasses.replace(ws, id=copy.id, name=copy.name, version=copy.version)
-            action = f"{action} (on a copy of the shared demo)"
-        saved = self.store.save(ws, expected_version=ws.version, actor=actor, action=action)
+            require_write("save a change to the demo")
+            with self._file_lock("demo-copies.lock"):
+                copy = self._session_copy()
+                if copy is None:
+                    copy = self.store.create(demo_copy_name(), actor=actor)
+                    self._remember_copy(copy.id)
+                    action = f"{action} (on a copy of the shared demo)"
+                else:
+                    action = (f"{action} (on this session's copy of the shared demo, "
+                              "starting again from the demo)")
+                ws = dataclasses.replace(ws, id=copy.id, name=copy.name, version=copy.version)
+                saved = self.store.save(ws, expected_version=ws.version, actor=actor,
+                                        action=action)
+        else:
+            saved = self.store.save(ws, expected_version=ws.version, actor=actor, action=action)
         self._remember(saved)
         return saved
+
+    def _copy_record(self) -> Path:
+        session = current_access().session or "local"
+        digest = hashlib.sha256(f"rb-demo-copy:{session}".encode()).hexdigest()[:32]
+        return Path(self.settings.data_dir).resolve() / "demo-copies" / f"{digest}.json"
+
+    def _session_copy(self) -> Workspace | None:
+        """This browser session's copy of the demo (latest version), if it made one: each
+        change to the demo in a session goes to that one copy, not to yet another."""
+        try:
+            copy_id = json.loads(self._copy_record().read_text(encoding="utf-8"))["id"]
+        except (OSError, ValueError, KeyError, TypeError):
+            return None
+        if not isinstance(copy_id, str) or not self.store.exists(copy_id):
+            return None
+        return self.latest(copy_id)
+
+    def _remember_copy(self, copy_id: str) -> None:
+        path = self._copy_record()
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = path.with_suffix(f".{secrets.token_hex(4)}.tmp")
+        tmp.write_text(json.dumps({"id": copy_id}), encoding="utf-8")
+        os.replace(tmp, path)
 
     def create(self, name: str, *, actor: str = "editor") -> Workspace:
         ws = self.store.create(name, actor=actor)

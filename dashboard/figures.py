@@ -46,7 +46,7 @@ def new_figure() -> go.Figure:
     return go.Figure(layout={"template": TEMPLATE})
 
 
-def _category_ticks(x: Sequence[str], most: int = 14) -> tuple[list[str], list[str]]:
+def _category_ticks(x: Sequence[str], most: int = 10) -> tuple[list[str], list[str]]:
     """Tick positions on a category axis of period labels: the first period of each year
     (2024-01, 2024Q1, FY2025Q1), thinned to at most ``most`` ticks; years label them."""
     firsts = [v for v in x if v.endswith(("-01", "Q1"))]
@@ -70,7 +70,9 @@ def _layout(fig: go.Figure, title: str, y_title: str, *, categories: bool = True
     )
     fig.update_yaxes(title_text=y_title, tickformat=",.0f", separatethousands=True)
     if categories:
-        fig.update_xaxes(type="category", tickangle=0)
+        # no fixed angle: plotly turns the labels when they would run into each other
+        # (a phone-wide chart), and keeps them level when they fit
+        fig.update_xaxes(type="category", automargin=True)
         if x:
             vals, text = _category_ticks(list(x))
             fig.update_xaxes(tickmode="array", tickvals=vals, ticktext=text)
@@ -92,17 +94,26 @@ def _stretches(status: Sequence[str], which: str) -> list[tuple[int, int]]:
     return out
 
 
-def _shade(fig: go.Figure, status: Sequence[str]) -> None:
-    """Shade preliminary and projected stretches (category positions, ±0.5)."""
-    # the projected label sits at the right of its stretch, so it never runs into the
-    # preliminary label when a short preliminary stretch comes just before it
-    for which, fill, text, where in (
-            ("preliminary", PRELIM_FILL, "preliminary index", "top left"),
-            ("projected", PROJECTED_FILL, "projected", "top right")):
+STRETCH_LABELS = (("preliminary", PRELIM_FILL, "preliminary index", "top left", 0),
+                  ("projected", PROJECTED_FILL, "projected", "top right", -16))
+"""How each kind of stretch is shaded and labelled: (status, fill, label, position,
+vertical shift). The two labels never share a line: the projected one sits at the right
+of its stretch and one line lower, so a short preliminary stretch just before a
+projected one (the usual budget picture) cannot put one label over the other."""
+
+
+def _shade(fig: go.Figure, status: Sequence[str], *, rows: int | None = None) -> None:
+    """Shade preliminary and projected stretches (category positions, ±0.5); with
+    ``rows`` across every row of a subplot figure, labelled in the first."""
+    for which, fill, text, where, shift in STRETCH_LABELS:
         for a, b in _stretches(status, which):
-            fig.add_vrect(x0=a - 0.5, x1=b + 0.5, fillcolor=fill, line_width=0, layer="below",
-                          annotation_text=text, annotation_position=where,
-                          annotation_font_size=11)
+            for r in (range(1, rows + 1) if rows else (None,)):
+                label = ({"annotation_text": text, "annotation_position": where,
+                          "annotation_font_size": 11, "annotation_yshift": shift}
+                         if r in (None, 1) else {})
+                place = {"row": r, "col": 1} if r else {}
+                fig.add_vrect(x0=a - 0.5, x1=b + 0.5, fillcolor=fill, line_width=0,
+                              layer="below", **place, **label)
 
 
 def _split_projected(x: Sequence[str], y: Sequence[float], status: Sequence[str]
@@ -130,15 +141,16 @@ def _num(values: Sequence[object]) -> list[float | None]:
 def _line(fig: go.Figure, x: Sequence[str], y: Sequence[float | None], status: Sequence[str],
           name: str, colour: str, dash: str, marker: str, unit: str) -> None:
     solid, dashed = _split_projected(x, y, status)
-    hover = f"%{{y:,.1f}} {unit}" if unit else "%{y:,.1f}"
-    fig.add_trace(go.Scatter(x=list(x), y=solid, name=name, mode="lines",
+    hover = f"%{{y:,.1f}} {plain(unit)}" if unit else "%{y:,.1f}"
+    fig.add_trace(go.Scatter(x=list(x), y=solid, name=plain(name), mode="lines",
                              line={"color": colour, "dash": dash, "width": 2},
                              marker={"symbol": marker}, hovertemplate=hover,
-                             legendgroup=name))
+                             legendgroup=plain(name), connectgaps=False))
     if any(v is not None for v in dashed):
-        fig.add_trace(go.Scatter(x=list(x), y=dashed, name=f"{name} (projected)",
+        fig.add_trace(go.Scatter(x=list(x), y=dashed, name=plain(f"{name} (projected)"),
                                  mode="lines", line={"color": colour, "dash": "dash", "width": 2},
-                                 hovertemplate=hover, legendgroup=name, showlegend=True))
+                                 hovertemplate=hover, legendgroup=plain(name), showlegend=True,
+                                 connectgaps=False))
 
 
 def real_terms_figure(table: pd.DataFrame, *, title: str, unit: str, real_label: str,
@@ -155,7 +167,9 @@ def real_terms_figure(table: pd.DataFrame, *, title: str, unit: str, real_label:
     _line(fig, x, _num(table["real"]), status, real_label, LINE_COLOURS[0], "solid",
           "square", unit)
     _shade(fig, status)
-    return _layout(fig, title, unit, x=x)
+    _layout(fig, plain(title), plain(unit), x=x)
+    _legend_below(fig, [str(t.name) for t in fig.data])
+    return fig
 
 
 def spread_figure(table: pd.DataFrame, *, title: str, unit: str,
@@ -166,17 +180,24 @@ def spread_figure(table: pd.DataFrame, *, title: str, unit: str,
     nominal, real, status)."""
     fig = new_figure()
     if table.empty:
-        return _layout(fig, title, unit)
-    wide = table.pivot_table(index="period", columns="deflator", values="real", sort=False)
+        return _layout(fig, plain(title), plain(unit))
+    # every period of the table keeps its place, an empty one too (pivot_table would drop
+    # a period with no value under any deflator, and the lines would bridge it)
+    order = list(dict.fromkeys(table["period"]))
+    deflators = list(dict.fromkeys(table["deflator"]))
+    wide = (table.drop_duplicates(["period", "deflator"])
+            .pivot(index="period", columns="deflator", values="real")
+            .reindex(index=order, columns=deflators))
     periods = [str(p) for p in wide.index]
     lo = wide.min(axis=1, skipna=True)
     hi = wide.max(axis=1, skipna=True)
     if wide.shape[1] > 1:
         fig.add_trace(go.Scatter(x=periods, y=_num(lo), mode="lines", line={"width": 0},
-                                 hoverinfo="skip", showlegend=False, name="lowest"))
+                                 hoverinfo="skip", showlegend=False, name="lowest",
+                                 connectgaps=False))
         fig.add_trace(go.Scatter(x=periods, y=_num(hi), mode="lines", line={"width": 0},
                                  fill="tonexty", fillcolor=BAND_FILL, hoverinfo="skip",
-                                 name="range between deflators"))
+                                 name="range between deflators", connectgaps=False))
     # Worst status per period across deflators, for shading and dashes.
     rank = {"final": 0, "preliminary": 1, "projected": 2}
     st = (table.assign(_r=table["status"].map(rank).fillna(0))
@@ -192,7 +213,9 @@ def spread_figure(table: pd.DataFrame, *, title: str, unit: str,
         _line(fig, periods, _num(nominal), status, "Nominal", NOMINAL_COLOUR, "dot", "circle",
               unit)
     _shade(fig, status)
-    return _layout(fig, title, unit, x=periods)
+    _layout(fig, plain(title), plain(unit), x=periods)
+    _legend_below(fig, [str(t.name) for t in fig.data])
+    return fig
 
 
 def index_figure(indexes: Sequence[Mapping[str, object]], *, title: str) -> go.Figure:
@@ -208,11 +231,12 @@ def index_figure(indexes: Sequence[Mapping[str, object]], *, title: str) -> go.F
         labels = list(item["labels"])  # type: ignore[call-overload]
         solid, dashed = _split_projected(x, y, status)
         prelim = [v if s == "preliminary" else None for v, s in zip(y, status, strict=True)]
-        name = str(item["name"])
+        name = plain(item["name"])
         hover = "%{customdata}: %{y:,.2f}"
+        labels = [plain(v) for v in labels]
         fig.add_trace(go.Scatter(x=x, y=solid, customdata=labels, name=name, mode="lines",
                                  line={"color": colour, "dash": DASHES[i % len(DASHES)]},
-                                 hovertemplate=hover, legendgroup=name))
+                                 hovertemplate=hover, legendgroup=name, connectgaps=False))
         if any(v is not None for v in prelim):
             fig.add_trace(go.Scatter(x=x, y=prelim, customdata=labels,
                                      name=f"{name} (preliminary)", mode="markers",
@@ -222,11 +246,31 @@ def index_figure(indexes: Sequence[Mapping[str, object]], *, title: str) -> go.F
             fig.add_trace(go.Scatter(x=x, y=dashed, customdata=labels,
                                      name=f"{name} (projected)", mode="lines",
                                      line={"color": colour, "dash": "dash"},
-                                     hovertemplate=hover, legendgroup=name))
-    _layout(fig, title, "index", categories=False)
+                                     hovertemplate=hover, legendgroup=name, connectgaps=False))
+    _layout(fig, plain(title), "index", categories=False)
     fig.update_yaxes(tickformat=",.1f")
     fig.update_layout(hovermode="closest")
+    _legend_below(fig, [str(t.name) for t in fig.data])
     return fig
+
+
+def _legend_below(fig: go.Figure, names: Sequence[str], *, width: int = 600) -> None:
+    """The legend at the foot of the figure, under the axis labels, with the bottom
+    margin it needs, so however many entries it holds it never covers the lines (above
+    the plot a legend of several rows ran into the plot area). Rows are estimated from
+    the entries' lengths at a plot about ``width`` pixels wide (a phone-wide chart puts
+    one long entry to a row)."""
+    per_row = max(1, width // 7)
+    rows, used = 1, 0
+    for n in names:
+        need = len(n) + 6
+        if used and used + need > per_row:
+            rows, used = rows + 1, 0
+        used += need
+    top = 70 if fig.layout.title.text else 30
+    fig.update_layout(legend={"orientation": "h", "yref": "container", "yanchor": "bottom",
+                              "y": 0.005, "x": 0, "xanchor": "left"},
+                      margin={"b": 64 + 21 * rows, "t": top})
 
 
 def revisions_figure(table: pd.DataFrame, *, title: str, unit: str, old_label: str,
@@ -236,21 +280,23 @@ def revisions_figure(table: pd.DataFrame, *, title: str, unit: str, old_label: s
     ``table``: columns period, real_old, real_new, status_old, status_new."""
     fig = new_figure()
     x = [str(p) for p in table["period"]]
-    hover = f"%{{y:,.1f}} {unit}"
-    fig.add_trace(go.Scatter(x=x, y=_num(table["real_old"]), name=old_label, mode="lines",
+    hover = f"%{{y:,.1f}} {plain(unit)}"
+    fig.add_trace(go.Scatter(x=x, y=_num(table["real_old"]), name=plain(old_label), mode="lines",
                              line={"color": LINE_COLOURS[1], "dash": "dot", "width": 2},
-                             hovertemplate=hover))
-    fig.add_trace(go.Scatter(x=x, y=_num(table["real_new"]), name=new_label, mode="lines",
-                             line={"color": LINE_COLOURS[0], "width": 2}, hovertemplate=hover))
+                             hovertemplate=hover, connectgaps=False))
+    fig.add_trace(go.Scatter(x=x, y=_num(table["real_new"]), name=plain(new_label), mode="lines",
+                             line={"color": LINE_COLOURS[0], "width": 2}, hovertemplate=hover,
+                             connectgaps=False))
     diff = _num(pd.to_numeric(table["real_new"]) - pd.to_numeric(table["real_old"]))
     fig.add_trace(go.Bar(x=x, y=diff, name="change (later minus earlier)", yaxis="y2",
                          marker={"color": LINE_COLOURS[2]}, hovertemplate=hover, opacity=0.7))
     status = ["preliminary" if "preliminary" in (a, b) else ("projected" if "projected" in (a, b)
               else "final") for a, b in zip(table["status_old"], table["status_new"], strict=True)]
     _shade(fig, status)
-    _layout(fig, title, unit, x=x)
+    _layout(fig, plain(title), plain(unit), x=x)
+    _legend_below(fig, [str(t.name) for t in fig.data])
     fig.update_layout(yaxis2={"overlaying": "y", "side": "right", "showgrid": False,
-                              "title": {"text": f"change ({unit})"}, "tickformat": ",.1f"})
+                              "title": {"text": f"change ({plain(unit)})"}, "tickformat": ",.1f"})
     return fig
 
 
@@ -258,7 +304,7 @@ def empty_figure(message: str) -> go.Figure:
     fig = new_figure()
     fig.update_layout(xaxis={"visible": False},
                       yaxis={"visible": False},
-                      annotations=[{"text": message, "showarrow": False, "font": {"size": 14},
+                      annotations=[{"text": plain(message), "showarrow": False, "font": {"size": 14},
                                     "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5}])
     return fig
 
@@ -289,14 +335,7 @@ def part_style(i: int) -> dict[str, str]:
 
 def _shade_rows(fig: go.Figure, status: Sequence[str], rows: int) -> None:
     """Preliminary and projected stretches shaded across every row of a subplot figure."""
-    for which, fill, text in (("preliminary", PRELIM_FILL, "preliminary index"),
-                              ("projected", PROJECTED_FILL, "projected")):
-        for a, b in _stretches(status, which):
-            for r in range(1, rows + 1):
-                label = {"annotation_text": text, "annotation_position": "top left",
-                         "annotation_font_size": 11} if r == 1 else {}
-                fig.add_vrect(x0=a - 0.5, x1=b + 0.5, fillcolor=fill, line_width=0,
-                              layer="below", row=r, col=1, **label)
+    _shade(fig, status, rows=rows)
 
 
 def _title_over_legend(fig: go.Figure, top: int = 150) -> None:
@@ -326,25 +365,25 @@ def total_figure(levels: pd.DataFrame, *, parts: Sequence[str], part_status: Map
         solid, dashed = _split_projected(x, _num(levels[name]), status)
         fig.add_trace(go.Scatter(x=x, y=solid, name=plain(name), mode="lines",
                                  line={"color": st["colour"], "dash": st["dash"], "width": 1.6},
-                                 hovertemplate=hover, legendgroup=plain(name)), row=1, col=1)
+                                 hovertemplate=hover, legendgroup=plain(name), connectgaps=False), row=1, col=1)
         if any(v is not None for v in dashed):
             fig.add_trace(go.Scatter(x=x, y=dashed, name=plain(f"{name} (projected)"),
                                      mode="lines", line={"color": st["colour"], "dash": "dash"},
-                                     hovertemplate=hover, legendgroup=plain(name)), row=1, col=1)
+                                     hovertemplate=hover, legendgroup=plain(name), connectgaps=False), row=1, col=1)
     status = [str(s) for s in total_status]
     solid, dashed = _split_projected(x, _num(levels["total"]), status)
     fig.add_trace(go.Scatter(x=x, y=solid, name=plain(total_label), mode="lines",
                              line={"color": TOTAL_COLOUR, "width": 3}, hovertemplate=hover,
-                             legendgroup="total"), row=1, col=1)
+                             legendgroup="total", connectgaps=False), row=1, col=1)
     if any(v is not None for v in dashed):
         fig.add_trace(go.Scatter(x=x, y=dashed, name=plain(f"{total_label} (projected)"),
                                  mode="lines", line={"color": TOTAL_COLOUR, "dash": "dash",
                                                      "width": 3},
-                                 hovertemplate=hover, legendgroup="total"), row=1, col=1)
+                                 hovertemplate=hover, legendgroup="total", connectgaps=False), row=1, col=1)
     fig.add_trace(go.Scatter(x=x, y=_num(levels["residual"]), name=plain(residual_note),
                              mode="lines", line={"color": RESIDUAL_COLOUR, "dash": "dashdot",
                                                  "width": 2},
-                             hovertemplate=hover, legendgroup="residual"), row=2, col=1)
+                             hovertemplate=hover, legendgroup="residual", connectgaps=False), row=2, col=1)
     _shade_rows(fig, status, 2)
     _layout(fig, plain(title), plain(unit), x=x)
     fig.update_yaxes(title_text="residual", tickformat=",.1f", row=2, col=1, zeroline=True,
@@ -376,7 +415,7 @@ def contributions_figure(contributions: pd.DataFrame, total_growth: pd.Series, *
                              name=plain(growth_label), mode="lines+markers",
                              line={"color": TOTAL_COLOUR, "width": 2},
                              marker={"symbol": "diamond", "size": 7, "color": TOTAL_COLOUR},
-                             hovertemplate="%{y:+,.2f} %"))
+                             hovertemplate="%{y:+,.2f} %", connectgaps=False))
     _shade(fig, [str(s) for s in status])
     _layout(fig, plain(title), "percentage points", x=x)
     fig.update_layout(barmode="relative", bargap=0.25)
@@ -394,12 +433,12 @@ def add_band(fig: go.Figure, x: Sequence[str], low: Sequence[object], high: Sequ
     fig.add_trace(go.Scatter(x=list(x), y=_num(low), mode="lines", showlegend=False,
                              line={"width": 0.8, "color": RESIDUAL_COLOUR, "dash": "dot"},
                              name=plain(f"{name}: low"), legendgroup="band",
-                             hovertemplate="low " + hover), **where)
+                             hovertemplate="low " + hover, connectgaps=False), **where)
     fig.add_trace(go.Scatter(x=list(x), y=_num(high), mode="lines", fill="tonexty",
                              fillcolor=REVISION_FILL,
                              line={"width": 0.8, "color": RESIDUAL_COLOUR, "dash": "dot"},
                              name=plain(name), legendgroup="band",
-                             hovertemplate="high " + hover), **where)
+                             hovertemplate="high " + hover, connectgaps=False), **where)
     return fig
 
 
@@ -425,12 +464,12 @@ def revision_band_figure(index: Mapping[str, Sequence[object]],
         hover = f"%{{y:,.1f}} {plain(u)}" if u else "%{y:,.3f}"
         name = index_label if r == 1 else real_label
         fig.add_trace(go.Scatter(x=x, y=solid, name=plain(name), mode="lines",
-                                 line={"color": colour, "width": 2}, hovertemplate=hover),
-                      row=r, col=1)
+                                 line={"color": colour, "width": 2}, hovertemplate=hover,
+                                 connectgaps=False), row=r, col=1)
         if any(v is not None for v in dashed):
             fig.add_trace(go.Scatter(x=x, y=dashed, name=plain(f"{name} (projected)"),
                                      mode="lines", line={"color": colour, "dash": "dash"},
-                                     hovertemplate=hover), row=r, col=1)
+                                     hovertemplate=hover, connectgaps=False), row=r, col=1)
         add_band(fig, [str(v) for v in part["band_x"]], part["low"], part["high"],
                  name=band_label, unit=u, row=r)
         if r > 1:

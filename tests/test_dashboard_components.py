@@ -25,7 +25,7 @@ def test_numbers_have_thousands_separators_and_units():
 def test_user_text_stays_text():
     evil = "<img src=x onerror=alert(1)>"
     t = components.table([components.Column("name", "Series")], [{"name": evil}])
-    cell = t.children[1].children[0].children[0]
+    cell = t.children.children[1].children[0].children[0]  # wrapper > table > tbody
     assert cell.children == evil  # a text child: React escapes it
     root = Path(components.__file__).parent
     for path in root.rglob("*.py"):

@@ -90,7 +90,10 @@ def test_totals_are_offered_per_group_of_like_series(demo: Workspace):
     assert len(totals) == 2  # Harbourline's monthly segments, Tallmere's fiscal-year programs
     fy_total = next(o["value"] for o in totals if "fiscal" in o["label"])
     cmp = view.comparison(demo, fy_total, ["Government consumption deflator"], "FY2025")
-    assert cmp.title.startswith("Total of 4 series in constant FY2025 dollars")
+    # the total says which four series it sums (issue 12)
+    assert cmp.title.startswith("Total of 4 series (Bus operations, Rail operations, Capital "
+                                "maintenance and Paratransit services) in constant FY2025 "
+                                "dollars")
 
 
 def test_deflator_choices_say_why_and_propose_a_projection(demo: Workspace):

@@ -208,7 +208,8 @@ def pick_series(ws: Workspace, key: str, group_of: str | None = None) -> Series:
 
         ranks = pd.concat([p.status_or_final().map(STATUS_RANK) for p in parts], axis=1).max(axis=1)
         status = ranks.map(dict(enumerate(STATUSES))).astype(object)
-    return Series(name=f"Total of {len(parts)} series", values=total.astype(float),
+    return Series(name=f"Total of {len(parts)} series ({parts_text(names)})",
+                  values=total.astype(float),
                   frequency=first.frequency, kind=first.kind, unit=first.unit, status=status,
                   notes=(f"sum of: {', '.join(names)}",))
 
@@ -332,9 +333,53 @@ def base_after_series_change(ws: Workspace, series_key: str | None, base: str | 
     return None if base_fits(s, base, fy_start(ws)) else default_base(s)
 
 
-def shown_base(ws: Workspace, current: str | None) -> str:
-    """The base field's value when a workspace opens: the one typed, else the saved one."""
-    return current if current else str(ws.settings.get("base") or "")
+def base_applies(ws: Workspace, base: str | None, series: Sequence[Series]) -> bool:
+    """Whether a typed base still applies in ``ws``: it reads with the workspace's fiscal
+    year as whole periods of each of ``series`` and lies within the months they cover.
+    With no series (an empty workspace) no base applies."""
+    if not series or not (base or "").strip():
+        return False
+    fy = fy_start(ws)
+    for s in series:
+        values = s.values.dropna()
+        if values.empty:
+            return False
+        try:
+            span = read_period(str(base), fy, frequency=s.frequency, use="base")
+        except RealbasisError:
+            return False
+        first = int(values.index[0].asfreq("M", how="start").ordinal)
+        last = int(values.index[-1].asfreq("M", how="end").ordinal)
+        if span.first_month < first or span.last_month > last:
+            return False
+    return True
+
+
+_SAVED_BASE = object()
+
+
+def shown_base(ws: Workspace, current: str | None, series: Any = None, *,
+               saved: Any = _SAVED_BASE) -> str:
+    """The base field's value when a workspace opens or changes: the one typed while it
+    still applies to the chosen series of this workspace (:func:`base_applies`), else the
+    saved one (``saved``, default the workspace's saved base), else empty. So a base typed
+    in one workspace does not follow the user into another it does not fit (an empty
+    workspace shows no base)."""
+    saved_text = str((ws.settings.get("base") if saved is _SAVED_BASE else saved) or "")
+    if not (current or "").strip():
+        return saved_text
+    chosen: list[Series] = []
+    keys = [series] if isinstance(series, str) else list(series or [])
+    for key in keys:
+        try:
+            chosen.append(pick_series(ws, str(key)))
+        except RealbasisError:  # a total of parts: '<kind>|<first part>'
+            first = ws.series.get(str(key).split("|", 1)[-1])
+            if first is not None:
+                chosen.append(first)
+    if not keys and ws.series:
+        chosen = list(ws.series.values())[:1]
+    return str(current) if base_applies(ws, current, chosen) else saved_text
 
 
 def base_for(series: Series, requested: str | None) -> str:

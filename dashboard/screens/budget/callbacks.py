@@ -11,7 +11,7 @@ from pipeline.errors import RealbasisError
 from ... import ids
 from ...components import notice, problems_view
 from ...context import context
-from ...data import WorkspaceRef
+from ...data import WorkspaceRef, saved_words
 from ...writes import writes
 from .._shared.callbacks import register_period_placeholders
 from .._shared.view import address_choices, error_dicts
@@ -132,14 +132,15 @@ def register(app: Dash) -> None:
         if r is None or not n:
             return no_update, no_update
         try:
-            saved = rb.data.save(view.save_choices(rb.data.load(r), programs, deflator, base,
+            before = rb.data.load(r)
+            saved = rb.data.save(view.save_choices(before, programs, deflator, base,
                                                    freq, given, interp),
                                  action="budget-table choices")
         except RealbasisError as err:
             return no_update, f" Not saved: {err.problems[0].message}"
         return (WorkspaceRef(saved.id, saved.version).as_dict(),
-                f" Saved as version {saved.version:,}: the workspace export now carries "
-                "this table.")
+                " " + saved_words(before, saved) + " The workspace export now carries this "
+                "table.")
 
     @app.callback(
         Output(ids.BT_DOWNLOAD, "data"), Output(ids.BT_DL_STATUS, "children"),

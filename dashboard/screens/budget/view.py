@@ -41,7 +41,7 @@ from ...components import (
     table,
     warnings_view,
 )
-from ...data import DataAccess, WorkspaceRef
+from ...data import DataAccess, WorkspaceRef, saved_words
 from ...figures import empty_figure, real_terms_figure
 from .._shared.view import (
     INTERPOLATE_VALUE,
@@ -59,6 +59,7 @@ from .._shared.view import (
     result_frequency,
     save_outlay,
     saved_outlay,
+    shown_base,
 )
 
 SETTING = "budget"  # pipeline.workbook.BUDGET_SETTING
@@ -116,8 +117,8 @@ def options_for(ws: Workspace, programs: Any, base: Any) -> tuple[Any, ...]:
     offered = {o["value"] for o in opts}
     keep = [p for p in (programs or []) if p in offered] or default_programs(ws)
     spec = ws.settings.get(SETTING) or {}
-    shown_base = base or str(spec.get("base") or "")
-    return (opts, keep, year_options(ws), shown_base, str(spec.get("frequency") or "auto"),
+    shown = shown_base(ws, base, keep, saved=spec.get("base"))
+    return (opts, keep, year_options(ws), shown, str(spec.get("frequency") or "auto"),
             "constant" if spec.get("given") == "constant" else "then-year",
             [INTERPOLATE_VALUE] if spec.get("interpolate") else [])
 
@@ -355,7 +356,7 @@ def save_outlay_rates(data: DataAccess, ref: WorkspaceRef, program: Any, text: A
             else f"Outlay rates of {program} cleared: each year's amount is deflated by that "
                  "year's index.")
     return WorkspaceRef(saved.id, saved.version), notice(
-        f"{what} Saved as version {saved.version:,}.", "ok")
+        f"{what} {saved_words(ws, saved)}", "ok")
 
 
 # --------------------------------------------------------------------------- saving, downloads

@@ -29,7 +29,7 @@ from pipeline.settings import Settings
 from ... import bounded
 from ...components import Column, method_view, notice, problems_view, table, warnings_view
 from ...context import current
-from ...data import DEMO_NAME, DataAccess, WorkspaceRef
+from ...data import DEMO_NAME, DataAccess, WorkspaceRef, saved_words
 from .._shared.view import (
     ProgressFn,
     add_intake,
@@ -158,7 +158,7 @@ def save_fiscal_year(data: DataAccess, ref: WorkspaceRef, month: Any
         return None, notice(f"Not saved: {month!r} is not a month.", "error")
     fy = workspace_fiscal_year(saved)
     return WorkspaceRef(saved.id, saved.version), notice(
-        f"{fy.describe()} Saved as version {saved.version:,}.", "ok")
+        f"{fy.describe()} {saved_words(ws, saved)}", "ok")
 
 
 def kind_options() -> list[dict[str, str]]:

@@ -10,7 +10,7 @@ from pipeline.errors import RealbasisError
 
 from ... import ids
 from ...context import context
-from ...data import WorkspaceRef
+from ...data import WorkspaceRef, saved_words
 from ...writes import writes
 from .._shared.callbacks import (
     register_base_follows_series,
@@ -49,7 +49,7 @@ def register(app: Dash) -> None:
         ws = rb.data.load(r)
         asked = address_choices(hash_, KEY)
         s_opts, chosen, saved_interp = view.options_for(ws, series or asked.get("series"))
-        return (s_opts, chosen, shown_base(ws, base or asked.get("base")),
+        return (s_opts, chosen, shown_base(ws, base or asked.get("base"), chosen),
                 interp or saved_interp)
 
     @app.callback(Output(ids.RT_OUTLAY, "value"),
@@ -152,7 +152,8 @@ def register(app: Dash) -> None:
         if r is None or not n:
             return no_update, no_update
         try:
-            saved = rb.data.save(view.save_choices(rb.data.load(r), series, deflator, base, freq,
+            before = rb.data.load(r)
+            saved = rb.data.save(view.save_choices(before, series, deflator, base, freq,
                                                    "sa" in (sa or []), interpolate=interp,
                                                    outlay=outlay,
                                                    pairs=view.pair_values(pair_ids, values),
@@ -160,7 +161,7 @@ def register(app: Dash) -> None:
                                  action="real-terms choices")
         except RealbasisError as err:
             return no_update, f" Not saved: {err.problems[0].message}"
-        return WorkspaceRef(saved.id, saved.version).as_dict(), f" Saved as version {saved.version:,}."
+        return WorkspaceRef(saved.id, saved.version).as_dict(), " " + saved_words(before, saved)
 
     @app.callback(
         Output(SAVED, "data", allow_duplicate=True),
@@ -193,7 +194,7 @@ def warm(rb: Any, ws: Any) -> None:
     from .._shared.view import base_after_series_change
 
     _opts, series, saved_interp = view.options_for(ws, None)
-    base = shown_base(ws, None)
+    base = shown_base(ws, None, series)
     moved = base_after_series_change(ws, series, base)
     base = base if moved is None else moved
     freq, interp, outlay = "auto", saved_interp, outlay_field(ws, series)

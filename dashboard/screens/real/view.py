@@ -43,7 +43,7 @@ from ...components import (
     table,
     warnings_view,
 )
-from ...data import DataAccess, WorkspaceRef
+from ...data import DataAccess, WorkspaceRef, saved_words
 from ...figures import (
     add_band,
     contributions_figure,
@@ -112,6 +112,13 @@ class Computed:
     interpolate: bool = False      # a less frequent deflator filled in (Denton)
 
 
+def _whole_span(index: pd.Index, periods: pd.Index) -> pd.Index:
+    """The periods of ``periods`` from the first of ``index`` to its last (gaps kept)."""
+    if len(index) == 0:
+        return index
+    return periods[(periods >= index[0]) & (periods <= index[-1])]
+
+
 def _money_series(values: pd.Series, like: Series, frequency: Frequency, name: str) -> Series:
     return Series(name=name, values=values.astype(float), frequency=frequency,
                   kind="flow" if like.kind == "index" else like.kind, unit=like.unit)
@@ -163,8 +170,6 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
         res = deflate([s], [d], span, to=freq, fy_start=fy, interpolate=interp)
     nominal = res.nominal_series(s.name)
     real = res.real_series(s.name, 0)
-    status = res.status_frame(0)[s.name].reindex(nominal.index)
-    index_used = res.index_frame(0)[s.name].reindex(nominal.index)
     method = [*res.method_note(), *method_extra]
     warnings = list(res.warnings)
     if sa:
@@ -179,10 +184,16 @@ def compute_real(ws: Workspace, series_key: str, deflator: str, base: str | None
         method.extend(adj_r.method_note())
         warnings.extend(adj_n.warnings)
         warnings.extend(adj_r.warnings)
+    # the figure's rows: every period from the first value to the last, a missing one
+    # kept empty (the engine's DF011 names it), so the chart breaks the line there
+    # instead of joining the values either side
+    shown = _whole_span(nominal.index, res.periods)
     frame = pd.DataFrame({
-        "period": res.frequency.labels(nominal.index),
-        "nominal": nominal.to_numpy(), "real": real.to_numpy(),
-        "deflator_index": index_used.to_numpy(), "status": status.astype(str).to_numpy(),
+        "period": res.frequency.labels(shown),
+        "nominal": nominal.reindex(shown).to_numpy(), "real": real.reindex(shown).to_numpy(),
+        "deflator_index": res.index_frame(0)[s.name].reindex(shown).to_numpy(),
+        "status": res.status_frame(0)[s.name].reindex(shown).where(
+            nominal.reindex(shown).notna(), "").astype(str).to_numpy(),
     })
     left_out = None
     if cut:
@@ -535,7 +546,7 @@ def adjust_all(data: DataAccess, ref: WorkspaceRef, method: str,
     except RealbasisError as err:
         return None, problems_view(error_dicts(err), title="Not adjusted")
     return (WorkspaceRef(saved.id, saved.version),
-            html.Div([notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
+            html.Div([notice(f"{lines[0]} {saved_words(ws, saved)}", "ok"),
                       method_view(lines[1:], title="How they were adjusted")]))
 
 
@@ -763,7 +774,8 @@ def compute_total(ws: Workspace, key: str, values: dict[str, Any] | None, chain:
 
 
 def total_title(t: TotalComputed) -> str:
-    return (f"Total of {len(t.pairs):,} part(s), each by its own deflator, in "
+    return (f"Total of {len(t.pairs):,} part(s) ({parts_text(list(t.pairs))}), each by its "
+            f"own deflator, in "
             f"{t.total.dollars_label} ({t.unit}): {t.total.chain_words}")
 
 

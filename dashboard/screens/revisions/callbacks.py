@@ -41,9 +41,8 @@ def register(app: Dash) -> None:
             return no_update
         ws = rb.data.load(r)
         asked = address_choices(hash_, KEY)
-        return (*view.options_for(ws, index or asked.get("index"),
-                                  series or asked.get("series")),
-                shown_base(ws, base or asked.get("base")))
+        opts = view.options_for(ws, index or asked.get("index"), series or asked.get("series"))
+        return (*opts, shown_base(ws, base or asked.get("base"), opts[3]))
 
     @app.callback(Output(ids.RV_OLD, "options"), Output(ids.RV_OLD, "value"),
                   Output(ids.RV_NEW, "options"), Output(ids.RV_NEW, "value"),

@@ -134,6 +134,32 @@ def vintages_for(ws: Workspace, index: Any) -> tuple[Any, Any, Any]:
     return opts, values[-2], values[-1]
 
 
+def with_gaps(tbl: Any, ws: Workspace, series: Any) -> Any:
+    """The revision table with a row for every period of the series' span, a missing one
+    empty, so the chart breaks its lines there instead of joining the values either side
+    (the engine's table holds the periods with values; its warnings name the gap). Left
+    as it is when its periods are not the series' own (another result frequency)."""
+    import pandas as pd
+
+    try:
+        s = pick_series(ws, str(series))
+    except RealbasisError:
+        return tbl
+    v = s.values.dropna()
+    if v.empty or tbl.empty:
+        return tbl
+    labels = list(s.frequency.labels(pd.period_range(v.index[0], v.index[-1],
+                                                     freq=v.index.freq)))
+    have = [str(p) for p in tbl["period"]]
+    if not set(have) <= set(labels) or tbl["period"].duplicated().any():
+        return tbl
+    span = labels[labels.index(have[0]):labels.index(have[-1]) + 1]
+    if len(span) == len(have):
+        return tbl
+    out = tbl.assign(period=have).set_index("period").reindex(span)
+    return out.rename_axis("period").reset_index()
+
+
 def outputs(ws: Workspace, index: Any, old: Any, new: Any, series: Any, base: Any
             ) -> tuple[Any, Any, Any, Any, Any]:
     if not index or series is None or old is None or new is None:
@@ -147,7 +173,7 @@ def outputs(ws: Workspace, index: Any, old: Any, new: Any, series: Any, base: An
         return (notice("These figures cannot be computed.", "warn"),
                 empty_figure("See the problems below."), None,
                 problems_view(error_dicts(err), title="Cannot compute"), method_view(()))
-    fig = revisions_figure(rv.table, title="", unit=rv.unit,
+    fig = revisions_figure(with_gaps(rv.table, ws, series), title="", unit=rv.unit,
                            old_label=f"as of {old or 'undated'}",
                            new_label=f"as of {new or 'undated'}")
     moved = table(MOVED_COLUMNS, rv.moved, caption=f"Real values that moved ({rv.unit}), "

@@ -186,7 +186,10 @@ def chart_figure(ws: Workspace) -> Any:
                        xanchor="left", font={"size": 10})
     # On the page the title is HTML above the chart; in the image it needs room of its own
     # above the legend.
-    fig.update_layout(margin={"t": 140, "b": 170 + 14 * len(notes)},
+    # the legend above the plot here: under it go the cautions
+    fig.update_layout(legend={"orientation": "h", "yref": "paper", "yanchor": "bottom",
+                              "y": 1.02, "x": 0},
+                      margin={"t": 140, "b": 170 + 14 * len(notes)},
                       title={"xref": "paper", "x": 0, "xanchor": "left", "y": 0.985,
                              "yanchor": "top"})
     return fig

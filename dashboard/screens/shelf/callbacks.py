@@ -44,7 +44,8 @@ def register(app: Dash) -> None:
         drawn = drawn or address_choices(hash_, KEY).get("index", multi=True)
         table_, fig, opts, chosen = rb.cached(ws, "shelf.outputs", (drawn,),
                                               lambda: view.outputs(ws, drawn))
-        return (table_, fig, opts, chosen, opts, opts, opts, opts,
+        links = view.link_options(ws)
+        return (table_, fig, opts, chosen, opts, links, links, opts,
                 weights or str(ws.settings.get("cost_weights") or ""))
 
     @app.callback(

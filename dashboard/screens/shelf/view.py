@@ -19,7 +19,7 @@ from pipeline.errors import RealbasisError, fail
 from pipeline.model import Series, Workspace
 
 from ...components import Column, method_view, notice, problems_view, table
-from ...data import DataAccess, WorkspaceRef
+from ...data import DataAccess, WorkspaceRef, saved_words
 from ...figures import empty_figure, index_figure
 from .._shared.view import (
     UI005,
@@ -77,10 +77,65 @@ def figure_items(ws: Workspace, names: Sequence[str]) -> list[dict[str, Any]]:
     return items
 
 
+NAME_TAKEN = "An index named"
+VINTAGE_MARK = " · vintage "
+"""Joins an index's name and an older vintage in the link pickers' values."""
+
+
+def link_options(ws: Workspace) -> list[dict[str, str]]:
+    """The link pickers' options: each index at its latest vintage (its name), then each
+    older vintage it holds, so an older vintage can be linked too (to a newer one of the
+    same index, or to another index)."""
+    opts: list[dict[str, str]] = []
+    for name, vins in ws.indexes.items():
+        opts.append({"label": index_label(ws, name), "value": name})
+        latest = latest_vintage(vins)
+        for vin in sorted(vins, reverse=True):
+            if vin != latest:
+                opts.append({"label": f"{name}, older vintage {vin or 'not stated'}",
+                             "value": f"{name}{VINTAGE_MARK}{vin}"})
+    return opts
+
+
+def pick_segment(ws: Workspace, value: Any) -> tuple[Series, str]:
+    """The index and vintage a link picker's value names, and how to call it: the name
+    alone for the latest vintage, 'name (vintage v)' for an older one."""
+    text = str(value or "")
+    if text in ws.indexes:
+        return pick_index(ws, text), text
+    for name, vins in ws.indexes.items():
+        for vin in vins:
+            if text == f"{name}{VINTAGE_MARK}{vin}":
+                return vins[vin], f"{name} (vintage {vin or 'not stated'})"
+    return pick_index(ws, text), text  # UI005: no such index
+
+
+def free_name(ws: Workspace, name: str) -> str:
+    """``name``, or 'name (2)', 'name (3)', … when an index of that name is on the shelf
+    already: a new result never takes the place of an existing index."""
+    if name not in ws.indexes:
+        return name
+    n = 2
+    while f"{name} ({n})" in ws.indexes:
+        n += 1
+    return f"{name} ({n})"
+
+
 def _put_index(ws: Workspace, s: Series) -> Workspace:
     indexes = {k: dict(v) for k, v in ws.indexes.items()}
     indexes.setdefault(s.name, {})[s.vintage or ""] = s
     return dataclasses.replace(ws, indexes=indexes)
+
+
+def _add_new(ws: Workspace, s: Series, wanted: str) -> tuple[Workspace, Series, list[str]]:
+    """Put ``s`` on the shelf as ``wanted``, or under a free name when that is taken; the
+    note says so (the index already there stays as it was)."""
+    name = free_name(ws, wanted)
+    out = dataclasses.replace(s, name=name)
+    note = ([] if name == wanted else
+            [f"{NAME_TAKEN} {wanted!r} is on the shelf already and stays as it was; this "
+             f"result is named {name!r}."])
+    return _put_index(ws, out), out, note
 
 
 def rebase_index(ws: Workspace, name: str, base: str) -> tuple[Workspace, list[str]]:
@@ -93,30 +148,32 @@ def rebase_index(ws: Workspace, name: str, base: str) -> tuple[Workspace, list[s
                    found="nothing", fix="Type the new base period.")
     s = pick_index(ws, name)
     span = read_base(ws, base.strip(), s.frequency, use="rebase")
-    out = rebase(s, span, fy_start=fy_start(ws))
-    out = dataclasses.replace(out, name=f"{name} ({span.label}=100)")
-    return _put_index(ws, out), [
+    ws2, out, note = _add_new(ws, rebase(s, span, fy_start=fy_start(ws)),
+                              f"{name} ({span.label}=100)")
+    return ws2, [
         f"Added {out.name!r}: {name} rebased so that its average over {span.describe()} is "
-        "100 (percent changes do not move).", *fiscal_note(ws)]
+        "100 (percent changes do not move).", *note, *fiscal_note(ws)]
 
 
 def link_indexes(ws: Workspace, old: str, new: str, overlap: str | None
                  ) -> tuple[Workspace, list[str]]:
     """Add the two segments linked at the overlap (pipeline.indexes.link); the overlap is
-    read with the workspace's fiscal year."""
+    read with the workspace's fiscal year. Either segment may be an older vintage
+    (:func:`link_options`); a result whose name is taken gets a free one
+    (:func:`free_name`), never the existing index's place."""
     from pipeline.indexes import link
 
     if old == new:
         raise fail(UI005, "the same index is chosen twice", expected="two different indexes",
-                   found=old, fix="Choose the older and the newer segment.")
-    o, n = pick_index(ws, old), pick_index(ws, new)
+                   found=str(old), fix="Choose the older and the newer segment.")
+    (o, old_name), (n, new_name) = pick_segment(ws, old), pick_segment(ws, new)
     text = (overlap or "").strip()
     span = read_base(ws, text, n.frequency, use="overlap") if text else None
     linked = link(o, n, span, fy_start=fy_start(ws))
-    out = dataclasses.replace(linked.series, name=f"{old} linked with {new}")
-    return _put_index(ws, out), [
+    ws2, out, note = _add_new(ws, linked.series, f"{old_name} linked with {new_name}")
+    return ws2, [
         f"Added {out.name!r}: linked at {linked.overlap}, factor {linked.factor:,.6f}.",
-        linked.method, *(p.message for p in linked.warnings), *fiscal_note(ws)]
+        *note, linked.method, *(p.message for p in linked.warnings), *fiscal_note(ws)]
 
 
 def project_index(ws: Workspace, name: str, rate: Any, until: str | None
@@ -137,10 +194,10 @@ def project_index(ws: Workspace, name: str, rate: Any, until: str | None
     end = read_base(ws, until.strip(), use="until")
     p = project(pick_index(ws, name), text, until=end, fy_start=fy_start(ws), bare="percent")
     pct = 100 * parse_rate(text, bare="percent")
-    out = dataclasses.replace(p.series, name=f"{name} projected at {pct:g} % a year")
-    return _put_index(ws, out), [
+    ws2, out, note = _add_new(ws, p.series, f"{name} projected at {pct:g} % a year")
+    return ws2, [
         f"Added {out.name!r}: {p.first} to {p.last} projected (assumed, not measured), "
-        f"at {pct:g} % a year.", *p.method_note(), *(w.message for w in p.warnings),
+        f"at {pct:g} % a year.", *note, *p.method_note(), *(w.message for w in p.warnings),
         *fiscal_note(ws)]
 
 
@@ -169,8 +226,9 @@ def build_cost_index(ws: Workspace, name: str | None, components: Sequence[str],
     out = ci.series(method if method in COST_METHODS else None, name=title)
     out = dataclasses.replace(out, vintage=max((pick_index(ws, c).vintage or "")
                                                for c in components) or None)
-    return _put_index(ws, out), [f"Added {title!r} ({COST_METHODS.get(method, method)}).",
-                                 *ci.method_note(), *(w.message for w in ci.warnings)]
+    ws2, out, note = _add_new(ws, out, title)
+    return ws2, [f"Added {out.name!r} ({COST_METHODS.get(method, method)}).", *note,
+                 *ci.method_note(), *(w.message for w in ci.warnings)]
 
 
 SHELF_COLUMNS = (
@@ -207,7 +265,9 @@ def act(data: DataAccess, ref: WorkspaceRef, action: Callable[[Workspace], tuple
     except RealbasisError as err:
         return None, problems_view(error_dicts(err), title="Not done"), None
     return (WorkspaceRef(saved.id, saved.version),
-            notice(f"{lines[0]} Saved as version {saved.version:,}.", "ok"),
+            notice(" ".join([lines[0], *(line for line in lines[1:]
+                                         if line.startswith(NAME_TAKEN)),
+                             saved_words(ws, saved)]), "ok"),
             method_view(lines, title="What was done"))
 
 

@@ -48,7 +48,7 @@ def register(app: Dash) -> None:
         asked = address_choices(hash_, KEY)
         s_opts, chosen_series, saved_interp = view.options_for(
             ws, series or asked.get("series"), chosen or asked.get("deflators", multi=True))
-        return (s_opts, chosen_series, shown_base(ws, base or asked.get("base")),
+        return (s_opts, chosen_series, shown_base(ws, base or asked.get("base"), chosen_series),
                 interp or saved_interp)
 
     @app.callback(
