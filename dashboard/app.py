@@ -239,6 +239,10 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
     # reads them (the 413 answer below says UI001); the intake checks the decoded size too.
     server.config["MAX_CONTENT_LENGTH"] = request_limit(settings.max_upload_bytes)
     server.register_error_handler(413, lambda _err: too_large_response(settings))
+    # asked on every screen switch (assets/shell.js): 204, or the access layer's refusal
+    # when the page's access has ended (a revoked reviewer link says SH002 at once)
+    routes = app.config.routes_pathname_prefix or "/"
+    server.add_url_rule(routes + "_realbasis/alive", "rb_alive", lambda: ("", 204))
     rb = AppContext(settings, data, screens, results=ResultCache(settings))
     rb.resolve_workspace = default_resolver(data)
     attach(app, rb)

@@ -207,6 +207,25 @@ def test_a_revoked_link_says_so_at_the_next_choice_and_a_reload_stays_a_reviewer
     _shot(page, output_dir, "reviewer-revoked-reload")
 
 
+def test_a_revoked_link_says_so_at_the_next_screen_switch(
+        site: dict[str, Any], page: Any, output_dir: Path):
+    """Switching screens runs in the browser; the next switch after a revocation still
+    shows the message (the switch asks the server whether the page's access holds)."""
+    store = site["data"].store
+    token, info = store.create_link(site["gapped"], label="states switch")
+    page.goto(f"{site['url']}/review/{token}")
+    page.wait_for_selector("#rb-reviewer-banner", timeout=90_000)
+    _screen(page, "real")
+    _trace(page, "#rt-figure", "Nominal")
+    _screen(page, "spread")
+    store.revoke_link(info.id)
+    page.click("#rb-nav-real")  # both screens are on the page already: no callback runs
+    page.wait_for_selector("#rb-page-problem [role=alert]", timeout=60_000)
+    text = page.inner_text("#rb-page-problem")
+    assert "no longer valid" in text and "SH002" in text
+    _shot(page, output_dir, "reviewer-revoked-switch")
+
+
 # --------------------------------------------------------------------------- gaps
 
 

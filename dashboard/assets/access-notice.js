@@ -72,7 +72,9 @@
   window.fetch = function (input, init) {
     var url = typeof input === "string" ? input : (input && input.url) || "";
     var answer = original.apply(this, arguments);
-    if (url.indexOf("_dash-update-component") < 0) { return answer; }
+    if (url.indexOf("_dash-update-component") < 0 && url.indexOf("_realbasis/alive") < 0) {
+      return answer;
+    }
     return answer.then(function (resp) {
       if (resp.status >= 400) {
         var retry = resp.headers.get("Retry-After");

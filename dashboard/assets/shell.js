@@ -18,6 +18,7 @@
   var NO = function () { return window.dash_clientside.no_update; };
   var remembered = {};  // screen key -> query string of its last choices
   var filled = {};      // screen keys whose contents are on the page
+  var ALIVE = "_realbasis/alive";  // dashboard/app.py: 204, or the access layer's refusal
 
   function keyOf(hash) {
     var h = (hash || "").replace(/^#/, "");
@@ -60,6 +61,13 @@
         if (keys.indexOf(chosen) < 0) { chosen = keys.indexOf(current) >= 0 ? current : keys[0]; }
         if (fromNav && chosen !== current) {
           window.history.pushState({}, "", address(chosen));
+        }
+        if (fromNav && window.fetch) {
+          // switching runs here without a round trip; this one small request lets the
+          // server say at once when the page's access has ended (a revoked or expired
+          // reviewer link: assets/access-notice.js shows it)
+          window.fetch(ALIVE, {cache: "no-store", headers: {"Accept": "application/json"}})
+            .catch(function () { /* access-notice.js says the server cannot be reached */ });
         }
         var hidden = keys.map(function (k) { return k !== chosen; });
         var classes = keys.map(function (k) { return "rb-nav-button" + (k === chosen ? " rb-nav-active" : ""); });
