@@ -29,6 +29,7 @@ def register(app: Dash) -> None:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update, no_update
+        view.warm_images()  # the chart image then rarely waits for Chromium to start
         return view.scope_view(rb.data.load(r)), current_access().read_only
 
     @app.callback(Output(ids.SX_AUDIT, "children"), Input(ids.WORKSPACE, "data"),
@@ -108,7 +109,7 @@ def register(app: Dash) -> None:
         Output(ids.SX_DOWNLOAD_PNG, "data"),
         Output(ids.SX_DL_STATUS, "children", allow_duplicate=True),
         Input(ids.SX_DL_PNG, "n_clicks"), State(ids.WORKSPACE, "data"),
-        background=True, prevent_initial_call=True,
+        prevent_initial_call=True,  # not a job: the Chromium kept open lives in this process
         running=[(Output(ids.SX_DL_PNG, "disabled"), True, False)],
     )
     def _png(_n: Any, ref: Any) -> Any:
