@@ -16,7 +16,7 @@ import re
 import shutil
 import tempfile
 import textwrap
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -136,8 +136,10 @@ def safe_filename(text: str) -> str:
     return stem or "workspace"
 
 
-def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None) -> tuple[bytes, str]:
-    """The download: (bytes, file name) of the workspace's result in ``fmt``."""
+def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None,
+                progress: Callable[[int, int], None] | None = None) -> tuple[bytes, str]:
+    """The download: (bytes, file name) of the workspace's result in ``fmt``;
+    ``progress(done, total)`` follows the stages of the export."""
     from pipeline.workbook import export_workspace
 
     if fmt not in FORMATS:
@@ -147,7 +149,8 @@ def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None) -> tuple[
     with tempfile.TemporaryDirectory(prefix="rb-export-") as tmp:
         path = export_workspace(ws, Path(tmp) / name, store=store,
                                 actor=current_access().actor,
-                                command=f"dashboard: Share and export ({FORMATS[fmt]})")
+                                command=f"dashboard: Share and export ({FORMATS[fmt]})",
+                                progress=progress)
         return path.read_bytes(), name
 
 
