@@ -42,6 +42,7 @@ IN_ADDED = "in-added"
 IN_NEW_NAME = "in-new-name"
 IN_LAYOUT = "in-layout"
 IN_PROGRESS = "in-progress"
+IN_CANCEL = "in-cancel"             # stops reading a file
 IN_PREVIEW = "in-preview"
 IN_SERIES_TABLE = "in-series-table"
 IN_PROBLEMS = "in-problems"
@@ -95,6 +96,7 @@ RT_SAVED = "rt-saved"
 RT_SA_METHOD = "rt-sa-method"
 RT_SA_ALL = "rt-sa-all"
 RT_SA_PROGRESS = "rt-sa-progress"
+RT_SA_CANCEL = "rt-sa-cancel"       # stops adjusting every series
 RT_SA_MESSAGE = "rt-sa-message"
 RT_INTERP = "rt-interp"             # fill in a less frequent deflator (Denton)
 RT_DEFLATOR_WHY = "rt-deflator-why"  # why the other deflators are not offered
@@ -142,6 +144,7 @@ BT_DL_XLSX = "bt-dl-xlsx"
 BT_DOWNLOAD = "bt-download"
 BT_DL_STATUS = "bt-dl-status"
 BT_DL_PROGRESS = "bt-dl-progress"
+BT_DL_CANCEL = "bt-dl-cancel"       # stops the budget download job
 
 # Deflator spread
 SP_SERIES = "sp-series"

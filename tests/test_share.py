@@ -719,3 +719,30 @@ def test_downloads_are_a_cancellable_job_with_progress_and_the_chart_image_is_no
     assert not png.get("background")
     layout = str(app.layout() if callable(app.layout) else app.layout)
     assert ids.SX_PROGRESS in layout and ids.SX_CANCEL in layout
+    # every background job of the dashboard can be cancelled, and its Cancel button is
+    # shown only while it runs
+    jobs = {k: v for k, v in cbs.items() if v.get("background")}
+    assert len(jobs) >= 4  # reading a file, adjusting every series, two downloads
+    for key, cb in jobs.items():
+        cancels = [c["id"] for c in cb["background"].get("cancel") or []]
+        assert cancels, f"{key}: no Cancel"
+        for c in cancels:
+            button = _find(app.layout() if callable(app.layout) else app.layout, c)
+            assert button is not None and button.hidden is True, c  # shown while running
+        running = next(spec.get("running") or {} for spec in app._callback_list
+                       if spec["output"] == key)
+        for c in cancels:
+            assert running["running"].get(f"{c}.hidden") is False, key
+            assert running["runningOff"].get(f"{c}.hidden") is True, key
+
+
+def _find(component, wanted):
+    if getattr(component, "id", None) == wanted:
+        return component
+    children = getattr(component, "children", None)
+    for child in children if isinstance(children, list | tuple) else [children]:
+        if child is not None and not isinstance(child, str | int | float):
+            found = _find(child, wanted)
+            if found is not None:
+                return found
+    return None
