@@ -185,6 +185,8 @@ class Sheet:
                       if look else None)
             prepared.append((vals, num, styled))
         n = len(prepared[0][0])
+        if n == 0:
+            return
         if _fast_ok(self._ws):
             self._write_rows_xml(prepared, n)
         else:
@@ -221,10 +223,15 @@ class Sheet:
         call per cell, which dominated large workbooks."""
         ws = self._ws
         r0 = self.row
-        # dimensions first (xlsxwriter ignores rows before the one it holds), then the
-        # row it holds goes out, so the rows below follow it in order
-        ws._check_dimensions(r0, 0)
-        ws._check_dimensions(r0 + n - 1, len(prepared) - 1)
+        # dimensions first, from the cells that hold something (xlsxwriter ignores rows
+        # before the one it holds), then the row it holds goes out, so the rows below
+        # follow it in order
+        for j, (vals, _, _) in enumerate(prepared):
+            first = next((i for i, v in enumerate(vals) if v is not None), None)
+            if first is not None:
+                last = n - 1 - next(i for i, v in enumerate(reversed(vals)) if v is not None)
+                ws._check_dimensions(r0 + first, j)
+                ws._check_dimensions(r0 + last, j)
         ws._write_single_row(r0 + n)
         _number_formats_in_order(prepared)
         refs = [f'<c r="{xlsxwriter.utility.xl_col_to_name(j)}' for j in range(len(prepared))]
@@ -260,9 +267,11 @@ class Sheet:
                             memo[key] = tail
                     out.append(ref + rn + '"' + tail)
                 cells.append(out)
-            if any(None in col for col in cells):
-                text = "".join(['<row r="' + rn + '">' + "".join([c for c in cs if c is not None])
-                                + "</row>" for rn, *cs in zip(rows, *cells, strict=True)])
+            if any(None in col for col in cells):  # empty cells left out, empty rows too
+                bodies = ["".join([c for c in cs if c is not None])
+                          for cs in zip(*cells, strict=True)]
+                text = "".join(['<row r="' + rn + '">' + body + "</row>"
+                                for rn, body in zip(rows, bodies, strict=True) if body])
             else:
                 text = "".join(['<row r="' + rn + '">' + "".join(cs) + "</row>"
                                 for rn, *cs in zip(rows, *cells, strict=True)])

@@ -114,3 +114,60 @@ def test_dimensions_cover_the_rows_written(tmp_path, after_row):
     xml = _sheets(path)["xl/worksheets/sheet1.xml"].decode()
     last = 3004 if after_row else 3003
     assert f'<dimension ref="A1:F{last}"/>' in xml
+
+
+def test_an_empty_table_writes_its_header_only(tmp_path, monkeypatch):
+    def sheet(path):
+        with Book(path) as wb:
+            ws = wb.create_sheet("S")
+            ws.append_columns([np.array([], dtype=float), np.array([], dtype=object)],
+                              header=["a", "b"])
+            ws.append(["next"])
+        return _sheets(path)["xl/worksheets/sheet1.xml"]
+
+    fast = sheet(tmp_path / "f.xlsx")
+    monkeypatch.setattr(xlsx, "_fast_ok", lambda ws: False)
+    assert fast == sheet(tmp_path / "s.xlsx")
+    assert b'<dimension ref="A1:B2"/>' in fast
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_random_mixed_tables_match_the_per_cell_path(tmp_path, monkeypatch, seed):
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(1, 700))
+    pool = ["a", " b", "c ", "=x", "<&>", None, 1.5, float("nan"), float("inf"), 7, True,
+            False, "\x02", "final", "preliminary"]
+
+    def table():
+        cols, fmts, looks = [], [], []
+        for _ in range(int(rng.integers(1, 9))):
+            kind = rng.integers(0, 4)
+            if kind == 0:
+                col = rng.normal(0, 1e4, n)
+                col[rng.random(n) < 0.2] = np.nan
+            elif kind == 1:
+                col = rng.integers(-10**6, 10**6, n)
+            elif kind == 2:
+                col = rng.random(n) < 0.5
+            else:
+                col = np.array([pool[i] for i in rng.integers(0, len(pool), n)], dtype=object)
+            cols.append(col)
+            fmts.append(["0.00", None, "#,##0"][int(rng.integers(0, 3))])
+            looks.append({"preliminary": Style(fill="FFF2CC"), "a": Style(bold=True)}
+                         if rng.random() < 0.5 else None)
+        return cols, fmts, looks
+
+    cols, fmts, looks = table()
+
+    def write(path):
+        with Book(path) as wb:
+            ws = wb.create_sheet("S")
+            ws.append(["title"], style=Style(bold=True))
+            ws.append_columns(cols, header=[f"c{j}" for j in range(len(cols))], fmts=fmts,
+                              looks=looks)
+            ws.append_columns(cols[:1], fmts=fmts[:1])
+        return _sheets(path)
+
+    fast = write(tmp_path / "f.xlsx")
+    monkeypatch.setattr(xlsx, "_fast_ok", lambda ws: False)
+    assert fast == write(tmp_path / "s.xlsx")
