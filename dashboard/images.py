@@ -30,10 +30,11 @@ from typing import Any
 
 IDLE_SECONDS = 600.0
 """Seconds without an image after which the Chromium is closed."""
-START_SECONDS = 60.0
+START_SECONDS = 15.0
 """Longest wait for Chromium to start."""
-RENDER_SECONDS = 20.0
-"""Longest wait for one image (keep it below gunicorn's ``--timeout``)."""
+RENDER_SECONDS = 10.0
+"""Longest wait for one image; with :data:`START_SECONDS` below gunicorn's ``--timeout``
+(30 s), so a stuck Chromium is answered with EX103 rather than a killed worker."""
 
 
 class ChartImages:
