@@ -319,7 +319,7 @@ def test_a_background_job_can_be_cancelled(server: str, browser: Any, output_dir
     assert "My copy of the demo" not in page.inner_text("#rb-workspace-label")
     assert page.evaluate("getComputedStyle(document.getElementById('rt-sa-progress'))"
                          ".visibility") == "hidden"
-    _shot(page, output_dir, "real-terms-adjusting-cancelled")
+    _shot(page, output_dir, "real-terms-adjusting-cancelled")  # waits for the page to settle
     page.close()
 
 
