@@ -187,6 +187,16 @@ def progress_bar(bar_id: str) -> html.Progress:
                          style={"visibility": "hidden"}, **{"aria-label": "Progress"})
 
 
+def progress_with_cancel(bar_id: str, cancel_id: str) -> html.Div:
+    """A background job's progress bar and its Cancel button; both hidden until the job
+    runs (the callback's ``running`` shows them, its ``cancel`` listens to the button)."""
+    return html.Div([
+        progress_bar(bar_id),
+        html.Button("Cancel", id=cancel_id, n_clicks=0, type="button", hidden=True,
+                    className="rb-button"),
+    ], className="rb-job", style={"display": "flex", "gap": "8px", "alignItems": "center"})
+
+
 def dropdown(control_id: str, *, multi: bool = False, clearable: bool = False,
              placeholder: str = "") -> dcc.Dropdown:
     """A searchable, keyboard-usable select."""

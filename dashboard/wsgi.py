@@ -7,12 +7,14 @@ job cache directory and the secret key, nothing else.
 
 from __future__ import annotations
 
+from pipeline.seasonal import preload
 from pipeline.settings import load_settings
 
 from . import warm
 from .app import create_app
 from .context import context
 
+preload()  # at the worker's start, not on a user's first seasonal adjustment (about 2 s)
 app = create_app(load_settings())
 server = app.server
 warm.start(context(app))  # the demo's first views, computed before anyone asks

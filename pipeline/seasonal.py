@@ -482,6 +482,14 @@ def _prepare(series: Series, method: str, *, model: str, interpolate: bool,
 # ----------------------------------------------------------------------------- methods
 
 
+def preload() -> None:
+    """Import what adjusting needs (statsmodels' STL and classical decomposition, and the
+    scipy they pull in: about 2 s). Not done when this module is imported, since every
+    command line call imports it; a long-lived server calls this at start so that a
+    user's first seasonal adjustment does not wait for it."""
+    import statsmodels.tsa.seasonal  # noqa: F401
+
+
 def _param_error(prep: _Task, err: Exception) -> RealbasisError:
     return fail(SA009, f"{prep.method} refused its parameters: {err}",
                 expected="valid parameters for the method (see statsmodels' documentation)",

@@ -766,8 +766,8 @@ def workspace_bands(ws: Any, result: Any, used: Mapping[str, str]) -> tuple[Any,
 def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
                      deflators: Sequence[str] | None = None,
                      series: Sequence[str] | None = None, to: Any = None,
-                     store: Any = None, actor: str = "editor", command: str | None = None
-                     ) -> Path:
+                     store: Any = None, actor: str = "editor", command: str | None = None,
+                     progress: Callable[[int, int], None] | None = None) -> Path:
     """Write a workspace's result (.xlsx audit workbook, .csv or .json) the same way the
     command line does, with the workspace, its audit trail and index vintages recorded.
     When the workspace's settings hold a total of parts (:func:`saved_total`), the
@@ -775,10 +775,14 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
     when they hold a budget table (:func:`saved_budget`), the workbook gets its Budget
     sheet and the JSON its ``budget`` (:func:`workspace_budget`). Series with saved
     outlay rates are deflated as budget authority (:func:`workspace_result`).
-    With a ``store`` and editor access, the export is noted in the audit trail."""
+    With a ``store`` and editor access, the export is noted in the audit trail.
+    ``progress(done, total)`` is told each stage done (the result, the extras and the
+    audit trail, the file written: 3 stages)."""
     from .export import write_result
     from .store import current_access
 
+    step = progress or (lambda done, total: None)
+    step(0, 3)
     result, used, notes = workspace_result(ws, base=base, deflators=deflators, series=series,
                                            to=to)
     total = None
@@ -796,6 +800,7 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
         total, total_used, total_notes = workspace_total(ws, base=base, to=to)
         used.update({k: v for k, v in total_used.items() if k not in used})
         notes += [n for n in total_notes if n not in notes]
+    step(1, 3)
     events = store.audit(ws.id) if store is not None else []
     uploads = [f"{e.detail.get('filename')} ({e.detail.get('size')} bytes, sha256 "
                f"{e.detail.get('sha256')})" for e in events if e.event == "upload"]
@@ -815,9 +820,11 @@ def export_workspace(ws: Any, path: str | Path, *, base: str | None = None,
                    "vintages": "; ".join(f"{k}: {v or 'not stated'}" for k, v in used.items()),
                    "notes": "; ".join(notes) if notes else None,
                    "bands": bands or None, "budget": budget}
+    step(2, 3)
     out = write_result(result, path, **{k: v for k, v in context.items() if v is not None})
     if store is not None and not current_access().read_only:
         store.record_use(ws.id, used, purpose=f"export {Path(path).name}", actor=actor)
+    step(3, 3)
     return out
 
 

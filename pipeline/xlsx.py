@@ -34,6 +34,8 @@ from typing import Any
 import numpy as np
 import xlsxwriter
 import xlsxwriter.exceptions
+import xlsxwriter.utility
+from xlsxwriter.utility import _preserve_whitespace, _utf16_len, _utf16_truncate
 
 _DANGEROUS = ("=", "+", "-", "@", "\t", "\r")
 _CELL_RE = re.compile(r"^([A-Z]+)(\d+)$")
@@ -165,6 +167,12 @@ class Sheet:
                 memo: dict[Any, Any] = {}
                 vals = []
                 for x in (col.tolist() if hasattr(col, "tolist") else list(col)):
+                    if x.__class__ is str:  # the common case: a text seen before
+                        y = memo.get(x)
+                        if y is None:
+                            y = memo[x] = _neutral(x)
+                        vals.append(y)
+                        continue
                     x = plain(x)
                     if x is None or isinstance(x, int | float):
                         vals.append(x)
@@ -176,11 +184,23 @@ class Sheet:
             styled = ({_neutral(str(k)): fmt_of(v) for k, v in look.items()}
                       if look else None)
             prepared.append((vals, num, styled))
+        n = len(prepared[0][0])
+        if n == 0:
+            return
+        if _fast_ok(self._ws):
+            self._write_rows_xml(prepared, n)
+        else:
+            self._write_rows_cells(prepared, n)
+        self.row += n
+
+    def _write_rows_cells(self, prepared: list[tuple[list[Any], Any, dict[Any, Any] | None]],
+                          n: int) -> None:
+        """The rows of :meth:`append_columns` one xlsxwriter call per cell (the general
+        path, kept for sheets the row-XML path does not cover)."""
         ws = self._ws
         write_number, write_string, write_boolean = (ws.write_number, ws.write_string,
                                                      ws.write_boolean)
         r0 = self.row
-        n = len(prepared[0][0])
         for i in range(n):
             r = r0 + i
             for j, (vals, num, styled) in enumerate(prepared):
@@ -193,7 +213,113 @@ class Sheet:
                     write_boolean(r, j, v)
                 else:
                     write_number(r, j, v, num)
-        self.row = r0 + n
+
+    def _write_rows_xml(self, prepared: list[tuple[list[Any], Any, dict[Any, Any] | None]],
+                        n: int) -> None:
+        """The rows of :meth:`append_columns` as sheet XML, written straight into the
+        constant-memory row file of xlsxwriter: the same ``<row>``/``<c>`` elements its
+        per-cell path writes (inline strings, ``%.16G`` numbers; a test compares the two
+        byte for byte), each distinct text escaped once. About ten times faster than a
+        call per cell, which dominated large workbooks."""
+        ws = self._ws
+        r0 = self.row
+        # dimensions first, from the cells that hold something (xlsxwriter ignores rows
+        # before the one it holds), then the row it holds goes out, so the rows below
+        # follow it in order
+        for j, (vals, _, _) in enumerate(prepared):
+            first = next((i for i, v in enumerate(vals) if v is not None), None)
+            if first is not None:
+                last = n - 1 - next(i for i, v in enumerate(reversed(vals)) if v is not None)
+                ws._check_dimensions(r0 + first, j)
+                ws._check_dimensions(r0 + last, j)
+        ws._write_single_row(r0 + n)
+        _number_formats_in_order(prepared)
+        refs = [f'<c r="{xlsxwriter.utility.xl_col_to_name(j)}' for j in range(len(prepared))]
+        s_nums = [f' s="{num._get_xf_index()}"' if num is not None else ""
+                  for _, num, _ in prepared]
+        memos: list[dict[Any, str]] = [{} for _ in prepared]
+        write = ws.fh.write
+        step = 2048  # rows built at a time: memory stays flat whatever the sheet's length
+        for a in range(0, n, step):
+            b = min(a + step, n)
+            rows = [str(r) for r in range(r0 + a + 1, r0 + b + 1)]
+            cells: list[list[str | None]] = []
+            for (vals, _, styled), ref, s_num, memo in zip(prepared, refs, s_nums, memos,
+                                                         strict=True):
+                out: list[str | None] = []
+                for rn, v in zip(rows, vals[a:b], strict=True):
+                    if v is None:
+                        out.append(None)
+                        continue
+                    if v.__class__ is float:
+                        out.append(f'{ref}{rn}"{s_num}><v>{v:.16G}</v></c>')
+                        continue
+                    key = (v.__class__, v)
+                    tail = memo.get(key)
+                    if tail is None:
+                        if isinstance(v, str):
+                            tail = _string_tail(ws, v, styled.get(v) if styled else None)
+                        elif isinstance(v, bool):
+                            tail = f' t="b"><v>{int(v)}</v></c>'
+                        else:
+                            tail = f"{s_num}><v>{v:.16G}</v></c>"
+                        if len(memo) < 65536:
+                            memo[key] = tail
+                    out.append(ref + rn + '"' + tail)
+                cells.append(out)
+            if any(None in col for col in cells):  # empty cells left out, empty rows too
+                bodies = ["".join([c for c in cs if c is not None])
+                          for cs in zip(*cells, strict=True)]
+                text = "".join(['<row r="' + rn + '">' + body + "</row>"
+                                for rn, body in zip(rows, bodies, strict=True) if body])
+            else:
+                text = "".join(['<row r="' + rn + '">' + "".join(cs) + "</row>"
+                                for rn, *cs in zip(rows, *cells, strict=True)])
+            write(text)
+
+
+def _number_formats_in_order(prepared: list[tuple[list[Any], Any, dict[Any, Any] | None]]
+                             ) -> None:
+    """Give the formats of a table their style numbers in the order a cell-by-cell
+    writer first uses them (row by row, left to right), so both paths number the styles
+    alike."""
+    firsts: list[tuple[int, int, Any]] = []
+    for j, (vals, num, styled) in enumerate(prepared):
+        if num is not None:
+            i = next((i for i, v in enumerate(vals)
+                      if v is not None and not isinstance(v, str | bool)), None)
+            if i is not None:
+                firsts.append((i, j, num))
+        for text, fmt in (styled or {}).items():
+            try:
+                firsts.append((vals.index(text), j, fmt))
+            except ValueError:
+                continue
+    for _, _, fmt in sorted(firsts, key=lambda f: (f[0], f[1])):
+        fmt._get_xf_index()
+
+
+def _fast_ok(ws: Any) -> bool:
+    """Whether rows may be written as XML directly: constant-memory mode with the row
+    file open, no row heights or formats, no column formats, no comments (what
+    xlsxwriter would otherwise add to a row or a cell)."""
+    return bool(getattr(ws, "constant_memory", False) and getattr(ws, "row_data_fh", None)
+                and not ws.row_data_fh_closed and not ws.row_info and not ws.comments
+                and ws.default_row_height == ws.original_row_height
+                and ws.excel_version != 2010
+                and all(c.column_format is None for c in ws.col_info.values()))
+
+
+def _string_tail(ws: Any, text: str, fmt: Any) -> str:
+    """What follows ``<c r="A1"`` for a text cell, as xlsxwriter's constant-memory path
+    writes it (truncated to Excel's limit, control characters as _xHHHH_, whitespace
+    kept, XML escaped); a text that looks like a rich string is escaped too."""
+    if len(text) > ws.xls_strmax // 2 and _utf16_len(text) > ws.xls_strmax:
+        text = _utf16_truncate(text, ws.xls_strmax)
+    text = ws._escape_control_characters(text)
+    t_attr = ' xml:space="preserve"' if _preserve_whitespace(text) else ""
+    s_attr = f' s="{fmt._get_xf_index()}"' if fmt is not None else ""
+    return f'{s_attr} t="inlineStr"><is><t{t_attr}>{ws._escape_data(text)}</t></is></c>'
 
 
 class Book:

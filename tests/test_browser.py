@@ -299,6 +299,33 @@ def test_background_adjustment_of_every_series(server: str, browser: Any, output
     page.close()
 
 
+def test_a_background_job_can_be_cancelled(server: str, browser: Any, output_dir: Path):
+    """Adjusting every series (X-13ARIMA-SEATS, about 2 s on the demo) shows its progress
+    bar and a Cancel button; Cancel stops the job: nothing is saved, the page stays on the
+    shared demo and the controls come back."""
+    page = browser.new_page(viewport={"width": 1300, "height": 1000})
+    page.goto(server)
+    page.wait_for_selector("#rb-workspace-label strong", timeout=60_000)
+    _quiet(page)
+    page.click("#rb-nav-real")
+    page.click("#rb-screen-real details:has(#rt-sa-all) > summary")
+    _pick(page, page.locator("#rt-sa-method"), "X-13", "x13")
+    page.click("#rt-sa-all")
+    page.wait_for_selector("#rt-sa-cancel:not([hidden])", timeout=30_000)
+    assert page.evaluate("getComputedStyle(document.getElementById('rt-sa-progress'))"
+                         ".visibility") == "visible"
+    page.click("#rt-sa-cancel")
+    page.wait_for_selector("#rt-sa-cancel[hidden]", state="attached", timeout=30_000)
+    page.wait_for_selector("#rt-sa-all:not([disabled])", timeout=30_000)
+    page.wait_for_timeout(4000)  # longer than the job would have taken
+    assert "seasonally adjusted series" not in page.inner_text("#rt-sa-message")
+    assert "My copy of the demo" not in page.inner_text("#rb-workspace-label")
+    assert page.evaluate("getComputedStyle(document.getElementById('rt-sa-progress'))"
+                         ".visibility") == "hidden"
+    _shot(page, output_dir, "real-terms-adjusting-cancelled")  # waits for the page to settle
+    page.close()
+
+
 def test_a_file_over_the_limit_is_refused_before_it_is_sent(server: str, browser: Any,
                                                            tmp_path: Path, output_dir: Path):
     """A file bigger than the upload limit never leaves the browser (Flask would cut the

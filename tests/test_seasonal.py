@@ -467,3 +467,27 @@ def test_run_pool_runs_inline_inside_a_daemonic_process():
     got = queue.get(timeout=60)
     proc.join(60)
     assert got == [i * i for i in range(6)] and proc.exitcode == 0
+
+
+def test_preload_imports_statsmodels_only_when_called():
+    """Importing the module stays light (every command line call imports it); a server
+    calls ``preload`` at start so the first adjustment does not wait for statsmodels."""
+    import subprocess
+    import sys
+
+    code = ("import sys, pipeline.seasonal as s; a = 'statsmodels.tsa.seasonal' in sys.modules; "
+            "s.preload(); print(a, 'statsmodels.tsa.seasonal' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True)
+    assert out.stdout.split() == ["False", "True"]
+
+
+def test_the_gunicorn_entry_preloads_the_seasonal_adjustment():
+    import ast
+    from pathlib import Path
+
+    tree = ast.parse((Path(__file__).resolve().parents[1] / "dashboard" / "wsgi.py").read_text())
+    calls = [n.value.func.id for n in tree.body
+             if isinstance(n, ast.Expr) and isinstance(n.value, ast.Call)
+             and isinstance(n.value.func, ast.Name)]
+    assert "preload" in calls

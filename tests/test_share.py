@@ -687,3 +687,62 @@ def test_downloads_carry_the_saved_total_and_the_revision_band(demo):
     bands = json.loads(data)["revision_bands"]
     assert [(b["index"], b["available"]) for b in bands] == [("Chained consumer index", True)]
     assert bands[0]["revisions_used"] == 28
+
+
+def test_the_download_job_reports_its_stages(demo):
+    """The workbook download tells the progress bar each stage done (result, extras and
+    audit trail, file written) and ends at done == total."""
+    from dashboard.screens.share.view import export_file
+
+    seen: list[tuple[int, int]] = []
+    data, name = export_file(demo, "xlsx", None, lambda done, total: seen.append((done, total)))
+    assert data[:2] == b"PK" and name.endswith(".xlsx")
+    assert seen == [(0, 3), (1, 3), (2, 3), (3, 3)]
+
+
+def test_downloads_are_a_cancellable_job_with_progress_and_the_chart_image_is_not(tmp_path):
+    """The workbook, CSV and JSON downloads run as a background job with a progress bar
+    and a Cancel button shown while it runs; the chart image runs in the web process,
+    where the Chromium kept open lives (dashboard.images)."""
+    from dashboard import ids
+    from dashboard.app import create_app
+    from pipeline.settings import Settings
+
+    app = create_app(Settings(data_dir=str(tmp_path / "d"), demo=False))
+    cbs = dict(app.callback_map)
+    download = next(v for k, v in cbs.items() if f"{ids.SX_DOWNLOAD}.data" in k)
+    png = next(v for k, v in cbs.items() if f"{ids.SX_DOWNLOAD_PNG}.data" in k)
+    bg = download.get("background") or {}
+    assert bg, "the downloads run as a background job"
+    assert [p.component_id for p in bg["progress"]] == [ids.SX_PROGRESS, ids.SX_PROGRESS]
+    assert [c["id"] for c in bg["cancel"]] == [ids.SX_CANCEL]
+    assert not png.get("background")
+    layout = str(app.layout() if callable(app.layout) else app.layout)
+    assert ids.SX_PROGRESS in layout and ids.SX_CANCEL in layout
+    # every background job of the dashboard can be cancelled, and its Cancel button is
+    # shown only while it runs
+    jobs = {k: v for k, v in cbs.items() if v.get("background")}
+    assert len(jobs) >= 4  # reading a file, adjusting every series, two downloads
+    for key, cb in jobs.items():
+        cancels = [c["id"] for c in cb["background"].get("cancel") or []]
+        assert cancels, f"{key}: no Cancel"
+        for c in cancels:
+            button = _find(app.layout() if callable(app.layout) else app.layout, c)
+            assert button is not None and button.hidden is True, c  # shown while running
+        running = next(spec.get("running") or {} for spec in app._callback_list
+                       if spec["output"] == key)
+        for c in cancels:
+            assert running["running"].get(f"{c}.hidden") is False, key
+            assert running["runningOff"].get(f"{c}.hidden") is True, key
+
+
+def _find(component, wanted):
+    if getattr(component, "id", None) == wanted:
+        return component
+    children = getattr(component, "children", None)
+    for child in children if isinstance(children, list | tuple) else [children]:
+        if child is not None and not isinstance(child, str | int | float):
+            found = _find(child, wanted)
+            if found is not None:
+                return found
+    return None

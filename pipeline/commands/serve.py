@@ -43,7 +43,9 @@ def _run(args: argparse.Namespace) -> int:
     gunicorn = shutil.which("gunicorn")
     if settings.workers == 1 or gunicorn is None or os.name == "nt":
         from dashboard.app import create_app  # lazily: pipeline never imports dash
+        from pipeline.seasonal import preload
 
+        preload()  # as each gunicorn worker does (dashboard.wsgi)
         print(f"realbasis dashboard on {url} (single process; Ctrl+C stops)", flush=True)
         create_app(settings).run(host=settings.host, port=settings.port, debug=False)
         return 0

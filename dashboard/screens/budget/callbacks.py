@@ -146,11 +146,13 @@ def register(app: Dash) -> None:
         Output(ids.BT_DOWNLOAD, "data"), Output(ids.BT_DL_STATUS, "children"),
         Input(ids.BT_DL_CSV, "n_clicks"), Input(ids.BT_DL_XLSX, "n_clicks"),
         *(State(i, "value") for i in CHOICES), State(REF, "data"),
-        background=True, prevent_initial_call=True,
+        background=True, prevent_initial_call=True, interval=250,
+        cancel=[Input(ids.BT_DL_CANCEL, "n_clicks")],
         running=[(Output(ids.BT_DL_CSV, "disabled"), True, False),
                  (Output(ids.BT_DL_XLSX, "disabled"), True, False),
                  (Output(ids.BT_DL_PROGRESS, "style"), {"visibility": "visible"},
-                  {"visibility": "hidden"})],
+                  {"visibility": "hidden"}),
+                 (Output(ids.BT_DL_CANCEL, "hidden"), False, True)],
     )
     def _download(_c: Any, _x: Any, programs: Any, deflator: Any, base: Any, freq: Any,
                   given: Any, interp: Any, ref: Any) -> Any:

@@ -7,7 +7,7 @@ from dash import dcc, html
 from pipeline.model import Workspace
 
 from ... import ids
-from ...components import cautions_view, dropdown, field, progress_bar, screen
+from ...components import cautions_view, dropdown, field, progress_with_cancel, screen
 from ...figures import empty_figure
 from .._shared.view import frequency_options, interpolation_switch, period_placeholder
 from .view import FORMATS, GIVEN
@@ -69,7 +69,7 @@ def layout() -> html.Div:
     downloads = html.Div([
         _button(f"Download: {FORMATS['csv']}", ids.BT_DL_CSV),
         _button(f"Download: {FORMATS['xlsx']}", ids.BT_DL_XLSX),
-        progress_bar(ids.BT_DL_PROGRESS),
+        progress_with_cancel(ids.BT_DL_PROGRESS, ids.BT_DL_CANCEL),
         html.Div(id=ids.BT_DL_STATUS, role="status", **{"aria-live": "polite"}),
         dcc.Download(id=ids.BT_DOWNLOAD),
     ], className="rb-actions", style={"display": "flex", "gap": "8px", "flexWrap": "wrap",

@@ -12,7 +12,7 @@ from ...components import (
     cautions_view,
     dropdown,
     field,
-    progress_bar,
+    progress_with_cancel,
     screen,
 )
 from .view import (
@@ -112,7 +112,7 @@ def _editor_part(workspace: Any, upload: Any, interpretation: Any) -> list[Any]:
         dcc.Store(id=ids.IN_KINDS, data={}),
         dcc.Store(id=ids.IN_ADDED_AT),
         html.Div(id=ids.IN_STATUS, role="status"),
-        progress_bar(ids.IN_PROGRESS),
+        progress_with_cancel(ids.IN_PROGRESS, ids.IN_CANCEL),
         html.Div(id=ids.IN_SUMMARY, role="status"),
         html.H3("How the file is read"),
         interpretation,

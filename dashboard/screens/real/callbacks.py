@@ -168,11 +168,13 @@ def register(app: Dash) -> None:
         Output(ids.RT_SA_MESSAGE, "children"),
         Input(ids.RT_SA_ALL, "n_clicks"),
         State(ids.RT_SA_METHOD, "value"), State(REF, "data"),
-        background=True,
+        background=True, interval=250,
         progress=[Output(ids.RT_SA_PROGRESS, "value"), Output(ids.RT_SA_PROGRESS, "max")],
+        cancel=[Input(ids.RT_SA_CANCEL, "n_clicks")],
         running=[(Output(ids.RT_SA_PROGRESS, "style"), {"visibility": "visible"},
                   {"visibility": "hidden"}),
-                 (Output(ids.RT_SA_ALL, "disabled"), True, False)],
+                 (Output(ids.RT_SA_ALL, "disabled"), True, False),
+                 (Output(ids.RT_SA_CANCEL, "hidden"), False, True)],
         prevent_initial_call=True,
     )
     @writes("seasonally adjust the workspace's series")

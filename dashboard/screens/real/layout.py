@@ -7,7 +7,7 @@ from dash import dcc, html
 from pipeline.model import Workspace
 
 from ... import ids
-from ...components import cautions_view, dropdown, field, progress_bar, screen
+from ...components import cautions_view, dropdown, field, progress_with_cancel, screen
 from ...figures import empty_figure
 from .._shared.view import (
     frequency_options,
@@ -109,7 +109,7 @@ def layout() -> html.Div:
                 html.Div(html.Button("Adjust them all", id=ids.RT_SA_ALL, n_clicks=0,
                                      type="button", className="rb-button"), className="rb-field"),
             ], className="rb-controls"),
-            progress_bar(ids.RT_SA_PROGRESS),
+            progress_with_cancel(ids.RT_SA_PROGRESS, ids.RT_SA_CANCEL),
             html.Div(id=ids.RT_SA_MESSAGE, role="status"),
         ], className="rb-details"),
         cautions_view(),

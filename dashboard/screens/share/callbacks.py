@@ -36,6 +36,7 @@ def register(app: Dash) -> None:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
             return no_update, no_update
+        view.warm_images()  # the chart image then rarely waits for Chromium to start
         return view.scope_view(rb.data.load(r)), current_access().read_only
 
     @app.callback(Output(ids.SX_AUDIT, "children"), Input(REF, "data"),
@@ -94,19 +95,25 @@ def register(app: Dash) -> None:
         Output(ids.SX_DOWNLOAD, "data"), Output(ids.SX_DL_STATUS, "children"),
         Input(ids.SX_DL_XLSX, "n_clicks"), Input(ids.SX_DL_CSV, "n_clicks"),
         Input(ids.SX_DL_JSON, "n_clicks"), State(REF, "data"),
-        background=True, prevent_initial_call=True,
+        background=True, prevent_initial_call=True, interval=250,
+        progress=[Output(ids.SX_PROGRESS, "value"), Output(ids.SX_PROGRESS, "max")],
+        cancel=[Input(ids.SX_CANCEL, "n_clicks")],
         running=[(Output(ids.SX_DL_XLSX, "disabled"), True, False),
                  (Output(ids.SX_DL_CSV, "disabled"), True, False),
-                 (Output(ids.SX_DL_JSON, "disabled"), True, False)],
+                 (Output(ids.SX_DL_JSON, "disabled"), True, False),
+                 (Output(ids.SX_PROGRESS, "style"), {"visibility": "visible"},
+                  {"visibility": "hidden"}),
+                 (Output(ids.SX_CANCEL, "hidden"), False, True)],
     )
-    def _download(_x: Any, _c: Any, _j: Any, ref: Any) -> Any:
+    def _download(set_progress: Any, _x: Any, _c: Any, _j: Any, ref: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         fmt = {ids.SX_DL_XLSX: "xlsx", ids.SX_DL_CSV: "csv",
                ids.SX_DL_JSON: "json"}.get(str(ctx.triggered_id), "xlsx")
         if r is None:
             return no_update, no_update
         try:
-            data, name = view.export_file(rb.data.load(r), fmt, rb.data.store)
+            data, name = view.export_file(rb.data.load(r), fmt, rb.data.store,
+                                          lambda done, total: set_progress((str(done), str(total))))
         except RealbasisError as err:
             return no_update, problems_view(error_dicts(err), title="Cannot export")
         return dcc.send_bytes(data, name), notice(f"{name} is ready.", "ok")
@@ -115,7 +122,7 @@ def register(app: Dash) -> None:
         Output(ids.SX_DOWNLOAD_PNG, "data"),
         Output(ids.SX_DL_STATUS, "children", allow_duplicate=True),
         Input(ids.SX_DL_PNG, "n_clicks"), State(REF, "data"),
-        background=True, prevent_initial_call=True,
+        prevent_initial_call=True,  # not a job: the Chromium kept open lives in this process
         running=[(Output(ids.SX_DL_PNG, "disabled"), True, False)],
     )
     def _png(_n: Any, ref: Any) -> Any:

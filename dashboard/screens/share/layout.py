@@ -5,7 +5,7 @@ from __future__ import annotations
 from dash import dcc, html
 
 from ... import ids
-from ...components import cautions_view, field, screen
+from ...components import cautions_view, field, progress_with_cancel, screen
 from .view import FORMATS
 
 
@@ -23,6 +23,7 @@ def layout() -> html.Div:
             html.Button("Chart image (PNG)", id=ids.SX_DL_PNG, n_clicks=0, type="button",
                         className="rb-button"),
         ], className="rb-actions", style={"display": "flex", "gap": "8px", "flexWrap": "wrap"}),
+        progress_with_cancel(ids.SX_PROGRESS, ids.SX_CANCEL),
         html.Div(id=ids.SX_DL_STATUS, role="status", **{"aria-live": "polite"}),
         dcc.Download(id=ids.SX_DOWNLOAD),
         dcc.Download(id=ids.SX_DOWNLOAD_PNG),

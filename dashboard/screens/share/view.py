@@ -16,7 +16,7 @@ import re
 import shutil
 import tempfile
 import textwrap
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -29,6 +29,7 @@ from pipeline.store import SH005, AuditEvent, LinkInfo, WorkspaceStore, current_
 from pipeline.workbook import EX103, workspace_result
 
 from ...components import Column, table
+from ...images import RENDERER
 from .._shared.view import comparison, problem_dict
 
 FORMATS = {"xlsx": "Excel workbook (audit)", "csv": "CSV table", "json": "JSON"}
@@ -135,8 +136,10 @@ def safe_filename(text: str) -> str:
     return stem or "workspace"
 
 
-def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None) -> tuple[bytes, str]:
-    """The download: (bytes, file name) of the workspace's result in ``fmt``."""
+def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None,
+                progress: Callable[[int, int], None] | None = None) -> tuple[bytes, str]:
+    """The download: (bytes, file name) of the workspace's result in ``fmt``;
+    ``progress(done, total)`` follows the stages of the export."""
     from pipeline.workbook import export_workspace
 
     if fmt not in FORMATS:
@@ -146,7 +149,8 @@ def export_file(ws: Workspace, fmt: str, store: WorkspaceStore | None) -> tuple[
     with tempfile.TemporaryDirectory(prefix="rb-export-") as tmp:
         path = export_workspace(ws, Path(tmp) / name, store=store,
                                 actor=current_access().actor,
-                                command=f"dashboard: Share and export ({FORMATS[fmt]})")
+                                command=f"dashboard: Share and export ({FORMATS[fmt]})",
+                                progress=progress)
         return path.read_bytes(), name
 
 
@@ -195,10 +199,24 @@ def chart_figure(ws: Workspace) -> Any:
     return fig
 
 
-def chart_png(ws: Workspace) -> tuple[bytes, str]:
-    """The chart as PNG through kaleido and the system Chromium (never downloaded)."""
+def warm_images() -> None:
+    """Start the Chromium chart images need, in the background, if kaleido and a
+    Chromium are there (the Share screen calls it when drawn: the first image then
+    rarely waits for Chromium to start)."""
     try:
-        import kaleido
+        import kaleido  # noqa: F401 - only whether it is there
+    except ImportError:
+        return
+    path = chromium_path()
+    if path is not None:
+        RENDERER.warm(path)
+
+
+def chart_png(ws: Workspace) -> tuple[bytes, str]:
+    """The chart as PNG through kaleido and the system Chromium (never downloaded), kept
+    open between images (:mod:`dashboard.images`)."""
+    try:
+        import kaleido  # noqa: F401 - the renderer needs it
     except ImportError:
         raise fail(EX103, "chart images need the kaleido package", expected="kaleido installed",
                    found="kaleido is not installed",
@@ -211,10 +229,8 @@ def chart_png(ws: Workspace) -> tuple[bytes, str]:
                    "RB_CHROMIUM", found="no Chromium", fix="Install Debian's chromium package "
                    "or set RB_CHROMIUM; the workbook and CSV downloads work without it.")
     fig = chart_figure(ws)
-    try:
-        png = kaleido.calc_fig_sync(fig.to_dict(), opts={"format": "png", "width": PNG_SIZE[0],
-                                                          "height": PNG_SIZE[1]},
-                                    kopts={"path": path})
+    try:  # through the Chromium this process keeps open (dashboard.images)
+        png = RENDERER.png(fig.to_dict(), PNG_SIZE[0], PNG_SIZE[1], path)
     except Exception as err:  # kaleido/choreographer raise many kinds of errors
         raise fail(EX103, "the chart image could not be made", expected="a PNG from Chromium",
                    found=f"{type(err).__name__}: {err}"[:300],
