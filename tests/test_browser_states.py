@@ -218,8 +218,11 @@ def test_a_revoked_link_says_so_at_the_next_screen_switch(
     _screen(page, "real")
     _trace(page, "#rt-figure", "Nominal")
     _screen(page, "spread")
+    _wait_text(page, "#sp-title", "constant")
+    page.wait_for_load_state("networkidle")
     store.revoke_link(info.id)
-    page.click("#rb-nav-real")  # both screens are on the page already: no callback runs
+    # both screens are on the page already: no callback runs, only the switch's check
+    page.click("#rb-nav-real", force=True)
     page.wait_for_selector("#rb-page-problem [role=alert]", timeout=60_000)
     text = page.inner_text("#rb-page-problem")
     assert "no longer valid" in text and "SH002" in text

@@ -737,8 +737,25 @@ def test_downloads_are_a_cancellable_job_with_progress_and_the_chart_image_is_no
 
 
 def _find(component, wanted):
+    if isinstance(component, dict):  # a store's data: the screens' contents until shown
+        for value in component.values():
+            found = _find(value, wanted)
+            if found is not None:
+                return found
+        return None
+    if isinstance(component, list | tuple):
+        for value in component:
+            found = _find(value, wanted)
+            if found is not None:
+                return found
+        return None
     if getattr(component, "id", None) == wanted:
         return component
+    data = getattr(component, "data", None)
+    if isinstance(data, dict):
+        found = _find(data, wanted)
+        if found is not None:
+            return found
     children = getattr(component, "children", None)
     for child in children if isinstance(children, list | tuple) else [children]:
         if child is not None and not isinstance(child, str | int | float):
