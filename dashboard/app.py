@@ -259,7 +259,8 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
         title=APP_TITLE,
         update_title=None,
         assets_folder=str(ASSETS),
-        assets_ignore=r"vendor/.*",  # served, loaded on demand (assets/plotly-basic.js)
+        # assets/vendor/ is served but not put on the page: loaded on demand (plotly-basic.js)
+        assets_path_ignore=["^vendor$"],
         background_callback_manager=jobs.make_manager(settings),
         serve_locally=True,
         on_error=failures.on_callback_error,

@@ -4,7 +4,7 @@
  * script its graphs load lazily in window._dashPlotlyJSURL; this fixes that name to the
  * vendored file, so the bundle still loads only when a chart is first drawn and never
  * holds up the page. (assets/vendor/ is served but not included as page scripts:
- * Dash(assets_ignore=...), dashboard/app.py.)
+ * Dash(assets_path_ignore=...), dashboard/app.py.)
  */
 (function () {
   "use strict";
