@@ -16,7 +16,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
-from urllib.parse import parse_qs, urlencode, urlsplit
+from urllib.parse import parse_qs, urlencode
 
 from dash import ClientsideFunction, Dash, Input, Output, State, ctx, dcc, html, no_update
 
@@ -69,34 +69,7 @@ def address_for(search: str, ref: WorkspaceRef | None) -> Any:
     return "?" + urlencode(query, doseq=True)
 
 
-def opening(rb: AppContext) -> tuple[WorkspaceRef | None, Any]:
-    """The workspace a page opens on and its header label, decided while the page is
-    built: the page's address reaches the layout request as its Referer (same origin), so
-    the first screen can compute at once instead of after a round trip that looks the
-    workspace up. (None, the waiting label) when that address is not known or the lookup
-    fails: the shell's ``_workspace`` callback then decides, as it always re-checks."""
-    import flask
-
-    from pipeline.errors import RealbasisError
-
-    waiting = "Opening workspace…"
-    if not flask.has_request_context():
-        return None, waiting
-    page = flask.request.referrer or ""
-    parts = urlsplit(page)
-    if not page or parts.netloc != flask.request.host:
-        return None, waiting
-    try:
-        ref = rb.resolve_workspace("?" + parts.query if parts.query else "")
-        ws = rb.data.load(ref)
-    except RealbasisError:
-        return None, waiting
-    return (WorkspaceRef(ref.id, ws.version),
-            workspace_label(ws.name, ws.version, demo_copy=is_demo_copy(ws.name)))
-
-
-def shell_layout(screens: tuple[ScreenInfo, ...], ref: WorkspaceRef | None = None,
-                 label: Any = None) -> html.Div:
+def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
     """The page: header, navigation, one section per screen (all but the first hidden
     until the address says otherwise) and the stores the shell keeps: the workspace, the
     screen shown and, per screen, the workspace gate its callbacks compute for."""
@@ -117,15 +90,14 @@ def shell_layout(screens: tuple[ScreenInfo, ...], ref: WorkspaceRef | None = Non
                for s in screens if s.params]
     return html.Div([
         dcc.Location(id=ids.URL, refresh=False),
-        dcc.Store(id=ids.WORKSPACE, storage_type="memory",
-                  data=ref.as_dict() if ref is not None else None),
+        dcc.Store(id=ids.WORKSPACE, storage_type="memory"),
         dcc.Store(id=ids.SCREEN, data=first),
         *stores,
         html.Div(id=ids.PAGE_PROBLEM, className="rb-page-problem", **{"aria-live": "assertive"}),
         html.Header([
             html.Div([html.H1(APP_TITLE), html.P(TAGLINE, className="rb-tagline")],
                      className="rb-brand"),
-            html.P(label, id=ids.WORKSPACE_LABEL, className="rb-workspace-label", role="status"),
+            html.P(id=ids.WORKSPACE_LABEL, className="rb-workspace-label", role="status"),
         ], className="rb-header"),
         nav,
         html.Main(sections, className="rb-main"),
@@ -141,7 +113,7 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
     @app.callback(
         Output(ids.WORKSPACE, "data"), Output(ids.URL, "search"),
         Input(ids.URL, "search"), Input(ids.WORKSPACE, "data"),
-        prevent_initial_call=False,  # the location's first props arrive as a change anyway
+        prevent_initial_call=False,  # the one server callback of a first load
     )
     def _workspace(search: str | None, current: Any) -> Any:
         """The address picks the workspace; a workspace changed by a screen (a new one,
@@ -151,8 +123,7 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
             return no_update, address_for(search or "", old)
         ref = rb.resolve_workspace(search or "")
         if old is not None and old.id == ref.id and old.version >= ref.version:
-            # the page opened on it already (opening); the address may still lack ?ws=
-            return no_update, address_for(search or "", old)
+            return no_update, no_update
         # a callback is not run again by its own output: the address is written here
         return ref.as_dict(), address_for(search or "", ref)
 
@@ -177,21 +148,13 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
         prevent_initial_call=False,
     )
     # The gate: the shown screen's workspace store follows WORKSPACE; hidden screens' stores
-    # stay as they were, so their callbacks do not run until they are opened. Two
-    # callbacks, one per trigger: a screen shown reads the workspace as State, so it does
-    # not wait for the shell's _workspace check of the address (which a page's opening
-    # always runs) when the page came with its workspace (opening).
-    gates = [Output(ids.screen_ref(k), "data", allow_duplicate=True) for k in keys]
-    states = [State(ids.screen_ref(k), "data") for k in keys]
+    # stay as they were, so their callbacks do not run until they are opened.
     app.clientside_callback(
-        ClientsideFunction("realbasis", "gateScreens"), gates,
-        Input(ids.WORKSPACE, "data"), State(ids.SCREEN, "data"), *states,
-        prevent_initial_call=True)
-    app.clientside_callback(
-        ClientsideFunction("realbasis", "gateScreens"), gates,
-        Input(ids.SCREEN, "data"), State(ids.WORKSPACE, "data"), *states,
-        prevent_initial_call=True)
-
+        ClientsideFunction("realbasis", "gateScreens"),
+        [Output(ids.screen_ref(k), "data") for k in keys],
+        Input(ids.WORKSPACE, "data"), Input(ids.SCREEN, "data"),
+        [State(ids.screen_ref(k), "data") for k in keys],
+    )
     # What a screen saved becomes the workspace, a workspace it opens goes into the address
     # (relays in the browser: see ids.screen_saved for why screens do not write them).
     for k in keys:
@@ -284,7 +247,7 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
     rb = AppContext(settings, data, screens, results=ResultCache(settings))
     rb.resolve_workspace = default_resolver(data)
     attach(app, rb)
-    app.layout = lambda: shell_layout(screens, *opening(rb))
+    app.layout = lambda: shell_layout(screens)
     _register_shell(app, screens)
     for screen in screens:
         screen.register(app)

@@ -80,20 +80,12 @@
         return hidden.concat(classes, contents, [chosen]);
       },
 
-      gateScreens: function () {
-        // two registrations (app.py): the workspace or the screen shown is the trigger,
-        // the other a State; values are read by id, whatever the order
+      gateScreens: function (ws, screen) {
         var cc = window.dash_clientside.callback_context;
-        var args = Array.prototype.slice.call(arguments);
-        var items = cc.inputs_list.concat(cc.states_list);
-        var byId = {};
-        items.forEach(function (item, i) { byId[item.id] = args[i]; });
-        var ws = byId["rb-workspace"];
-        var screen = byId["rb-screen"];
-        var keys = items.filter(function (it) { return it.id.indexOf("rb-ref-") === 0; })
-          .map(function (it) { return it.id.replace(/^rb-ref-/, ""); });
-        return keys.map(function (k) {
-          var g = byId["rb-ref-" + k];
+        var gates = Array.prototype.slice.call(arguments, 2);
+        var keys = cc.states_list.map(function (s) { return s.id.replace(/^rb-ref-/, ""); });
+        return keys.map(function (k, i) {
+          var g = gates[i];
           if (!ws || k !== screen) { return NO(); }
           if (g && g.id === ws.id && g.version === ws.version) { return NO(); }
           return ws;
