@@ -23,7 +23,6 @@ from __future__ import annotations
 import hashlib
 import logging
 import pickle
-import threading
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any, TypeVar
@@ -61,9 +60,6 @@ class ResultCache:
         self._backend: Any = None
         self._redis: Any = None
         self._warned = False
-        self._lock = threading.Lock()
-        self.hits = 0
-        self.misses = 0
         if not self.enabled:
             return
         if settings.redis_url:
@@ -114,11 +110,7 @@ class ResultCache:
         key = cache_key(parts)
         found = self.get(key)
         if found is not None:
-            with self._lock:
-                self.hits += 1
             return found  # type: ignore[no-any-return]
         value = compute()
-        with self._lock:
-            self.misses += 1
         self.put(key, value)
         return value
