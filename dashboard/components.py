@@ -1,12 +1,16 @@
 """Pure builders of page pieces: plain data in, Dash components out.
 
 Nothing here touches the store or the engine, so every builder is unit-tested by looking
-at the component tree it returns. User text is only ever passed as component children
-(text nodes, escaped by React); nothing here renders HTML or Markdown from user input.
+at the component tree it returns. User text is passed as component children (text
+nodes, escaped by React), with one exception: :func:`table` writes its rows as one HTML
+string (every text through :func:`html_text`) rendered by a single ``dcc.Markdown``,
+because the Dash renderer's cost grows with the number of components a callback creates
+(see DEVELOPERS.md, "Version quirks").
 """
 
 from __future__ import annotations
 
+import html as _html
 import math
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
@@ -71,32 +75,107 @@ def format_cell(value: object, column: Column) -> str:
     return "" if value is None else str(value)
 
 
+def html_text(text: object, *, attribute: bool = False) -> str:
+    """Text for an HTML string: ``& < >`` as entities (and ``" '`` too in an attribute
+    value), line breaks and other control characters as spaces, so user text can neither
+    open an element nor end the single-line HTML block that ``dcc.Markdown`` is given (a
+    blank line would turn what follows into Markdown)."""
+    s = "".join(" " if (ord(ch) < 32 or 0x7F <= ord(ch) < 0xA0 or ch in "\u2028\u2029")
+                else ch for ch in str(text))
+    return _html.escape(s, quote=attribute)
+
+
+_HTML_ATTRS = {"className": "class", "id": "id", "role": "role", "scope": "scope",
+               "title": "title", "aria-label": "aria-label", "aria-live": "aria-live"}
+"""The props a flattened element may carry, and their HTML names: nothing that could run
+or load anything (no href, src, style or event)."""
+
+
+def element_html(node: Any) -> str | None:
+    """An ``html.*`` element tree of plain elements and text as one line of HTML, every
+    text and attribute value through :func:`html_text`; None when the tree holds anything
+    else (a dcc component, a prop not in ``_HTML_ATTRS``), which is then kept as it is."""
+    if node is None:
+        return ""
+    if isinstance(node, str | int | float):
+        return html_text(node)
+    if isinstance(node, list | tuple):
+        parts = [element_html(c) for c in node]
+        return None if any(p is None for p in parts) else "".join(parts)  # type: ignore[arg-type]
+    if getattr(node, "_namespace", None) != "dash_html_components":
+        return None
+    props = {k: v for k, v in node.to_plotly_json()["props"].items() if k != "children"}
+    if any(k not in _HTML_ATTRS or not isinstance(v, str | int) for k, v in props.items()):
+        return None
+    inner = element_html(getattr(node, "children", None))
+    if inner is None:
+        return None
+    tag = node._type.lower()
+    attrs = "".join(f' {_HTML_ATTRS[k]}="{html_text(v, attribute=True)}"'
+                    for k, v in props.items())
+    return f"<{tag}{attrs}>{inner}</{tag}>"
+
+
+def flattened(node: Any) -> Any:
+    """``node`` drawn from one HTML string in one ``dcc.Markdown`` when it is made of plain
+    elements and text (see :func:`element_html`), else ``node`` itself. For notes, problem
+    lists and method notes that callbacks send anew with every change: each Dash component
+    a callback creates costs the renderer a pass over every component on the page."""
+    text = element_html(node)
+    if not text or node is None or isinstance(node, str):
+        return node
+    return html_block(text)
+
+
+def html_block(text: str, class_name: str = "rb-html") -> dcc.Markdown:
+    """The one place raw HTML reaches the page: ``text`` comes from :func:`table_html` or
+    :func:`element_html`, which escape every text (tests/test_dashboard_components.py
+    parses what they write)."""
+    return dcc.Markdown(text, dangerously_allow_html=True, className=class_name)
+
+
+def table_html(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
+               caption: str | None = None, id: str | None = None) -> str:
+    """The table as one line of HTML: caption, a header row of ``th scope=col`` and one
+    row per mapping; every text and attribute value through :func:`html_text`."""
+    t = html_text
+
+    def a(v: object) -> str:
+        return html_text(v, attribute=True)
+
+    parts = ['<table class="rb-table"' + (f' id="{a(id)}"' if id else "") + ">"]
+    if caption:
+        parts.append(f"<caption>{t(caption)}</caption>")
+    parts.append("<thead><tr>" + "".join(
+        f'<th scope="col" class="rb-{a(c.kind)}">{t(c.label)}</th>' for c in columns)
+        + "</tr></thead><tbody>")
+    for r in rows:
+        parts.append("<tr>" + "".join(
+            f'<td class="rb-{a(c.kind)} rb-col-{a(c.key)}">{t(format_cell(r.get(c.key), c))}</td>'
+            for c in columns) + "</tr>")
+    parts.append("</tbody></table>")
+    return "".join(parts)
+
+
 def table(columns: Sequence[Column], rows: Iterable[Mapping[str, Any]], *,
           caption: str | None = None, id: str | None = None,
-          empty: str = "Nothing to show.") -> html.Div | html.P:
+          empty: str = "Nothing to show.") -> dcc.Markdown | html.P:
     """An accessible HTML table; numbers right-aligned and formatted. The table sits in a
     wrapper that scrolls sideways (``rb-scroll``, reachable by keyboard), so a wide table
-    is never cut off on a narrow screen; the id, when given, is the table's."""
+    is never cut off on a narrow screen; the id, when given, is the table element's (in
+    the page, not a Dash component: no callback can use it).
+
+    The rows are one HTML string in one ``dcc.Markdown`` (not a component per cell): a
+    table of 60 cells made 80 components, and the Dash renderer runs every mounted
+    component's selector once for each component a callback creates, which cost about
+    half of a deflator switch in the browser (DEVELOPERS.md, "Version quirks")."""
     rows = list(rows)
     if not rows:
         return html.P(empty, className="rb-empty", id=id) if id else html.P(empty, className="rb-empty")
-    head = html.Thead(html.Tr([html.Th(c.label, scope="col",
-                                       className=f"rb-{c.kind}") for c in columns]))
-    body = html.Tbody([
-        html.Tr([html.Td(format_cell(r.get(c.key), c), className=f"rb-{c.kind} rb-col-{c.key}")
-                 for c in columns])
-        for r in rows
-    ])
-    children: list[Any] = []
-    if caption:
-        children.append(html.Caption(caption))
-    children += [head, body]
-    kwargs: dict[str, Any] = {"className": "rb-table"}
-    if id:
-        kwargs["id"] = id
-    label = {"aria-label": caption} if caption else {}
-    return html.Div(html.Table(children, **kwargs), className="rb-scroll rb-table-wrap",
-                    tabIndex=0, role="region", **label)
+    label = f' aria-label="{html_text(caption, attribute=True)}"' if caption else ""
+    return html_block(f'<div class="rb-scroll rb-table-wrap" tabindex="0" role="region"{label}>'
+                      + table_html(columns, rows, caption=caption, id=id) + "</div>",
+                      "rb-table-html")
 
 
 def field(label: str, control: Any, control_id: str, hint: str | None = None, *,
@@ -133,7 +212,7 @@ def unique_problems(problems: Sequence[Mapping[str, Any]]) -> list[Mapping[str, 
 
 
 def problems_view(problems: Sequence[Mapping[str, Any]], *, title: str = "Problems found"
-                  ) -> html.Section:
+                  ) -> Any:
     """The problem list: code, severity, where, what, expected/found and the fix."""
     if not problems:
         return html.Section([html.H3(title), html.P("No problems found.", className="rb-ok")],
@@ -156,29 +235,30 @@ def problems_view(problems: Sequence[Mapping[str, Any]], *, title: str = "Proble
         items.append(html.Li([html.Div(lines), html.Ul(detail)] if detail else [html.Div(lines)]))
     n_err = sum(1 for p in problems if p.get("severity", "error") == "error")
     n_warn = len(problems) - n_err
-    return html.Section([html.H3(f"{title}: {n_err:,} error(s), {n_warn:,} warning(s)"),
-                         html.Ul(items, className="rb-problem-list")], className="rb-problems")
+    return flattened(html.Section(
+        [html.H3(f"{title}: {n_err:,} error(s), {n_warn:,} warning(s)"),
+         html.Ul(items, className="rb-problem-list")], className="rb-problems"))
 
 
 def method_view(lines: Sequence[str], *, title: str = "How these figures were computed"
-                ) -> html.Section:
+                ) -> Any:
     if not lines:
         return html.Section([html.H3(title), html.P("Nothing computed yet.")],
                             className="rb-method")
     lines = list(dict.fromkeys(lines))  # a note reached twice is said once
-    return html.Section([html.H3(title), html.Ol([html.Li(line) for line in lines])],
-                        className="rb-method")
+    return flattened(html.Section([html.H3(title), html.Ol([html.Li(line) for line in lines])],
+                                  className="rb-method"))
 
 
-def warnings_view(warnings: Sequence[Mapping[str, Any]]) -> html.Section | None:
+def warnings_view(warnings: Sequence[Mapping[str, Any]]) -> Any:
     if not warnings:
         return None
     return problems_view(warnings, title="Notes on these figures")
 
 
-def cautions_view(cautions: Sequence[str] = CAUTIONS) -> html.Aside:
-    return html.Aside([html.H3("Cautions"), html.Ul([html.Li(c) for c in cautions])],
-                      className="rb-cautions", **{"aria-label": "Cautions"})
+def cautions_view(cautions: Sequence[str] = CAUTIONS) -> Any:
+    return flattened(html.Aside([html.H3("Cautions"), html.Ul([html.Li(c) for c in cautions])],
+                                className="rb-cautions", **{"aria-label": "Cautions"}))
 
 
 def progress_bar(bar_id: str) -> html.Progress:
@@ -211,7 +291,7 @@ def screen(title: str, intro: str, *children: Any) -> html.Div:
 
 
 def band_view(statements: Sequence[str], notes: Sequence[str | None] = (), *,
-              title: str = "Revision risk of the preliminary values") -> html.Section | None:
+              title: str = "Revision risk of the preliminary values") -> Any:
     """The revision band in words: the sentences the engine gives ("past revisions of this
     index would put it between ...") and plain notes (e.g. why there is no band)."""
     notes = [n for n in notes if n]
@@ -221,7 +301,7 @@ def band_view(statements: Sequence[str], notes: Sequence[str | None] = (), *,
     if statements:
         children.append(html.Ul([html.Li(s) for s in statements]))
     children += [html.P(n) for n in notes]
-    return html.Section(children, className="rb-band", role="status")
+    return flattened(html.Section(children, className="rb-band", role="status"))
 
 
 def workspace_label(name: str, version: int, *, demo_copy: bool = False) -> list[Any]:

@@ -13,8 +13,12 @@ from pipeline.settings import load_settings
 from . import warm
 from .app import create_app
 from .context import context
+from .screens.share.view import warm_images
 
 preload()  # at the worker's start, not on a user's first seasonal adjustment (about 2 s)
-app = create_app(load_settings())
+settings = load_settings()
+app = create_app(settings)
 server = app.server
 warm.start(context(app))  # the demo's first views, computed before anyone asks
+if settings.chart_images_ready:
+    warm_images()  # this worker's Chromium for chart images, started in the background

@@ -89,6 +89,10 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Megabytes of computed screen results kept for reuse by every worker "
                 "(diskcache in data_dir/results, or Redis when REALBASIS_REDIS_URL is set); "
                 "0 turns the cache off."),
+    SettingSpec("chart_images_ready", "REALBASIS_CHART_IMAGES_READY", True, _bool,
+                "Start the Chromium that chart images need when each web worker starts (about "
+                "150 MB a worker; it closes after 10 minutes without an image), so the first "
+                "image does not wait seconds for it; off: started when first needed."),
     SettingSpec("demo", "REALBASIS_DEMO", True, _bool,
                 "Open on the demo workspace when no workspace is chosen."),
     SettingSpec("local_editing", "REALBASIS_LOCAL_EDITING", False, _bool,
@@ -131,6 +135,7 @@ class Settings:
     secret_key: str | None = None
     cache_dir: str | None = None
     result_cache_mb: int = 256
+    chart_images_ready: bool = True
     demo: bool = True
     local_editing: bool = False
     trusted_proxies: str = ""

@@ -51,7 +51,8 @@ def start(data_dir: Path, env: Mapping[str, str] | None = None, *, workers: int 
           timeout: int = 120, args: tuple[str, ...] = ()) -> Server:
     """gunicorn with ``workers`` workers on a free port; waits until it answers."""
     port = free_port()
-    full = {**os.environ, "REALBASIS_DATA_DIR": str(data_dir), "PYTHONPATH": str(ROOT)}
+    full = {**os.environ, "REALBASIS_DATA_DIR": str(data_dir), "PYTHONPATH": str(ROOT),
+            "REALBASIS_CHART_IMAGES_READY": "0"}  # a Chromium per worker only where tested
     for k in ("REALBASIS_DATABASE_URL", "REALBASIS_REDIS_URL", "REALBASIS_EDITOR_TOKEN",
               "REALBASIS_LOCAL_EDITING"):
         full.pop(k, None)

@@ -131,3 +131,54 @@ def test_real_chromium_renders_twice_without_restarting(chromium_path):
     finally:
         r.close()
     assert not r.running
+
+
+def _children(pid: int) -> list[int]:
+    """Process ids whose parent is ``pid`` (Linux /proc)."""
+    out = []
+    for entry in os.listdir("/proc"):
+        if not entry.isdigit():
+            continue
+        try:
+            with open(f"/proc/{entry}/stat") as fh:
+                fields = fh.read().rsplit(")", 1)[1].split()
+        except OSError:
+            continue
+        if int(fields[1]) == pid:
+            out.append(int(entry))
+    return out
+
+
+def _has_chromium_below(pid: int) -> bool:
+    for child in _children(pid):
+        try:
+            with open(f"/proc/{child}/cmdline", "rb") as fh:
+                cmd = fh.read()
+        except OSError:
+            continue
+        if b"chrom" in cmd or _has_chromium_below(child):
+            return True
+    return False
+
+
+@pytest.mark.parametrize("ready", ["1", "0"])
+def test_each_worker_starts_its_chromium_at_start_when_set(chromium_path, tmp_path, ready):
+    # REALBASIS_CHART_IMAGES_READY (pipeline/settings.py): every web worker has its
+    # Chromium open before any image is asked for, so the first image takes the warm
+    # time (about 0.5 s), not Chromium's start (seconds); off, none is started.
+    import served
+
+    server = served.start(tmp_path / "d", {"REALBASIS_CHART_IMAGES_READY": ready,
+                                           "RB_CHROMIUM": chromium_path})
+    try:
+        workers = _children(server.proc.pid)
+        assert len(workers) == 2
+        deadline = time.monotonic() + (40 if ready == "1" else 8)
+        while time.monotonic() < deadline:
+            started = [w for w in workers if _has_chromium_below(w)]
+            if ready == "1" and len(started) == 2:
+                break
+            time.sleep(0.5)
+        assert len(started) == (2 if ready == "1" else 0)
+    finally:
+        server.stop()

@@ -334,4 +334,4 @@ def test_a_problem_reached_twice_is_shown_once():
     view = str(components.problems_view([p, dict(p), {**p, "message": "other"}]).to_plotly_json())
     assert view.count("has no nominal value") == 1 and "0 error(s), 2 warning(s)" in view
     note = str(components.method_view(["a", "b", "a"]).to_plotly_json())
-    assert note.count("'a'") == 1
+    assert note.count("<li>a</li>") == 1
