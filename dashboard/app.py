@@ -13,10 +13,11 @@ screens registered.
 
 from __future__ import annotations
 
+import logging
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
-from urllib.parse import parse_qs, urlencode
+from urllib.parse import parse_qs, urlencode, urlsplit
 
 from dash import ClientsideFunction, Dash, Input, Output, State, ctx, dcc, html, no_update
 
@@ -35,6 +36,8 @@ ASSETS = Path(__file__).resolve().parent / "assets"
 APP_TITLE = "realbasis"
 TAGLINE = "Nominal money, stated in real terms"
 
+
+log = logging.getLogger(__name__)
 
 def default_resolver(data: DataAccess) -> Callable[[str], WorkspaceRef]:
     """``?ws=<id>`` when that workspace exists; otherwise the demo workspace, or with the
@@ -69,35 +72,133 @@ def address_for(search: str, ref: WorkspaceRef | None) -> Any:
     return "?" + urlencode(query, doseq=True)
 
 
-def shell_layout(screens: tuple[ScreenInfo, ...]) -> html.Div:
+READY_ATTR = "data-rb-ready"
+"""Attribute of the section that comes computed (see :func:`opening`)."""
+OPENING_COOKIE = "rb_opening"
+"""The cookie assets/shell.js sets with the address's #fragment for the layout request."""
+OPENED = "__opened__"
+"""Key, in :func:`opening`'s props, of the screen computed and the choices it had."""
+OPENING_KEY = "opening"
+"""Marks the first screen's gate when the page came with that screen computed
+(:func:`opening`); assets/shell.js then re-opens it only for choices in the address."""
+
+
+def opening(rb: AppContext, screens: tuple[ScreenInfo, ...]
+            ) -> tuple[WorkspaceRef | None, Any, dict[str, dict[str, Any]]]:
+    """What the page opens with, decided while its layout is built: the workspace (the
+    page's address reaches the layout request as its Referer, same origin), the header's
+    label and the first screen computed for it (the screen's ``opening(rb, ws)``: initial
+    props by component id), so a first load shows its figures without a round of
+    callbacks. ``(None, waiting label, {})`` when the address is not known or anything
+    fails: the shell's ``_workspace`` callback then decides, as it always checks."""
+    import flask
+
+    waiting = "Opening workspace…"
+    # Only the page's own layout request: Dash also builds the layout once on a server's
+    # first request (whatever it is, a sign-in form's POST say) to check it, and looking a
+    # workspace up may start one, which must not happen there.
+    if not flask.has_request_context() or not flask.request.path.endswith("_dash-layout"):
+        return None, waiting, {}
+    page = flask.request.referrer or ""
+    parts = urlsplit(page)
+    if not page or parts.netloc != flask.request.host:
+        return None, waiting, {}
+    try:
+        ref = rb.resolve_workspace("?" + parts.query if parts.query else "")
+        ws = rb.data.load(ref)
+        ref = WorkspaceRef(ref.id, ws.version)
+        label = workspace_label(ws.name, ws.version, demo_copy=is_demo_copy(ws.name))
+    except Exception:  # the callbacks say what is wrong, as without an opening
+        log.exception("opening the page's workspace while building the layout failed")
+        return None, waiting, {}
+    key, query = opened_address(flask.request.cookies.get(OPENING_COOKIE, ""), screens)
+    screen = next((s for s in screens if s.key == key), None)
+    compute = getattr(screen.module, "opening", None) if screen is not None else None
+    if compute is None:
+        return ref, label, {}
+    try:
+        from .screens._shared.view import address_choices
+
+        props = compute(rb, ws, address_choices(f"{key}?{query}", key))
+    except Exception:
+        log.exception("computing screen %s while building the layout failed", key)
+        return ref, label, {}
+    return ref, label, {OPENED: {"key": key, "query": query}, **props}
+
+
+def opened_address(cookie: str, screens: tuple[ScreenInfo, ...]) -> tuple[str, str]:
+    """The screen key and the choices (query string) of the address a page is opened with,
+    from the cookie assets/shell.js sets for the layout request (``key?query``, URL
+    encoded); the first screen and no choices when it names none of ``screens``."""
+    from urllib.parse import unquote
+
+    text = unquote(cookie or "")[:1000]
+    key, _, query = text.partition("?")
+    key = unquote(key)
+    if not any(s.key == key for s in screens):
+        return (screens[0].key if screens else ""), ""
+    return key, query
+
+
+def _apply_props(node: Any, props: dict[str, dict[str, Any]]) -> None:
+    """Set ``props[id]`` on the components of ``node``'s tree with that id."""
+    node_id = getattr(node, "id", None)
+    if isinstance(node_id, str) and node_id in props:
+        for name, value in props[node_id].items():
+            setattr(node, name, value)
+    kids = getattr(node, "children", None)
+    for child in kids if isinstance(kids, list | tuple) else [kids]:
+        if hasattr(child, "to_plotly_json"):
+            _apply_props(child, props)
+
+
+def shell_layout(screens: tuple[ScreenInfo, ...], ref: WorkspaceRef | None = None,
+                 label: Any = None, first_props: dict[str, dict[str, Any]] | None = None
+                 ) -> html.Div:
     """The page: header, navigation, one section per screen (all but the first hidden
     until the address says otherwise) and the stores the shell keeps: the workspace, the
-    screen shown and, per screen, the workspace gate its callbacks compute for."""
-    first = screens[0].key if screens else ""
+    screen shown and, per screen, the workspace gate its callbacks compute for. With
+    :func:`opening`'s answer the page comes with its workspace and its first screen
+    computed (that screen's gate set, its section kept out of :func:`lazy_sections`)."""
+    first_props = dict(first_props or {})
+    opened = first_props.pop(OPENED, None)
+    first = opened["key"] if opened else (screens[0].key if screens else "")
     nav = html.Nav(
         [html.Button(s.title, id=ids.nav_button(s.key), n_clicks=0, type="button",
                      className="rb-nav-button" + (" rb-nav-active" if s.key == first else ""))
          for s in screens],
         id=ids.NAV, className="rb-nav", **{"aria-label": "Screens"})
-    sections = [html.Section([dcc.Store(id=ids.screen_saved(s.key)),
-                              dcc.Store(id=ids.screen_goto(s.key)), s.layout()],
-                             id=ids.screen_container(s.key), hidden=s.key != first,
-                             className="rb-screen", **{"aria-label": s.title})
-                for s in screens]
-    stores = [dcc.Store(id=ids.screen_ref(s.key), storage_type="memory") for s in screens]
+    ready = ref is not None and bool(first_props)
+    sections = []
+    for s in screens:
+        body = s.layout()
+        extra: dict[str, Any] = {"aria-label": s.title}
+        if ready and s.key == first:
+            _apply_props(body, first_props or {})
+            extra[READY_ATTR] = "1"
+        sections.append(html.Section([dcc.Store(id=ids.screen_saved(s.key)),
+                                      dcc.Store(id=ids.screen_goto(s.key)), body],
+                                     id=ids.screen_container(s.key), hidden=s.key != first,
+                                     className="rb-screen", **extra))
+    gate = ({**ref.as_dict(), OPENING_KEY: True, "query": opened["query"]}
+            if ready and ref is not None and opened else None)
+    stores = [dcc.Store(id=ids.screen_ref(s.key), storage_type="memory",
+                        data=gate if s.key == first else None) for s in screens]
     stores += [dcc.Store(id=ids.screen_address(s.key), storage_type="memory",
                          data={"key": s.key, "names": list(s.params)})
                for s in screens if s.params]
     return html.Div([
         dcc.Location(id=ids.URL, refresh=False),
-        dcc.Store(id=ids.WORKSPACE, storage_type="memory"),
+        dcc.Store(id=ids.WORKSPACE, storage_type="memory",
+                  data=ref.as_dict() if ref is not None else None),
         dcc.Store(id=ids.SCREEN, data=first),
         *stores,
         html.Div(id=ids.PAGE_PROBLEM, className="rb-page-problem", **{"aria-live": "assertive"}),
         html.Header([
             html.Div([html.H1(APP_TITLE), html.P(TAGLINE, className="rb-tagline")],
                      className="rb-brand"),
-            html.P(id=ids.WORKSPACE_LABEL, className="rb-workspace-label", role="status"),
+            html.P(label, id=ids.WORKSPACE_LABEL, className="rb-workspace-label",
+                   role="status"),
         ], className="rb-header"),
         nav,
         html.Main(sections, className="rb-main"),
@@ -123,7 +224,8 @@ def _register_shell(app: Dash, screens: tuple[ScreenInfo, ...]) -> None:
             return no_update, address_for(search or "", old)
         ref = rb.resolve_workspace(search or "")
         if old is not None and old.id == ref.id and old.version >= ref.version:
-            return no_update, no_update
+            # the page opened on it already (opening); the address may still lack ?ws=
+            return no_update, address_for(search or "", old)
         # a callback is not run again by its own output: the address is written here
         return ref.as_dict(), address_for(search or "", ref)
 
@@ -247,7 +349,7 @@ def create_app(settings: Settings | None = None, *, store: WorkspaceStore | None
     rb = AppContext(settings, data, screens, results=ResultCache(settings))
     rb.resolve_workspace = default_resolver(data)
     attach(app, rb)
-    app.layout = lambda: shell_layout(screens)
+    app.layout = lambda: shell_layout(screens, *opening(rb, screens))
     _register_shell(app, screens)
     for screen in screens:
         screen.register(app)
@@ -271,6 +373,8 @@ def lazy_sections(layout: Callable[[], Any], screens: tuple[ScreenInfo, ...]
 
         def walk(node: Any) -> None:
             node_id = getattr(node, "id", None)
+            if node_id in keys and getattr(node, READY_ATTR, None) == "1":
+                return  # computed for the page's opening: on the page from the start
             if node_id in keys:
                 held[keys[node_id]] = node.children
                 node.children = None

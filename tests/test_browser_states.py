@@ -453,3 +453,62 @@ def test_layout_on_a_phone_and_a_tablet(site: dict[str, Any], browser: Any, widt
                 assert box and box["width"] <= width
     finally:
         context.close()
+
+
+# --------------------------------------------------------------------------- opening
+
+
+def _computes(page: Any) -> list[str]:
+    """The Real terms computations the page asks the server for (collected from now)."""
+    asked: list[str] = []
+    page.on("request", lambda r: asked.append(r.url) if r.method == "POST"
+            and "rt-title.children" in (r.post_data or "") else None)
+    return asked
+
+
+def test_a_shared_address_opens_with_its_choices_computed_by_the_server(site: dict[str, Any],
+                                                                        page: Any,
+                                                                        output_dir: Path):
+    # dashboard.app.opening: the layout comes with the screen the address names computed
+    # for the address's choices (told by assets/shell.js in the rb_opening cookie), so the
+    # first load asks for no computation; the chart is drawn from the layout.
+    from urllib.parse import quote
+
+    asked = _computes(page)
+    choices = f"deflator={quote('Fixed-basket consumer index')}&base=2019"
+    page.goto(site["url"] + f"/?ws={site['demo']}#real?{choices}")
+    _wait_text(page, "#rt-title", "deflated by Fixed-basket consumer index")
+    _wait_text(page, "#rt-title", "constant 2019 dollars")
+    page.wait_for_selector("#rt-figure .main-svg", timeout=60_000)
+    page.wait_for_load_state("networkidle")
+    assert asked == [], asked
+    assert page.is_visible("#rb-screen-real") and not page.is_visible("#rb-screen-intake")
+    assert "deflator=Fixed-basket" in page.evaluate("window.location.hash")
+    page.screenshot(path=str(output_dir / "states-opened-with-choices.png"), full_page=True)
+    assert page.problems == []  # type: ignore[attr-defined]
+
+
+# as if another tab had just written the cookie: the page's own write is replaced
+OTHER_TAB = """(() => {
+  const d = Object.getOwnPropertyDescriptor(Document.prototype, 'cookie');
+  Object.defineProperty(document, 'cookie', {configurable: true,
+    get() { return d.get.call(document); },
+    set(v) { d.set.call(document, v.replace(/^rb_opening=[^;]*/, 'rb_opening=real')); }});
+})();"""
+
+
+def test_choices_the_server_did_not_see_are_applied_in_the_page(site: dict[str, Any],
+                                                               page: Any):
+    # The cookie can name another address than the page's (two tabs opened at once): the
+    # server computes what it was told, and the page, whose address holds other choices,
+    # opens the screen again for them (assets/shell.js gateScreens).
+    from urllib.parse import quote
+
+    page.add_init_script(OTHER_TAB)
+    asked = _computes(page)
+    choices = f"deflator={quote('Fixed-basket consumer index')}&base=2019"
+    page.goto(site["url"] + f"/?ws={site['demo']}#real?{choices}")
+    _wait_text(page, "#rt-title", "deflated by Fixed-basket consumer index")
+    _wait_text(page, "#rt-title", "constant 2019 dollars")
+    assert asked, "computed in the page, not in the layout"
+    assert page.problems == []  # type: ignore[attr-defined]

@@ -261,3 +261,106 @@ def test_without_the_demo_the_latest_workspace_opens(tmp_path: Path):
     assert resolve(f"?ws={other.id}").id == other.id
     assert resolve("?ws=unknown").id in {first.id, other.id}
     assert not any(w.name == DEMO_NAME for w in data.store.list())
+
+
+def _by_id(tree: Any) -> dict[str, dict[str, Any]]:
+    """Every component's props in a serialised layout, by id (store data not entered)."""
+    found: dict[str, dict[str, Any]] = {}
+
+    def walk(node: Any) -> None:
+        if isinstance(node, list):
+            for n in node:
+                walk(n)
+        elif isinstance(node, dict) and "props" in node and "type" in node:
+            props = node["props"]
+            if isinstance(props.get("id"), str):
+                found[props["id"]] = props
+            for k, v in props.items():
+                if k != "data":
+                    walk(v)
+
+    walk(tree)
+    return found
+
+
+def _no_none(x: Any) -> Any:
+    if isinstance(x, dict):
+        return {k: _no_none(v) for k, v in x.items() if v is not None and v != {}}
+    if isinstance(x, list):
+        return [_no_none(v) for v in x]
+    return x
+
+
+def _opened(client: Any, cookie: str | None, referer: bool = True) -> dict[str, dict[str, Any]]:
+    from urllib.parse import quote
+
+    headers = {"Referer": "http://localhost/?x=1"} if referer else {}
+    if cookie is None:
+        client.delete_cookie("rb_opening")
+    else:
+        client.set_cookie("rb_opening", quote(cookie))
+    r = client.get("/_dash-layout", headers=headers)
+    assert r.status_code == 200
+    return _by_id(json.loads(r.data))
+
+
+def test_a_page_opens_with_its_screen_computed_as_the_callbacks_would(client: Any, deps: Any):
+    # dashboard.app.opening: the layout request names the page's address (Referer: the
+    # workspace; the rb_opening cookie from assets/shell.js: the #screen and its choices),
+    # and the layout comes with that screen computed, so a first load runs no callback
+    # chain. What it holds must be what the callbacks give for the same choices.
+    page = _opened(client, "real")
+    ws = page[ids.WORKSPACE]["data"]
+    gate = page[ids.screen_ref("real")]["data"]
+    assert gate == {**ws, "opening": True, "query": ""}
+    assert page[ids.SCREEN]["data"] == "real"
+    assert page[ids.screen_container("real")].get("hidden") is False
+    assert page[ids.screen_container("intake")].get("hidden") is True
+    assert "real" not in page[ids.SECTIONS]["data"]  # on the page, not held for later
+    assert "Workspace" in json.dumps(page[ids.WORKSPACE_LABEL]["children"])
+    title = page[ids.RT_TITLE]["children"]
+    assert "constant" in title and "dollars" in title
+
+    def v(cid: str, prop: str = "value") -> Any:
+        return page[cid].get(prop)
+
+    values = {f"{ids.WORKSPACE}.data": ws, f"{ids.URL}.hash": "#real"}
+    opts = call(client, deps, f"{ids.RT_SERIES}.options", values, f"{ids.screen_ref('real')}.data")
+    got = opts["response"]
+    assert got[ids.RT_SERIES]["value"] == v(ids.RT_SERIES)
+    assert got[ids.RT_BASE]["value"] == v(ids.RT_BASE)
+    chosen = {f"{cid}.value": v(cid) for cid in (ids.RT_SERIES, ids.RT_BASE, ids.RT_FREQ,
+                                                 ids.RT_INTERP, ids.RT_OUTLAY)}
+    defl = call(client, deps, f"{ids.RT_DEFLATOR}.options", {**values, **chosen},
+                f"{ids.RT_BASE}.value")["response"]
+    assert defl[ids.RT_DEFLATOR]["value"] == v(ids.RT_DEFLATOR)
+    assert defl[ids.RT_DEFLATOR]["options"] == v(ids.RT_DEFLATOR, "options")
+    computed = call(client, deps, f"{ids.RT_TITLE}.children", {
+        **values, **chosen, f"{ids.RT_DEFLATOR}.value": v(ids.RT_DEFLATOR),
+        f"{ids.RT_SA}.value": v(ids.RT_SA), f"{ids.RT_CHAIN}.value": v(ids.RT_CHAIN),
+        f"{ids.RT_BASIS}.value": v(ids.RT_BASIS), f"{ids.RT_PAIRS_STAMP}.data": 1},
+        f"{ids.RT_DEFLATOR}.value")["response"]
+    assert computed[ids.RT_TITLE]["children"] == title
+    # (the layout's encoding may keep an empty title, {}, that the callback's leaves out)
+    assert _no_none(computed[ids.RT_FIGURE]["figure"]) == _no_none(v(ids.RT_FIGURE, "figure"))
+    assert computed[ids.RT_GROWTH]["children"] == v(ids.RT_GROWTH, "children")
+
+    # the address's choices are applied by the server too
+    other = next(o["value"] for o in v(ids.RT_DEFLATOR, "options")
+                 if not o.get("disabled") and o["value"] != v(ids.RT_DEFLATOR))
+    asked = _opened(client, f"real?deflator={other}&base=2019")
+    assert asked[ids.RT_DEFLATOR]["value"] == other
+    assert "constant 2019 dollars" in asked[ids.RT_TITLE]["children"]
+    assert asked[ids.screen_ref("real")]["data"]["query"] == f"deflator={other}&base=2019"
+
+
+def test_a_page_opens_without_a_computed_screen_when_its_address_is_unknown(client: Any):
+    # no Referer (or another site's): the shell's _workspace callback decides, as before
+    page = _opened(client, "real", referer=False)
+    assert page[ids.WORKSPACE].get("data") is None
+    assert page[ids.screen_ref("real")].get("data") is None
+    # a cookie naming no screen: the first screen, which computes nothing at opening
+    page = _opened(client, "nonsense?x=<b>")
+    assert page[ids.SCREEN]["data"] == discover()[0].key
+    assert page[ids.WORKSPACE]["data"]["id"]
+    assert all(page[ids.screen_ref(s.key)].get("data") is None for s in discover())

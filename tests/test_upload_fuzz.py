@@ -37,6 +37,15 @@ MB = 1024 * 1024
 CODE = re.compile(r"\b(?:IN|PE|UI|SH|ST|WS|DF)\d{3}\b")
 
 
+def _shown(r: Any) -> str:
+    """An answer's text as the page gets it: JSON decoded (plotly's encoder writes "<" as
+    a \\u escape, and problem lists are HTML strings: components.html_block)."""
+    try:
+        return json.dumps(r.json(), ensure_ascii=False)
+    except ValueError:
+        return r.text
+
+
 @pytest.fixture(scope="module")
 def site(tmp_path_factory: pytest.TempPathFactory) -> Iterator[dict[str, Any]]:
     from pipeline.store import WorkspaceStore
@@ -84,7 +93,7 @@ def _drop(site: dict[str, Any], session: requests.Session, name: str, data: byte
     if served.is_job(r):
         r = served.poll(session, site["server"].url, body, r, limit=180)
         statuses.append(r.status_code)
-    shown += r.text
+    shown += _shown(r)
     if add:
         dep = dash_requests.find(deps, trigger=f"{ids.IN_ADD}.n_clicks")
         r = session.post(url, json=dash_requests.body(dep, {
@@ -92,7 +101,7 @@ def _drop(site: dict[str, Any], session: requests.Session, name: str, data: byte
             f"{ids.IN_FY_START}.value": 0, f"{ids.IN_KINDS}.data": {},
             f"{ids.WORKSPACE}.data": site["ws"]}), timeout=120)
         statuses.append(r.status_code)
-        shown += r.text
+        shown += _shown(r)
     return statuses, shown
 
 

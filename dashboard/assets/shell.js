@@ -6,7 +6,10 @@
  *                  from the store rb-sections (dashboard/app.py lazy_sections).
  * gateScreens      copies the workspace into the shown screen's gate store (rb-ref-<key>)
  *                  when that store is behind; hidden screens' gates stay as they are, so
- *                  their callbacks run only once they are opened.
+ *                  their callbacks run only once they are opened. A screen the page came
+ *                  with computed (its gate says "opening") is opened again, with
+ *                  {address: true}, only when the address it was opened with holds
+ *                  choices for it.
  * rememberChoices  keeps the shown screen's choices in the address (#key?name=value&...),
  *                  replacing the history entry (no new one per choice); the screens read
  *                  them back on load (screens/_shared/view.address_choices).
@@ -16,9 +19,22 @@
 (function () {
   "use strict";
   var NO = function () { return window.dash_clientside.no_update; };
+  // dcc.Markdown (tables and notes: components.html_block) fetches highlight.js (140 kB)
+  // the first time it draws, unless window.hljs is there; these pages hold no code to
+  // highlight, so a stand-in that highlights nothing saves that request.
+  if (!window.hljs) { window.hljs = {highlightElement: function () {}}; }
   var remembered = {};  // screen key -> query string of its last choices
   var filled = {};      // screen keys whose contents are on the page
+  var OPENING_COOKIE = "rb_opening";  // dashboard/app.py OPENING_COOKIE
   var ALIVE = "_realbasis/alive";  // dashboard/app.py: 204, or the access layer's refusal
+  // the address as the page was opened, before any screen's choices are written into it
+  var openedHash = window.location.hash;
+  // ... and told to the server for the page's layout request, which cannot see the
+  // address's #fragment: dashboard/app.py opening() computes the screen it names, with its
+  // choices, into the layout (a short-lived cookie of this path, read only there)
+  document.cookie = OPENING_COOKIE + "=" + encodeURIComponent(openedHash.replace(/^#/, "").slice(0, 1000)) +
+    "; path=" + window.location.pathname + "; max-age=60; SameSite=Strict";
+  var gated = {};       // screen keys whose gate has been looked at once
 
   function keyOf(hash) {
     var h = (hash || "").replace(/^#/, "");
@@ -87,7 +103,19 @@
         return keys.map(function (k, i) {
           var g = gates[i];
           if (!ws || k !== screen) { return NO(); }
-          if (g && g.id === ws.id && g.version === ws.version) { return NO(); }
+          var first = !gated[k];
+          gated[k] = true;
+          if (g && g.id === ws.id && g.version === ws.version) {
+            // The page came with this screen computed (dashboard/app.py opening) for the
+            // choices in g.query; when the address it was opened with holds others (a
+            // cookie from another tab reached the server first), they are applied by
+            // opening the screen again, the address's choices first.
+            if (first && g.opening && keyOf(openedHash) === k &&
+                queryOf(openedHash) !== (g.query || "")) {
+              return Object.assign({}, ws, {address: true});
+            }
+            return NO();
+          }
           return ws;
         });
       },

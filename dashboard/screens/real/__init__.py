@@ -11,7 +11,7 @@ the view model they call.
 from __future__ import annotations
 
 from ... import ids
-from .callbacks import register, warm
+from .callbacks import opening, register, warm
 from .layout import layout
 
 KEY = "real"
@@ -22,4 +22,4 @@ ORDER = 30
 PARAMS = {"series": ids.RT_SERIES, "deflator": ids.RT_DEFLATOR, "base": ids.RT_BASE}
 """Choices kept in the page address (#real?name=value...)."""
 
-__all__ = ["KEY", "ORDER", "PARAMS", "TITLE", "layout", "register", "warm"]
+__all__ = ["KEY", "ORDER", "PARAMS", "TITLE", "layout", "opening", "register", "warm"]

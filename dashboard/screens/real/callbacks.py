@@ -7,6 +7,7 @@ from typing import Any
 from dash import ALL, Dash, Input, Output, State, no_update
 
 from pipeline.errors import RealbasisError
+from pipeline.model import Workspace
 
 from ... import ids
 from ...context import context
@@ -48,6 +49,8 @@ def register(app: Dash) -> None:
             return no_update
         ws = rb.data.load(r)
         asked = address_choices(hash_, KEY)
+        if isinstance(ref, dict) and ref.get("address"):  # opened again for the address
+            series, base = asked.get("series") or series, asked.get("base") or base
         s_opts, chosen, saved_interp = view.options_for(ws, series or asked.get("series"))
         return (s_opts, chosen, shown_base(ws, base or asked.get("base"), chosen),
                 interp or saved_interp)
@@ -78,7 +81,9 @@ def register(app: Dash) -> None:
         if r is None:
             return no_update
         ws = rb.data.load(r)
-        deflator = deflator or address_choices(hash_, KEY).get("deflator")
+        asked = address_choices(hash_, KEY).get("deflator")
+        opened_again = isinstance(ref, dict) and ref.get("address")  # for the address
+        deflator = (asked or deflator) if opened_again else (deflator or asked)
         choices = (series, deflator, base, freq, interp, outlay)
         return rb.cached(ws, "real.deflators", choices,
                          lambda: view.deflator_picker(ws, *choices))
@@ -187,24 +192,65 @@ def register(app: Dash) -> None:
         return (new_ref.as_dict() if new_ref else no_update), message
 
 
-def warm(rb: Any, ws: Any) -> None:
-    """Compute the view a first visit to this screen on ``ws`` asks for, into the result
-    cache (run at worker start on the demo, dashboard.warm): the same calls, in the same
-    order and with the same values, as the callbacks above make when the page opens with
-    nothing chosen — the series and base from the saved choices, "Show as" automatic, no
-    seasonal adjustment, growth on the period before."""
-    from .._shared.view import base_after_series_change
+def opening(rb: Any, ws: Any, asked: Any = None) -> dict[str, dict[str, Any]]:
+    """The screen as the callbacks above leave it when the page opens on ``ws`` with the
+    address's choices ``asked`` (``address_choices``; none: the saved choices), as
+    initial props by component id (the shell puts them into the layout,
+    dashboard.app.opening, so a first load needs no round of callbacks): the same calls,
+    in the same order and with the same values, the callbacks make — "Show as" automatic,
+    no seasonal adjustment, growth on the period before — and the same result-cache keys,
+    so what warm() computed is used."""
+    from .._shared.view import base_after_series_change, frequency_options, period_placeholder
+    from .._shared.view import pick_series as shared_pick
 
-    _opts, series, saved_interp = view.options_for(ws, None)
-    base = shown_base(ws, None, series)
+    asked = asked if asked is not None else address_choices("", KEY)
+    s_opts, series, saved_interp = view.options_for(ws, asked.get("series"))
+    base = shown_base(ws, asked.get("base"), series)
     moved = base_after_series_change(ws, series, base)
     base = base if moved is None else moved
     freq, interp, outlay = "auto", saved_interp, outlay_field(ws, series)
-    choices = (series, None, base, freq, interp, outlay)
-    _o, deflator, _w = rb.cached(ws, "real.deflators", choices,
-                                 lambda: view.deflator_picker(ws, *choices))
+    choices = (series, asked.get("deflator"), base, freq, interp, outlay)
+    d_opts, deflator, why = rb.cached(ws, "real.deflators", choices,
+                                      lambda: view.deflator_picker(ws, *choices))
     chain = view.saved_chain(ws, "none")
-    rb.cached(ws, "real.outputs",
-              (series, deflator, base, freq, False, {}, chain, "period", interp, outlay),
-              lambda: view.screen_outputs(ws, series, deflator, base, freq, False, {}, chain,
-                                          "period", interpolate=interp, outlay=outlay))
+    rows, parts_hidden, deflator_hidden = view.pairs_panel(ws, series, base, freq,
+                                                           view.pair_values([], []))
+    out = rb.cached(ws, "real.outputs",
+                    (series, deflator, base, freq, False, {}, chain, "period", interp, outlay),
+                    lambda: view.screen_outputs(ws, series, deflator, base, freq, False, {},
+                                                chain, "period", interpolate=interp,
+                                                outlay=outlay))
+    try:
+        picked = shared_pick(ws, series) if series else None
+    except RealbasisError:
+        picked = None
+    title, figure, warnings, growth, method, c_fig, c_table, c_style = out
+    return {
+        ids.RT_SERIES: {"options": s_opts, "value": series},
+        ids.RT_BASE: {"value": base, "placeholder": period_placeholder(ws)},
+        ids.RT_INTERP: {"value": interp},
+        ids.RT_OUTLAY: {"value": outlay},
+        ids.RT_OUTLAY_STATE: {"children": view.outlay_state(ws, series, outlay)},
+        ids.RT_FREQ: {"options": frequency_options(ws if series else Workspace("", ""), picked)},
+        ids.RT_DEFLATOR: {"options": d_opts, "value": deflator},
+        ids.RT_DEFLATOR_WHY: {"children": why, "hidden": deflator_hidden},
+        ids.RT_PAIRS: {"children": rows},
+        ids.RT_PARTS_BOX: {"hidden": parts_hidden},
+        ids.RT_DEFLATOR_BOX: {"hidden": deflator_hidden},
+        ids.RT_PAIRS_STAMP: {"data": 1},
+        ids.RT_CHAIN: {"value": chain},
+        ids.RT_TITLE: {"children": title},
+        ids.RT_FIGURE: {"figure": figure},
+        ids.RT_WARNINGS: {"children": warnings},
+        ids.RT_GROWTH: {"children": growth},
+        ids.RT_METHOD: {"children": method},
+        ids.RT_CONTRIB_FIGURE: {"figure": c_fig},
+        ids.RT_CONTRIB_TABLE: {"children": c_table},
+        ids.RT_CONTRIB_BOX: {"style": c_style},
+    }
+
+
+def warm(rb: Any, ws: Any) -> None:
+    """Compute the view a first visit to this screen on ``ws`` asks for, into the result
+    cache (run at worker start on the demo, dashboard.warm): :func:`opening`."""
+    opening(rb, ws)
