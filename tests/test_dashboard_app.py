@@ -364,3 +364,14 @@ def test_a_page_opens_without_a_computed_screen_when_its_address_is_unknown(clie
     assert page[ids.SCREEN]["data"] == discover()[0].key
     assert page[ids.WORKSPACE]["data"]["id"]
     assert all(page[ids.screen_ref(s.key)].get("data") is None for s in discover())
+
+
+def test_a_deflator_base_or_frequency_change_is_one_round_trip(deps: list[dict[str, Any]]):
+    # Issue 12 (fast interactions): on Real terms a new deflator, base or "Show as" runs
+    # one server callback, which offers the pickers again where they depend on it and
+    # computes with what they then hold; nothing else on the server waits for it.
+    for prop in (f"{ids.RT_DEFLATOR}.value", f"{ids.RT_BASE}.value", f"{ids.RT_FREQ}.value"):
+        server = [d for d in deps if d.get("clientside_function") is None
+                  and prop in {f"{i['id']}.{i['property']}" for i in d["inputs"]}]
+        assert len(server) == 1, (prop, [d["output"] for d in server])
+        assert f"{ids.RT_TITLE}.children" in server[0]["output"]

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from dash import ALL, Dash, Input, Output, State, no_update
+from dash import ALL, Dash, Input, Output, State, ctx, no_update
 
 from pipeline.errors import RealbasisError
 from pipeline.model import Workspace
@@ -68,14 +68,18 @@ def register(app: Dash) -> None:
         r = WorkspaceRef.from_dict(ref)
         return no_update if r is None else view.outlay_state(rb.data.load(r), series, text)
 
+    # A new base or "Show as" reaches the pickers through _compute (one round trip: it
+    # offers the deflators again and computes with what they then hold), so here they are
+    # State; the series, the interpolation switch and outlay rates still come this way.
     @app.callback(
         Output(ids.RT_DEFLATOR, "options"), Output(ids.RT_DEFLATOR, "value"),
         Output(ids.RT_DEFLATOR_WHY, "children"),
-        Input(REF, "data"), Input(ids.RT_SERIES, "value"), Input(ids.RT_BASE, "value"),
-        Input(ids.RT_FREQ, "value"), Input(ids.RT_INTERP, "value"), Input(ids.RT_OUTLAY, "value"),
+        Input(REF, "data"), Input(ids.RT_SERIES, "value"), Input(ids.RT_INTERP, "value"),
+        Input(ids.RT_OUTLAY, "value"),
+        State(ids.RT_BASE, "value"), State(ids.RT_FREQ, "value"),
         State(ids.RT_DEFLATOR, "value"), State(ids.URL, "hash"),
     )
-    def _deflators(ref: Any, series: Any, base: Any, freq: Any, interp: Any, outlay: Any,
+    def _deflators(ref: Any, series: Any, interp: Any, outlay: Any, base: Any, freq: Any,
                    deflator: Any, hash_: Any) -> Any:
         r = WorkspaceRef.from_dict(ref)
         if r is None:
@@ -94,7 +98,7 @@ def register(app: Dash) -> None:
         Output(ids.RT_PAIRS, "children"), Output(ids.RT_PARTS_BOX, "hidden"),
         Output(ids.RT_DEFLATOR_BOX, "hidden"), Output(ids.RT_DEFLATOR_WHY, "hidden"),
         Output(ids.RT_PAIRS_STAMP, "data"),
-        Input(ids.RT_SERIES, "value"), Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"),
+        Input(ids.RT_SERIES, "value"), State(ids.RT_BASE, "value"), State(ids.RT_FREQ, "value"),
         State(pair, "value"), State(pair, "id"), State(REF, "data"), State(ids.RT_PAIRS_STAMP, "data"),
     )
     def _pairs(series: Any, base: Any, freq: Any, values: Any, pair_ids: Any, ref: Any,
@@ -118,6 +122,14 @@ def register(app: Dash) -> None:
         Output(ids.RT_WARNINGS, "children"), Output(ids.RT_GROWTH, "children"),
         Output(ids.RT_METHOD, "children"), Output(ids.RT_CONTRIB_FIGURE, "figure"),
         Output(ids.RT_CONTRIB_TABLE, "children"), Output(ids.RT_CONTRIB_BOX, "style"),
+        # the pickers offered again after a new base or "Show as" (see _deflators)
+        Output(ids.RT_DEFLATOR, "options", allow_duplicate=True),
+        Output(ids.RT_DEFLATOR, "value", allow_duplicate=True),
+        Output(ids.RT_DEFLATOR_WHY, "children", allow_duplicate=True),
+        Output(ids.RT_PAIRS, "children", allow_duplicate=True),
+        Output(ids.RT_PARTS_BOX, "hidden", allow_duplicate=True),
+        Output(ids.RT_DEFLATOR_BOX, "hidden", allow_duplicate=True),
+        Output(ids.RT_DEFLATOR_WHY, "hidden", allow_duplicate=True),
         Input(ids.RT_SERIES, "value"), Input(ids.RT_DEFLATOR, "value"),
         Input(ids.RT_BASE, "value"), Input(ids.RT_FREQ, "value"), Input(ids.RT_SA, "value"),
         Input(ids.RT_INTERP, "value"), Input(ids.RT_OUTLAY, "value"),
@@ -134,12 +146,21 @@ def register(app: Dash) -> None:
         ws = rb.data.load(r)
         pairs = view.pair_values(pair_ids, values)
         adjust = "sa" in (sa or [])
-        return rb.cached(ws, "real.outputs",
-                         (series, deflator, base, freq, adjust, pairs, chain, basis, interp,
-                          outlay),
-                         lambda: view.screen_outputs(ws, series, deflator, base, freq, adjust,
-                                                     pairs, chain, basis, interpolate=interp,
-                                                     outlay=outlay))
+        pickers: tuple[Any, ...] = (no_update,) * 7
+        if {f"{ids.RT_BASE}.value", f"{ids.RT_FREQ}.value"} & set(ctx.triggered_prop_ids):
+            choices = (series, deflator, base, freq, interp, outlay)
+            offered = rb.cached(ws, "real.deflators", choices,
+                                lambda: view.deflator_picker(ws, *choices))
+            rows, parts_hidden, deflator_hidden = view.pairs_panel(ws, series, base, freq, pairs)
+            deflator, pairs = offered[1], view.chosen_pairs(ws, series, base, freq, pairs)
+            pickers = (*offered, rows, parts_hidden, deflator_hidden, deflator_hidden)
+        shown = rb.cached(ws, "real.outputs",
+                          (series, deflator, base, freq, adjust, pairs, chain, basis, interp,
+                           outlay),
+                          lambda: view.screen_outputs(ws, series, deflator, base, freq, adjust,
+                                                      pairs, chain, basis, interpolate=interp,
+                                                      outlay=outlay))
+        return (*shown, *pickers)
 
     @app.callback(
         Output(SAVED, "data", allow_duplicate=True), Output(ids.RT_SAVED, "children"),

@@ -686,6 +686,19 @@ def pair_values(pair_ids: Any, values: Any) -> dict[str, Any]:
             if isinstance(i, dict) and "part" in i}
 
 
+def chosen_pairs(ws: Workspace, key: Any, base: Any, freq: Any, current: dict[str, Any]
+                 ) -> dict[str, Any]:
+    """The parts' deflators the pickers of :func:`pairs_panel` show for this base and
+    result frequency (``current`` kept where it still serves); ``current`` itself for a
+    single series or when the total cannot be formed (the computation then says why)."""
+    if not is_parts(key):
+        return current
+    try:
+        return {c.part: c.value for c in pair_choices(ws, key, base, freq, current)}
+    except RealbasisError:
+        return current
+
+
 def pairs_panel(ws: Workspace, key: Any, base: Any, freq: Any, current: dict[str, Any]
                 ) -> tuple[Any, bool, bool]:
     """The pickers of a total of parts (one per part), whether the parts box is hidden,
