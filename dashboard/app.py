@@ -39,6 +39,7 @@ TAGLINE = "Nominal money, stated in real terms"
 
 log = logging.getLogger(__name__)
 
+
 def default_resolver(data: DataAccess) -> Callable[[str], WorkspaceRef]:
     """``?ws=<id>`` when that workspace exists; otherwise the demo workspace, or with the
     demo setting off the most recently changed other workspace (an empty one is started
@@ -79,18 +80,20 @@ OPENING_COOKIE = "rb_opening"
 OPENED = "__opened__"
 """Key, in :func:`opening`'s props, of the screen computed and the choices it had."""
 OPENING_KEY = "opening"
-"""Marks the first screen's gate when the page came with that screen computed
-(:func:`opening`); assets/shell.js then re-opens it only for choices in the address."""
+"""Marks the gate of the screen the page came computed with (:func:`opening`);
+assets/shell.js then re-opens it only for other choices in the address."""
 
 
 def opening(rb: AppContext, screens: tuple[ScreenInfo, ...]
             ) -> tuple[WorkspaceRef | None, Any, dict[str, dict[str, Any]]]:
     """What the page opens with, decided while its layout is built: the workspace (the
     page's address reaches the layout request as its Referer, same origin), the header's
-    label and the first screen computed for it (the screen's ``opening(rb, ws)``: initial
-    props by component id), so a first load shows its figures without a round of
-    callbacks. ``(None, waiting label, {})`` when the address is not known or anything
-    fails: the shell's ``_workspace`` callback then decides, as it always checks."""
+    label and the screen the address's #fragment names (told by the ``rb_opening`` cookie,
+    :func:`opened_address`) computed for its choices when the screen has an
+    ``opening(rb, ws, asked)`` hook (initial props by component id, plus ``OPENED``), so a
+    first load shows its figures without a round of callbacks. ``(None, waiting label,
+    {})`` when the address is not known or anything fails: the shell's ``_workspace``
+    callback then decides, as it always checks."""
     import flask
 
     waiting = "Opening workspace…"
@@ -158,8 +161,9 @@ def shell_layout(screens: tuple[ScreenInfo, ...], ref: WorkspaceRef | None = Non
     """The page: header, navigation, one section per screen (all but the first hidden
     until the address says otherwise) and the stores the shell keeps: the workspace, the
     screen shown and, per screen, the workspace gate its callbacks compute for. With
-    :func:`opening`'s answer the page comes with its workspace and its first screen
-    computed (that screen's gate set, its section kept out of :func:`lazy_sections`)."""
+    :func:`opening`'s answer the page comes with its workspace and the screen it names
+    shown and computed (that screen's gate set, its section kept out of
+    :func:`lazy_sections`)."""
     first_props = dict(first_props or {})
     opened = first_props.pop(OPENED, None)
     first = opened["key"] if opened else (screens[0].key if screens else "")
