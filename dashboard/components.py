@@ -2,10 +2,11 @@
 
 Nothing here touches the store or the engine, so every builder is unit-tested by looking
 at the component tree it returns. User text is passed as component children (text
-nodes, escaped by React), with one exception: :func:`table` writes its rows as one HTML
-string (every text through :func:`html_text`) rendered by a single ``dcc.Markdown``,
-because the Dash renderer's cost grows with the number of components a callback creates
-(see DEVELOPERS.md, "Version quirks").
+nodes, escaped by React), except in tables (:func:`table`) and in notes made of plain
+elements (:func:`flattened`: problem lists, method notes, band notes, cautions), which are
+written as one HTML string, every text through :func:`html_text`, and rendered by a single
+``dcc.Markdown`` (:func:`html_block`), because the Dash renderer's cost grows with the
+number of components a callback creates (DEVELOPERS.md, "Version quirks").
 """
 
 from __future__ import annotations

@@ -7,9 +7,9 @@
  * gateScreens      copies the workspace into the shown screen's gate store (rb-ref-<key>)
  *                  when that store is behind; hidden screens' gates stay as they are, so
  *                  their callbacks run only once they are opened. A screen the page came
- *                  with computed (its gate says "opening") is opened again, with
- *                  {address: true}, only when the address it was opened with holds
- *                  choices for it.
+ *                  with computed (its gate says "opening", with the choices the server
+ *                  used) is opened again, with {address: true}, only when the address it
+ *                  was opened with holds other choices for it.
  * rememberChoices  keeps the shown screen's choices in the address (#key?name=value&...),
  *                  replacing the history entry (no new one per choice); the screens read
  *                  them back on load (screens/_shared/view.address_choices).

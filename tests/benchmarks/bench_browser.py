@@ -392,7 +392,7 @@ def measure_editor(page: Any, url: str, tmp: Path, figures: dict[str, float]) ->
     figures["workbook_s"] = time.monotonic() - t
 
     # --- chart image, twice (the second finds Chromium open in the worker that made the
-    # first, or warmed when Share was drawn)
+    # first; each worker opens its own at start: REALBASIS_CHART_IMAGES_READY)
     for key in ("png_s", "png_again_s"):
         t = time.monotonic()
         with page.expect_download(timeout=180_000) as dl:
